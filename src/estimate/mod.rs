@@ -1,0 +1,33 @@
+//! The estimators: pure functions from sizes and values to plain result structs.
+//!
+//! Nothing here reads files or prints. Inputs are always ordered finest mesh first.
+
+pub mod three_grid;
+
+use serde::Serialize;
+
+/// Convergence class of a quantity over a set of meshes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Convergence {
+    /// Differences shrink with refinement and keep their sign.
+    Monotonic,
+    /// Differences shrink but alternate in sign.
+    Oscillatory,
+    /// Differences grow with refinement (monotonic or oscillatory divergence).
+    Divergent,
+    /// The values do not change between meshes.
+    NoChange,
+}
+
+impl Convergence {
+    /// The snake_case label used in every output.
+    pub fn label(self) -> &'static str {
+        match self {
+            Convergence::Monotonic => "monotonic",
+            Convergence::Oscillatory => "oscillatory",
+            Convergence::Divergent => "divergent",
+            Convergence::NoChange => "no_change",
+        }
+    }
+}

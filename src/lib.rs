@@ -1,0 +1,14 @@
+//! # meshbound
+//!
+//! Numerical-uncertainty statements from mesh-refinement studies.
+//!
+//! The library is layered: [`grid`] turns cell counts into representative sizes,
+//! [`estimate`] holds the pure estimators (three-mesh Richardson/GCI and the
+//! least-squares procedure), [`study`] reads and checks a study file, [`assess`]
+//! runs the estimators over a checked study and returns one [`assess::Assessment`],
+//! and [`report`] formats that assessment (no exporter computes).
+#![warn(missing_docs)]
+#![deny(clippy::float_cmp)]
+
+pub mod estimate;
+pub mod warning;

@@ -1,0 +1,22 @@
+//! Warnings with stable codes, shared by every layer.
+
+use serde::Serialize;
+
+/// One warning: a stable snake_case `code` for programs and a sentence for people.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Warning {
+    /// Stable snake_case identifier (part of the JSON contract).
+    pub code: String,
+    /// A sentence for people.
+    pub message: String,
+}
+
+impl Warning {
+    /// Builds a warning from a code and a message.
+    pub fn new(code: &str, message: impl Into<String>) -> Self {
+        Warning {
+            code: code.to_string(),
+            message: message.into(),
+        }
+    }
+}
