@@ -31,3 +31,15 @@ impl Convergence {
         }
     }
 }
+
+/// Why an estimator could not produce a result.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum EstimateError {
+    /// The inputs break a precondition (lengths, finiteness, ordering, counts).
+    #[error("{0}")]
+    InvalidInput(String),
+    /// No observed order exists in the searched range.
+    #[error("no observed order: {0}")]
+    NoOrder(String),
+}

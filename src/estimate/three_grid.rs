@@ -1,0 +1,1 @@
+//! Three-mesh estimate (Celik et al. 2008).
