@@ -10,5 +10,11 @@
 #![warn(missing_docs)]
 #![deny(clippy::float_cmp)]
 
+pub mod assess;
+pub mod cli;
 pub mod estimate;
+pub mod grid;
+pub mod output;
+pub mod report;
+pub mod study;
 pub mod warning;

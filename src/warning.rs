@@ -9,6 +9,9 @@ pub struct Warning {
     pub code: String,
     /// A sentence for people.
     pub message: String,
+    /// What the warning is about (a quantity, sweep or field name), when it concerns one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub subject: Option<String>,
 }
 
 impl Warning {
@@ -17,6 +20,16 @@ impl Warning {
         Warning {
             code: code.to_string(),
             message: message.into(),
+            subject: None,
         }
+    }
+
+    /// The same warning, attached to a subject (a quantity, sweep or field name).
+    pub fn about(mut self, subject: &str) -> Self {
+        if self.subject.is_none() {
+            self.message = format!("{subject}: {}", self.message);
+            self.subject = Some(subject.to_string());
+        }
+        self
     }
 }

@@ -1,0 +1,229 @@
+//! From a checked [`Study`] to one [`Assessment`]: the orchestration of the estimators.
+//!
+//! The serde form of [`Assessment`] *is* the JSON result contract (docs/study-file.md and the
+//! design notes): field names here are fixed.
+
+use crate::estimate::three_grid::{self, Governing, ThreeGrid, ThreeGridSettings};
+use crate::estimate::Convergence;
+use crate::grid::Mesh;
+use crate::study::raw::EstimatorChoice;
+use crate::study::{Quantity, Study};
+use crate::warning::Warning;
+use serde::Serialize;
+
+/// The caution carried by every report.
+pub const CAUTION: &str =
+    "Numerical (discretisation) uncertainty is not model-test acceptance and \
+says nothing about modelling error. Cavitation erosion and vibration can destroy runners and \
+impellers, and a machine sized on an optimistic number can fail: defer to the applicable test \
+codes, local regulations and licensed engineering judgment.";
+
+/// The result of assessing one study.
+#[derive(Debug, Clone, Serialize)]
+pub struct Assessment {
+    /// Result format number.
+    pub format: u32,
+    /// Study title.
+    pub title: String,
+    /// The study file.
+    pub study: String,
+    /// Meshes finest first.
+    pub meshes: Vec<Mesh>,
+    /// Scalar quantities.
+    pub quantities: Vec<QuantityResult>,
+    /// Sweeps (curves per mesh).
+    pub sweeps: Vec<serde_json::Value>,
+    /// Warnings, each with a stable code.
+    pub warnings: Vec<Warning>,
+    /// The caution every report carries.
+    pub caution: String,
+}
+
+/// The three-mesh estimate with the names of the meshes it used.
+#[derive(Debug, Clone, Serialize)]
+pub struct ThreeGridResult {
+    /// Names of the three meshes, finest first.
+    pub meshes: Vec<String>,
+    /// The estimate.
+    #[serde(flatten)]
+    pub estimate: ThreeGrid,
+}
+
+/// Which estimate governed a quantity's uncertainty.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Method {
+    /// The three-mesh GCI.
+    ThreeGrid,
+    /// Half the range of an oscillation.
+    OscillationRange,
+    /// The least-squares procedure.
+    LeastSquares,
+}
+
+/// The uncertainty statement of a quantity: value ± absolute.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Uncertainty {
+    /// The estimate that governed.
+    pub method: Method,
+    /// The finest mesh's value.
+    pub value: f64,
+    /// Absolute uncertainty U.
+    pub absolute: f64,
+    /// U / |value| (`None` when the value is zero).
+    pub relative: Option<f64>,
+    /// value − U.
+    pub lower: f64,
+    /// value + U.
+    pub upper: f64,
+}
+
+impl Uncertainty {
+    /// Builds the statement from a value and an absolute uncertainty.
+    pub fn new(method: Method, value: f64, absolute: f64) -> Self {
+        Uncertainty {
+            method,
+            value,
+            absolute,
+            relative: if value != 0.0 {
+                Some(absolute / value.abs())
+            } else {
+                None
+            },
+            lower: value - absolute,
+            upper: value + absolute,
+        }
+    }
+}
+
+/// One quantity's results.
+#[derive(Debug, Clone, Serialize)]
+pub struct QuantityResult {
+    /// Name.
+    pub name: String,
+    /// Unit.
+    pub unit: Option<String>,
+    /// Values finest first.
+    pub values: Vec<f64>,
+    /// Convergence class that the governing estimate found.
+    pub convergence: Option<Convergence>,
+    /// Three-mesh estimate on the three finest meshes.
+    pub three_grid: Option<ThreeGridResult>,
+    /// Least-squares estimate (four or more meshes).
+    pub least_squares: Option<serde_json::Value>,
+    /// The uncertainty statement (`None` when divergent).
+    pub uncertainty: Option<Uncertainty>,
+}
+
+/// Estimates one quantity over the meshes (finest first).
+pub fn quantity(
+    name: &str,
+    unit: Option<&str>,
+    meshes: &[Mesh],
+    values: &[f64],
+    settings: &ThreeGridSettings,
+    _estimator: EstimatorChoice,
+    warnings: &mut Vec<Warning>,
+) -> QuantityResult {
+    let mut out = QuantityResult {
+        name: name.to_string(),
+        unit: unit.map(str::to_string),
+        values: values.to_vec(),
+        convergence: None,
+        three_grid: None,
+        least_squares: None,
+        uncertainty: None,
+    };
+    if meshes.len() < 3 || values.len() < 3 {
+        warnings.push(
+            Warning::new("too_few_meshes", "fewer than three meshes: no estimate").about(name),
+        );
+        return out;
+    }
+    let h = [meshes[0].size, meshes[1].size, meshes[2].size];
+    let phi = [values[0], values[1], values[2]];
+    match three_grid::estimate(h, phi, settings) {
+        Ok(mut tg) => {
+            warnings.extend(tg.warnings.drain(..).map(|w| w.about(name)));
+            out.convergence = Some(tg.convergence);
+            out.uncertainty = tg.uncertainty.map(|u| {
+                let method = if tg.governing == Some(Governing::OscillationRange) {
+                    Method::OscillationRange
+                } else {
+                    Method::ThreeGrid
+                };
+                Uncertainty::new(method, values[0], u)
+            });
+            out.three_grid = Some(ThreeGridResult {
+                meshes: meshes[..3].iter().map(|m| m.name.clone()).collect(),
+                estimate: tg,
+            });
+        }
+        Err(e) => warnings.push(Warning::new("estimate_failed", e.to_string()).about(name)),
+    }
+    out
+}
+
+/// Warnings about the mesh family itself.
+pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
+    let mut w = Vec::new();
+    for m in meshes {
+        if let Some(r) = m.ratio {
+            if r < 1.3 {
+                w.push(Warning::new(
+                    "ratio_below_1_3",
+                    format!(
+                        "mesh `{}`: refinement ratio {r:.3} to the next finer mesh is below 1.3 (Celik et al. 2008 recommend more than 1.3)",
+                        m.name
+                    ),
+                ));
+            }
+        }
+    }
+    if meshes.len() >= 3 {
+        if let (Some(r21), Some(r32)) = (meshes[1].ratio, meshes[2].ratio) {
+            if (r21 - r32).abs() > 0.1 * r21.min(r32) {
+                w.push(Warning::new(
+                    "ratios_differ",
+                    format!("refinement ratios r21 = {r21:.3} and r32 = {r32:.3} differ by more than 10 %"),
+                ));
+            }
+        }
+    }
+    w
+}
+
+/// Assesses a whole study.
+pub fn run(study: &Study) -> Assessment {
+    let mut warnings = mesh_warnings(&study.meshes);
+    let settings = ThreeGridSettings {
+        safety_factor: study.settings.safety_factor,
+        order_max: study.settings.order_max,
+        formal_order: study.formal_order,
+    };
+    let quantities = study
+        .quantities
+        .iter()
+        .map(|q: &Quantity| {
+            quantity(
+                &q.name,
+                q.unit.as_deref(),
+                &study.meshes,
+                &q.values,
+                &settings,
+                study.settings.estimator,
+                &mut warnings,
+            )
+        })
+        .collect();
+    Assessment {
+        format: 1,
+        title: study.title.clone(),
+        study: study.path.display().to_string(),
+        meshes: study.meshes.clone(),
+        quantities,
+        sweeps: Vec::new(),
+        warnings,
+        caution: CAUTION.to_string(),
+    }
+}

@@ -1,0 +1,62 @@
+//! The command line: clap definitions, one small module per subcommand, exit statuses.
+//!
+//! Exit statuses: 0 done; 1 an acceptance limit was not met; 2 the input or the command line is
+//! wrong (nothing is written); 3 an output could not be written.
+
+pub mod assess;
+
+use clap::{Parser, Subcommand};
+
+/// How a command failed, and so which exit status it gives.
+#[derive(Debug)]
+pub enum Failure {
+    /// A limit was not met (exit 1); the report is already printed.
+    Limits,
+    /// Bad input or command line (exit 2).
+    Input(String),
+    /// An output could not be written (exit 3).
+    Output(String),
+}
+
+impl Failure {
+    /// The exit status.
+    pub fn status(&self) -> i32 {
+        match self {
+            Failure::Limits => 1,
+            Failure::Input(_) => 2,
+            Failure::Output(_) => 3,
+        }
+    }
+}
+
+/// meshbound: numerical-uncertainty statements from mesh-refinement studies.
+#[derive(Debug, Parser)]
+#[command(name = "meshbound", version, about, long_about = None)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Estimate the discretisation uncertainty of every quantity of a study.
+    Assess(assess::Args),
+}
+
+/// Runs the parsed command line.
+pub fn run(cli: Cli) -> Result<(), Failure> {
+    match cli.command {
+        Command::Assess(a) => assess::run(a),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    #[test]
+    fn clap_definition_is_consistent() {
+        use clap::CommandFactory;
+        super::Cli::command().debug_assert();
+    }
+}

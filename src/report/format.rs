@@ -1,0 +1,78 @@
+//! Display precision in one place: numbers in every human-facing format go through here.
+
+/// A number with `sig` significant digits, plain notation for ordinary magnitudes and
+/// scientific notation otherwise. Non-finite numbers are spelled out, never printed as NaN.
+pub fn sig(v: f64, sig: usize) -> String {
+    if v.is_nan() {
+        return "not a number".into();
+    }
+    if v.is_infinite() {
+        return if v > 0.0 {
+            "infinite".into()
+        } else {
+            "minus infinite".into()
+        };
+    }
+    if v == 0.0 {
+        return "0".into();
+    }
+    let mag = v.abs().log10().floor() as i32;
+    if !(-4..=6).contains(&mag) {
+        return format!("{:.*e}", sig.saturating_sub(1), v);
+    }
+    let decimals = (sig as i32 - 1 - mag).max(0) as usize;
+    format!("{v:.decimals$}")
+}
+
+/// A number as the user wrote it when that is short (up to `max_sig` significant digits),
+/// otherwise rounded to `max_sig` significant digits.
+pub fn num(v: f64, max_sig: usize) -> String {
+    if !v.is_finite() {
+        return sig(v, max_sig);
+    }
+    let plain = format!("{v}");
+    let digits = plain
+        .chars()
+        .filter(|c| c.is_ascii_digit())
+        .collect::<String>();
+    let significant = digits.trim_start_matches('0').trim_end_matches('0').len();
+    if significant <= max_sig && plain.len() <= 12 {
+        plain
+    } else {
+        sig(v, max_sig)
+    }
+}
+
+/// A fraction as a percentage with three significant digits: 0.00412 → "0.412 %".
+pub fn percent(v: f64) -> String {
+    format!("{} %", sig(v * 100.0, 3))
+}
+
+/// An optional number, with a dash where it does not exist.
+pub fn opt(v: Option<f64>, digits: usize) -> String {
+    v.map_or_else(|| "–".to_string(), |x| sig(x, digits))
+}
+
+/// An optional fraction as a percentage, with a dash where it does not exist.
+pub fn opt_percent(v: Option<f64>) -> String {
+    v.map_or_else(|| "–".to_string(), percent)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn formats() {
+        assert_eq!(sig(0.909312, 4), "0.9093");
+        assert_eq!(sig(6.16850, 5), "6.1685");
+        assert_eq!(sig(1234.5, 3), "1234");
+        assert_eq!(sig(1.5e-7, 3), "1.50e-7");
+        assert_eq!(sig(f64::NAN, 3), "not a number");
+        assert_eq!(percent(0.004123), "0.412 %");
+        assert_eq!(opt(None, 3), "–");
+        assert_eq!(num(18000.0, 6), "18000");
+        assert_eq!(num(6.063, 7), "6.063");
+        assert_eq!(num(6.168495572330159, 7), "6.168496");
+    }
+}

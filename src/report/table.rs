@@ -1,0 +1,135 @@
+//! Tables for people, built with comfy-table. Only formats the assessment.
+
+use super::format::{num, opt, opt_percent, percent, sig};
+use super::Exporter;
+use crate::assess::{Assessment, Method, QuantityResult};
+use comfy_table::{presets, CellAlignment, ContentArrangement, Table as Grid, TableComponent};
+
+/// Human-readable tables.
+pub struct Table;
+
+fn grid(headers: &[&str]) -> Grid {
+    let mut t = Grid::new();
+    t.load_preset(presets::NOTHING)
+        .set_style(TableComponent::HeaderLines, '─')
+        .set_style(TableComponent::MiddleHeaderIntersections, '─')
+        .set_style(TableComponent::LeftHeaderIntersection, ' ')
+        .set_style(TableComponent::RightHeaderIntersection, ' ')
+        .set_content_arrangement(ContentArrangement::Disabled)
+        .set_header(headers.to_vec());
+    for i in 1..headers.len() {
+        if let Some(c) = t.column_mut(i) {
+            c.set_cell_alignment(CellAlignment::Right);
+        }
+    }
+    t
+}
+
+/// The one-line statement `value ± U (x.xx %)` with its class, or why there is none.
+pub fn statement(q: &QuantityResult) -> String {
+    let class = q.convergence.map_or("no estimate", |c| c.label());
+    match &q.uncertainty {
+        Some(u) => {
+            let how = match u.method {
+                Method::ThreeGrid => "three-mesh GCI",
+                Method::OscillationRange => "half range of the oscillation",
+                Method::LeastSquares => "least-squares fit",
+            };
+            let rel = u
+                .relative
+                .map_or_else(|| "value is zero".to_string(), percent);
+            format!(
+                "{} ± {} ({rel}) · {class} · from the {how}",
+                num(u.value, 8),
+                sig(u.absolute, 3)
+            )
+        }
+        None => format!(
+            "{} · {class} · no discretisation uncertainty can be claimed",
+            q.values.first().map_or("–".into(), |v| num(*v, 8))
+        ),
+    }
+}
+
+fn quantity_block(a: &Assessment, q: &QuantityResult, out: &mut String) {
+    let unit = q
+        .unit
+        .as_deref()
+        .map_or(String::new(), |u| format!(" [{u}]"));
+    out.push_str(&format!("\n{}{unit}\n  {}\n", q.name, statement(q)));
+    let mut t = grid(&["mesh", "value", "change to finer"]);
+    for (i, (m, v)) in a.meshes.iter().zip(&q.values).enumerate() {
+        let change = if i == 0 {
+            "–".to_string()
+        } else {
+            sig(v - q.values[i - 1], 4)
+        };
+        t.add_row(vec![m.name.clone(), num(*v, 8), change]);
+    }
+    out.push_str(&format!("{t}\n"));
+    if let Some(tg) = &q.three_grid {
+        let e = &tg.estimate;
+        let mut t = grid(&[
+            &format!("three-mesh figures ({})", tg.meshes.join(", ")),
+            "",
+        ]);
+        let rows: Vec<(&str, String)> = vec![
+            ("convergence ratio R = ε21/ε32", opt(e.convergence_ratio, 4)),
+            ("observed order p", opt(e.observed_order, 4)),
+            ("extrapolated value φ_ext21", opt(e.extrapolated, 7)),
+            ("relative change e_a21", opt_percent(e.approx_rel_error)),
+            (
+                "extrapolated error e_ext21",
+                opt_percent(e.extrap_rel_error),
+            ),
+            ("GCI fine (21)", opt_percent(e.gci_fine)),
+            ("GCI coarse (32)", opt_percent(e.gci_coarse)),
+            (
+                "asymptotic ratio (≈ 1 expected)",
+                opt(e.asymptotic_ratio, 4),
+            ),
+            (
+                "half range of the three values",
+                sig(e.oscillation_half_range, 4),
+            ),
+            ("safety factor", sig(e.safety_factor, 3)),
+        ];
+        for (k, v) in rows {
+            t.add_row(vec![k.to_string(), v]);
+        }
+        out.push_str(&format!("{t}\n"));
+    }
+}
+
+impl Exporter for Table {
+    fn export(&self, a: &Assessment) -> Vec<u8> {
+        let mut out = String::new();
+        out.push_str(&format!(
+            "{}\n{}\n",
+            a.title,
+            "═".repeat(a.title.chars().count().max(8))
+        ));
+        out.push_str(&format!("study file: {}\n\n", a.study));
+        let mut t = grid(&["mesh", "cells", "h", "ratio to finer"]);
+        for m in &a.meshes {
+            t.add_row(vec![
+                m.name.clone(),
+                m.cells.map_or("–".into(), |c| num(c, 8)),
+                num(m.size, 5),
+                opt(m.ratio, 4),
+            ]);
+        }
+        out.push_str(&format!("meshes, finest first\n{t}\n"));
+        for q in &a.quantities {
+            quantity_block(a, q, &mut out);
+        }
+        if !a.warnings.is_empty() {
+            out.push_str("\nwarnings\n");
+            for w in &a.warnings {
+                out.push_str(&format!("  ! [{}] {}\n", w.code, w.message));
+            }
+        }
+        out.push_str(&format!("\ncaution: {}\n", a.caution));
+        out.into_bytes()
+    }
+}

@@ -1,0 +1,412 @@
+//! Reading and checking a study file.
+//!
+//! [`load`] reads the YAML once into the raw serde types of [`raw`], checks everything, and
+//! returns a [`Study`]: meshes sorted finest first with sizes and ratios, quantities with their
+//! values in the same order, and the settings with their defaults filled in. Every error is a
+//! [`StudyError`] naming the file, the key path and, where known, the line and column.
+
+pub mod num;
+pub mod raw;
+
+use crate::grid::{self, GridError, Mesh, MeshSpec, SizeBasis};
+use raw::{EstimatorChoice, RawStudy};
+use std::collections::HashSet;
+use std::fmt;
+use std::path::{Path, PathBuf};
+
+/// Largest study file read, in bytes (a study is a few kilobytes; this refuses accidents).
+pub const MAX_STUDY_BYTES: u64 = 16 * 1024 * 1024;
+
+/// A problem with a study file: where it is and what was expected.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct StudyError {
+    /// The study file.
+    pub file: PathBuf,
+    /// Key path such as `meshes[2].cells` (empty for the whole file).
+    pub key: String,
+    /// 1-based line, when known.
+    pub line: Option<usize>,
+    /// 1-based column, when known.
+    pub column: Option<usize>,
+    /// What is wrong and what was expected.
+    pub message: String,
+}
+
+impl fmt::Display for StudyError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.file.display())?;
+        match (self.line, self.column) {
+            (Some(l), Some(c)) => write!(f, ":{l}:{c}")?,
+            (Some(l), None) => write!(f, ":{l}")?,
+            _ => {}
+        }
+        if self.key.is_empty() {
+            write!(f, ": {}", self.message)
+        } else {
+            write!(f, ": {}: {}", self.key, self.message)
+        }
+    }
+}
+
+impl std::error::Error for StudyError {}
+
+/// One scalar quantity, values finest first.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Quantity {
+    /// Name (the key in `quantities`).
+    pub name: String,
+    /// Free-text unit.
+    pub unit: Option<String>,
+    /// One value per mesh, in the order of [`Study::meshes`].
+    pub values: Vec<f64>,
+}
+
+/// Estimator settings with defaults filled in.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Settings {
+    /// Safety factor for the three-mesh GCI.
+    pub safety_factor: f64,
+    /// Upper end of the observed-order search.
+    pub order_max: f64,
+    /// Which estimator governs.
+    pub estimator: EstimatorChoice,
+}
+
+/// A checked study.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Study {
+    /// The file it came from.
+    pub path: PathBuf,
+    /// Title.
+    pub title: String,
+    /// Spatial dimension.
+    pub dimension: u32,
+    /// Formal order of the discretisation.
+    pub formal_order: f64,
+    /// Meshes, finest first, with sizes and ratios.
+    pub meshes: Vec<Mesh>,
+    /// Whether sizes are absolute or relative to the finest mesh.
+    pub size_basis: SizeBasis,
+    /// Scalar quantities.
+    pub quantities: Vec<Quantity>,
+    /// Settings.
+    pub settings: Settings,
+}
+
+/// Reads and checks a study file.
+pub fn load(path: &Path) -> Result<Study, StudyError> {
+    let whole = |message: String| StudyError {
+        file: path.to_path_buf(),
+        key: String::new(),
+        line: None,
+        column: None,
+        message,
+    };
+    let meta =
+        std::fs::metadata(path).map_err(|e| whole(format!("cannot read the study file: {e}")))?;
+    if meta.is_dir() {
+        return Err(whole("is a directory, not a study file".into()));
+    }
+    if meta.len() > MAX_STUDY_BYTES {
+        return Err(whole(format!(
+            "the file has {} bytes; study files larger than {} bytes are refused (put large data in CSV files beside it)",
+            meta.len(),
+            MAX_STUDY_BYTES
+        )));
+    }
+    let bytes =
+        std::fs::read(path).map_err(|e| whole(format!("cannot read the study file: {e}")))?;
+    let text = String::from_utf8(bytes).map_err(|e| {
+        whole(format!(
+            "the file is not UTF-8 text (invalid byte at offset {})",
+            e.utf8_error().valid_up_to()
+        ))
+    })?;
+    parse(&text, path)
+}
+
+/// Splits a serde_yaml message into key path and the rest.
+fn split_yaml_message(msg: &str) -> (String, String) {
+    // serde_yaml writes "path.to.key: message at line L column C".
+    let msg = match msg.rfind(" at line ") {
+        Some(i) => &msg[..i],
+        None => msg,
+    };
+    if let Some((head, rest)) = msg.split_once(": ") {
+        let looks_like_path = !head.is_empty()
+            && !head.contains(' ')
+            && head
+                .chars()
+                .all(|c| c.is_alphanumeric() || "_.[]-".contains(c));
+        if looks_like_path {
+            return (head.to_string(), rest.to_string());
+        }
+    }
+    (String::new(), msg.to_string())
+}
+
+/// Deserializes YAML text into `T`, turning any failure into a [`StudyError`] with the exact
+/// key path (serde_path_to_error) and the best line and column available: serde_yaml points
+/// at the enclosing mapping for values refused after reading, so the key is looked up from
+/// there.
+pub fn read_yaml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Result<T, StudyError> {
+    let de = serde_yaml::Deserializer::from_str(text);
+    serde_path_to_error::deserialize::<_, T>(de).map_err(|e| {
+        let key = e.path().to_string();
+        let key = if key == "." { String::new() } else { key };
+        let inner = e.into_inner();
+        let (_, message) = split_yaml_message(&inner.to_string());
+        let mut line = inner.location().map(|l| l.line());
+        let mut column = inner.location().map(|l| l.column());
+        if let Some(last) = key
+            .rsplit('.')
+            .next()
+            .filter(|s| !s.is_empty() && !s.ends_with(']'))
+        {
+            let from = line.unwrap_or(1);
+            let needle = format!("{last}:");
+            if let Some((li, col)) = text
+                .lines()
+                .enumerate()
+                .skip(from.saturating_sub(1))
+                .find_map(|(i, l)| {
+                    l.find(&needle)
+                        .filter(|&c| {
+                            c == 0
+                                || !l.as_bytes()[c - 1].is_ascii_alphanumeric()
+                                    && l.as_bytes()[c - 1] != b'_'
+                        })
+                        .map(|c| (i + 1, c + 1))
+                })
+            {
+                line = Some(li);
+                column = Some(col);
+            }
+        }
+        StudyError {
+            file: path.to_path_buf(),
+            key,
+            line,
+            column,
+            message,
+        }
+    })
+}
+
+/// Finds the 1-based line of the first line matching `pred` at or after line `from`.
+fn find_line(text: &str, from: usize, pred: impl Fn(&str) -> bool) -> Option<usize> {
+    text.lines()
+        .enumerate()
+        .skip(from.saturating_sub(1))
+        .find(|(_, l)| pred(l))
+        .map(|(i, _)| i + 1)
+}
+
+/// Parses and checks the text of a study file; `path` is used in messages and to resolve
+/// files the study names.
+pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
+    let err = |key: String, line: Option<usize>, message: String| StudyError {
+        file: path.to_path_buf(),
+        key,
+        line,
+        column: None,
+        message,
+    };
+    let raw: RawStudy = read_yaml(text, path)?;
+    let meshes_line = find_line(text, 1, |l| l.trim_start().starts_with("meshes:"));
+    let mesh_line = |name: &str| {
+        find_line(text, meshes_line.unwrap_or(1), |l| {
+            let t = l
+                .trim_start()
+                .trim_start_matches("- ")
+                .trim_start_matches('{')
+                .trim_start();
+            t.starts_with("name:")
+                && t["name:".len()..]
+                    .trim()
+                    .trim_matches(|c| c == '"' || c == '\'' || c == ',' || c == '}')
+                    .starts_with(name)
+        })
+    };
+
+    // Meshes: names, then sizes.
+    let mut seen = HashSet::new();
+    for (i, m) in raw.meshes.iter().enumerate() {
+        if m.name.trim().is_empty() {
+            return Err(err(
+                format!("meshes[{i}].name"),
+                mesh_line(""),
+                "the mesh name is empty: give every mesh a unique, non-empty name".into(),
+            ));
+        }
+        if !seen.insert(m.name.as_str()) {
+            return Err(err(
+                format!("meshes[{i}].name"),
+                mesh_line(&m.name),
+                format!(
+                    "the mesh name `{}` is used twice: mesh names must be unique",
+                    m.name
+                ),
+            ));
+        }
+        if m.cells.is_none() && m.size.is_none() {
+            return Err(err(
+                format!("meshes[{i}]"),
+                mesh_line(&m.name),
+                format!("mesh `{}` gives neither `cells` nor `size`: one is needed for its representative size", m.name),
+            ));
+        }
+        if m.extent.is_some() && m.cells.is_none() {
+            return Err(err(
+                format!("meshes[{i}].extent"),
+                mesh_line(&m.name),
+                format!("mesh `{}` gives `extent` without `cells`: h = (extent/cells)^(1/dimension) needs both", m.name),
+            ));
+        }
+    }
+    if raw.meshes.len() < 3 {
+        return Err(err(
+            "meshes".into(),
+            meshes_line,
+            format!(
+                "the study has {} mesh{}; at least three are needed for an observed order",
+                raw.meshes.len(),
+                if raw.meshes.len() == 1 { "" } else { "es" }
+            ),
+        ));
+    }
+    let dimension = raw.dimension.map_or(3, |d| d.0);
+    let specs: Vec<MeshSpec> = raw
+        .meshes
+        .iter()
+        .map(|m| MeshSpec {
+            name: m.name.clone(),
+            cells: m.cells.map(|c| c.0),
+            size: m.size.map(|c| c.0),
+            extent: m.extent.map(|c| c.0),
+        })
+        .collect();
+    let (meshes, order, size_basis) = grid::sizes(&specs, dimension).map_err(|e| {
+        let line = match &e {
+            GridError::SameSize(_, b, _) => mesh_line(b),
+            GridError::NoSize(n) | GridError::BadSize(n) => mesh_line(n),
+            _ => meshes_line,
+        };
+        err("meshes".into(), line, e.to_string())
+    })?;
+
+    // Quantities: one finite value per mesh, no unknown mesh names.
+    let quantities_line = find_line(text, 1, |l| l.trim_start().starts_with("quantities:"));
+    let mut quantities = Vec::new();
+    for (qname, q) in &raw.quantities {
+        let qline = find_line(text, quantities_line.unwrap_or(1), |l| {
+            l.trim_start().starts_with(&format!("{qname}:"))
+        });
+        for name in q.values.keys() {
+            if !seen.contains(name.as_str()) {
+                let known: Vec<&str> = raw.meshes.iter().map(|m| m.name.as_str()).collect();
+                return Err(err(
+                    format!("quantities.{qname}.values.{name}"),
+                    qline,
+                    format!(
+                        "names the mesh `{name}`, which is not in `meshes` (known: {})",
+                        known.join(", ")
+                    ),
+                ));
+            }
+        }
+        let mut values = Vec::with_capacity(meshes.len());
+        for m in &meshes {
+            match q.values.get(&m.name) {
+                Some(v) => values.push(v.0),
+                None => {
+                    return Err(err(
+                        format!("quantities.{qname}.values"),
+                        qline,
+                        format!(
+                            "has no value for the mesh `{}`: give one value per mesh",
+                            m.name
+                        ),
+                    ))
+                }
+            }
+        }
+        quantities.push(Quantity {
+            name: qname.clone(),
+            unit: q.unit.clone(),
+            values,
+        });
+    }
+    let _ = order;
+    let title = raw.title.clone().unwrap_or_else(|| {
+        path.file_stem()
+            .map(|s| s.to_string_lossy().into_owned())
+            .unwrap_or_default()
+    });
+    Ok(Study {
+        path: path.to_path_buf(),
+        title,
+        dimension,
+        formal_order: raw.formal_order.map_or(2.0, |p| p.0),
+        meshes,
+        size_basis,
+        quantities,
+        settings: Settings {
+            safety_factor: raw.settings.safety_factor.map_or(1.25, |v| v.0),
+            order_max: raw.settings.order_max.map_or(20.0, |v| v.0),
+            estimator: raw.settings.estimator.unwrap_or_default(),
+        },
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn p(text: &str) -> Result<Study, StudyError> {
+        parse(text, Path::new("s.yaml"))
+    }
+
+    const GOOD: &str = "format: 1\ntitle: t\ndimension: 2\nmeshes:\n  - {name: c, cells: 4500}\n  - {name: a, cells: 18000}\n  - {name: b, cells: 8000}\nquantities:\n  q:\n    values: {a: 6.063, b: 5.972, c: 5.863}\n";
+
+    #[test]
+    fn reads_and_sorts() {
+        let s = p(GOOD).unwrap();
+        let names: Vec<_> = s.meshes.iter().map(|m| m.name.as_str()).collect();
+        assert_eq!(names, ["a", "b", "c"]);
+        assert_eq!(s.quantities[0].values, vec![6.063, 5.972, 5.863]);
+        assert_eq!(s.settings.estimator, EstimatorChoice::Auto);
+    }
+
+    #[test]
+    fn bad_cells_names_key_and_line() {
+        let t = GOOD.replace("cells: 8000", "cells: -8000");
+        let e = p(&t).unwrap_err();
+        assert_eq!(e.key, "meshes[2].cells");
+        assert_eq!(e.line, Some(7));
+        assert!(e.message.contains("finite number > 0"), "{e}");
+    }
+
+    #[test]
+    fn nan_value_refused() {
+        let t = GOOD.replace("b: 5.972", "b: .nan");
+        let e = p(&t).unwrap_err();
+        assert_eq!(e.key, "quantities.q.values.b");
+        assert!(e.message.contains("not a number"), "{e}");
+    }
+
+    #[test]
+    fn unknown_key_refused() {
+        let t = GOOD.replace("title: t", "titel: t");
+        let e = p(&t).unwrap_err();
+        assert!(e.message.contains("unknown field `titel`"), "{e}");
+        assert_eq!(e.line, Some(2));
+    }
+
+    #[test]
+    fn future_format_refused() {
+        let e = p(&GOOD.replace("format: 1", "format: 2")).unwrap_err();
+        assert_eq!(e.key, "format");
+        assert!(e.message.contains("newer"), "{e}");
+    }
+}

@@ -1,0 +1,132 @@
+//! The study file as written: serde types that mirror the YAML, with unknown keys refused.
+
+use super::num::{Finite, Positive};
+use indexmap::IndexMap;
+use serde::de::{self, Deserializer};
+use serde::Deserialize;
+
+/// The top level of a study file (format 1).
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawStudy {
+    /// Format number; only 1 exists.
+    pub format: FormatNumber,
+    /// Title of the study.
+    #[serde(default)]
+    pub title: Option<String>,
+    /// Spatial dimension, 1–3.
+    #[serde(default)]
+    pub dimension: Option<Dimension>,
+    /// Formal order of the discretisation.
+    #[serde(default)]
+    pub formal_order: Option<Positive>,
+    /// The meshes, any order.
+    pub meshes: Vec<RawMesh>,
+    /// Scalar quantities by name.
+    #[serde(default)]
+    pub quantities: IndexMap<String, RawQuantity>,
+    /// Settings of the estimators.
+    #[serde(default)]
+    pub settings: RawSettings,
+}
+
+/// The study format number.
+#[derive(Debug, Clone, Copy)]
+pub struct FormatNumber(pub u32);
+
+impl<'de> Deserialize<'de> for FormatNumber {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let v = i64::deserialize(d)
+            .map_err(|_| de::Error::custom("expected the format number 1 (an integer)"))?;
+        match v {
+            1 => Ok(FormatNumber(1)),
+            n if n > 1 => Err(de::Error::custom(format!(
+                "format {n} is newer than this meshbound understands (it reads format 1): update meshbound"
+            ))),
+            n => Err(de::Error::custom(format!("format {n} does not exist: write `format: 1`"))),
+        }
+    }
+}
+
+/// Spatial dimension.
+#[derive(Debug, Clone, Copy)]
+pub struct Dimension(pub u32);
+
+impl<'de> Deserialize<'de> for Dimension {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        let v = i64::deserialize(d)
+            .map_err(|_| de::Error::custom("expected the dimension 1, 2 or 3"))?;
+        if (1..=3).contains(&v) {
+            Ok(Dimension(v as u32))
+        } else {
+            Err(de::Error::custom(format!(
+                "expected the dimension 1, 2 or 3, found {v}"
+            )))
+        }
+    }
+}
+
+/// One mesh.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawMesh {
+    /// Unique, non-empty name.
+    pub name: String,
+    /// Cell count.
+    #[serde(default)]
+    pub cells: Option<Positive>,
+    /// Representative size h.
+    #[serde(default)]
+    pub size: Option<Positive>,
+    /// Domain volume (3-D) or area (2-D).
+    #[serde(default)]
+    pub extent: Option<Positive>,
+    /// Mean wall y+ (informative).
+    #[serde(default)]
+    pub y_plus: Option<Positive>,
+    /// Iterative uncertainty of this mesh's results, absolute (informative).
+    #[serde(default)]
+    pub iterative: Option<Finite>,
+}
+
+/// One scalar quantity.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawQuantity {
+    /// Free-text unit.
+    #[serde(default)]
+    pub unit: Option<String>,
+    /// One sentence saying what the quantity is.
+    #[serde(default)]
+    pub description: Option<String>,
+    /// One value per mesh name.
+    pub values: IndexMap<String, Finite>,
+}
+
+/// Which estimator decides a quantity's uncertainty.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum EstimatorChoice {
+    /// Least squares from four meshes on, three-mesh below.
+    #[default]
+    Auto,
+    /// Always the three-mesh estimate (three finest meshes).
+    ThreeGrid,
+    /// Always the least-squares estimate (needs four meshes).
+    LeastSquares,
+}
+
+/// Settings of the estimators.
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSettings {
+    /// Safety factor of the three-mesh GCI (default 1.25).
+    #[serde(default)]
+    pub safety_factor: Option<Positive>,
+    /// Upper end of the observed-order search (default 20).
+    #[serde(default)]
+    pub order_max: Option<Positive>,
+    /// Which estimator governs.
+    #[serde(default)]
+    pub estimator: Option<EstimatorChoice>,
+}
