@@ -214,20 +214,20 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
     };
     let raw: RawStudy = read_yaml(text, path)?;
     let meshes_line = find_line(text, 1, |l| l.trim_start().starts_with("meshes:"));
-    let mesh_line = |name: &str| {
-        find_line(text, meshes_line.unwrap_or(1), |l| {
-            let t = l
-                .trim_start()
-                .trim_start_matches("- ")
-                .trim_start_matches('{')
-                .trim_start();
-            t.starts_with("name:")
-                && t["name:".len()..]
-                    .trim()
-                    .trim_matches(|c| c == '"' || c == '\'' || c == ',' || c == '}')
-                    .starts_with(name)
-        })
+    // The line of the i-th mesh entry: the i-th `name:` key after `meshes:`.
+    let mesh_line = |index: usize| {
+        text.lines()
+            .enumerate()
+            .skip(meshes_line.unwrap_or(1))
+            .filter(|(_, l)| {
+                let t = l.trim_start().trim_start_matches('-').trim_start();
+                let t = t.trim_start_matches('{').trim_start();
+                t.starts_with("name:")
+            })
+            .nth(index)
+            .map(|(i, _)| i + 1)
     };
+    let index_of = |name: &str| raw.meshes.iter().position(|m| m.name == name).unwrap_or(0);
 
     // Meshes: names, then sizes.
     let mut seen = HashSet::new();
@@ -235,14 +235,14 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         if m.name.trim().is_empty() {
             return Err(err(
                 format!("meshes[{i}].name"),
-                mesh_line(""),
+                mesh_line(i),
                 "the mesh name is empty: give every mesh a unique, non-empty name".into(),
             ));
         }
         if !seen.insert(m.name.as_str()) {
             return Err(err(
                 format!("meshes[{i}].name"),
-                mesh_line(&m.name),
+                mesh_line(i),
                 format!(
                     "the mesh name `{}` is used twice: mesh names must be unique",
                     m.name
@@ -252,14 +252,14 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         if m.cells.is_none() && m.size.is_none() {
             return Err(err(
                 format!("meshes[{i}]"),
-                mesh_line(&m.name),
+                mesh_line(i),
                 format!("mesh `{}` gives neither `cells` nor `size`: one is needed for its representative size", m.name),
             ));
         }
         if m.extent.is_some() && m.cells.is_none() {
             return Err(err(
                 format!("meshes[{i}].extent"),
-                mesh_line(&m.name),
+                mesh_line(i),
                 format!("mesh `{}` gives `extent` without `cells`: h = (extent/cells)^(1/dimension) needs both", m.name),
             ));
         }
@@ -288,8 +288,8 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         .collect();
     let (meshes, order, size_basis) = grid::sizes(&specs, dimension).map_err(|e| {
         let line = match &e {
-            GridError::SameSize(_, b, _) => mesh_line(b),
-            GridError::NoSize(n) | GridError::BadSize(n) => mesh_line(n),
+            GridError::SameSize(_, b, _) => mesh_line(index_of(b)),
+            GridError::NoSize(n) | GridError::BadSize(n) => mesh_line(index_of(n)),
             _ => meshes_line,
         };
         err("meshes".into(), line, e.to_string())

@@ -36,8 +36,7 @@ pub struct FormatNumber(pub u32);
 
 impl<'de> Deserialize<'de> for FormatNumber {
     fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
-        let v = i64::deserialize(d)
-            .map_err(|_| de::Error::custom("expected the format number 1 (an integer)"))?;
+        let v = i64::deserialize(d)?;
         match v {
             1 => Ok(FormatNumber(1)),
             n if n > 1 => Err(de::Error::custom(format!(
@@ -54,8 +53,7 @@ pub struct Dimension(pub u32);
 
 impl<'de> Deserialize<'de> for Dimension {
     fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
-        let v = i64::deserialize(d)
-            .map_err(|_| de::Error::custom("expected the dimension 1, 2 or 3"))?;
+        let v = i64::deserialize(d)?;
         if (1..=3).contains(&v) {
             Ok(Dimension(v as u32))
         } else {

@@ -1,0 +1,248 @@
+//! End-to-end tests of `meshbound assess` through the real binary.
+
+mod common;
+
+use approx::assert_relative_eq;
+use common::*;
+
+#[test]
+fn celik_2008_table_1_through_the_binary() {
+    // Source: Celik et al. (2008), J. Fluids Eng. 130(7) 078001, Table 1, first column
+    // (values from memory of the table): p = 1.53, φ_ext21 = 6.1685, e_a21 = 1.5 %,
+    // e_ext21 = 1.7 %, GCI_fine21 = 2.2 %. Checked here to the printed digits.
+    let v = json(&[
+        "assess",
+        "studies/celik-2008-table1.yaml",
+        "--format",
+        "json",
+    ]);
+    let tg = &v["quantities"][0]["three_grid"];
+    let round = |x: f64, d: i32| (x * 10f64.powi(d)).round() / 10f64.powi(d);
+    assert_relative_eq!(
+        round(tg["observed_order"].as_f64().unwrap(), 2),
+        1.53,
+        epsilon = 1e-12
+    );
+    assert_relative_eq!(
+        round(tg["extrapolated"].as_f64().unwrap(), 4),
+        6.1685,
+        epsilon = 1e-12
+    );
+    assert_relative_eq!(
+        round(tg["approx_rel_error"].as_f64().unwrap() * 100.0, 1),
+        1.5,
+        epsilon = 1e-12
+    );
+    assert_relative_eq!(
+        round(tg["extrap_rel_error"].as_f64().unwrap() * 100.0, 1),
+        1.7,
+        epsilon = 1e-12
+    );
+    assert_relative_eq!(
+        round(tg["gci_fine"].as_f64().unwrap() * 100.0, 1),
+        2.2,
+        epsilon = 1e-12
+    );
+    assert_eq!(tg["convergence"], "monotonic");
+    assert_eq!(tg["meshes"], serde_json::json!(["N1", "N2", "N3"]));
+    let u = &v["quantities"][0]["uncertainty"];
+    assert_eq!(u["method"], "three_grid");
+    // Absolute U = GCI_fine · |φ1| (Celik et al. 2008; method notes §2).
+    assert_relative_eq!(
+        u["absolute"].as_f64().unwrap(),
+        tg["gci_fine"].as_f64().unwrap() * 6.063,
+        max_relative = 1e-12
+    );
+}
+
+#[test]
+fn every_example_study_runs_in_both_formats() {
+    let mut n = 0;
+    for entry in std::fs::read_dir(root().join("studies")).unwrap() {
+        let p = entry.unwrap().path();
+        if p.extension().and_then(|e| e.to_str()) != Some("yaml") {
+            continue;
+        }
+        n += 1;
+        let rel = format!("studies/{}", p.file_name().unwrap().to_string_lossy());
+        let o = run(&["assess", &rel]);
+        assert_eq!(o.status.code(), Some(0), "{rel}\n{}", show(&o));
+        let text = String::from_utf8_lossy(&o.stdout);
+        assert!(text.contains("caution:"), "{rel}: the caution is missing");
+        assert!(
+            !text.contains("NaN") && !text.contains("inf "),
+            "{rel}: {text}"
+        );
+        let v = json(&["assess", &rel, "--format", "json"]);
+        assert_eq!(v["format"], 1);
+    }
+    assert!(n >= 2, "expected at least two example studies, found {n}");
+}
+
+#[test]
+fn json_result_matches_the_golden_file() {
+    // The JSON result is a contract: pin it. Regenerate with MESHBOUND_BLESS=1.
+    let o = run(&[
+        "assess",
+        "studies/pump-turbine-pump-mode.yaml",
+        "--format",
+        "json",
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let golden = root().join("tests/golden/pump-turbine-pump-mode.json");
+    if std::env::var_os("MESHBOUND_BLESS").is_some() {
+        std::fs::write(&golden, &o.stdout).unwrap();
+    }
+    let want = std::fs::read_to_string(&golden).expect("golden file exists");
+    assert_eq!(String::from_utf8_lossy(&o.stdout), want);
+}
+
+#[test]
+fn contract_keys_are_present() {
+    let v = json(&[
+        "assess",
+        "studies/pump-turbine-pump-mode.yaml",
+        "--format",
+        "json",
+    ]);
+    for k in [
+        "format",
+        "title",
+        "meshes",
+        "quantities",
+        "sweeps",
+        "warnings",
+    ] {
+        assert!(v.get(k).is_some(), "missing top-level key {k}");
+    }
+    let m = &v["meshes"][1];
+    for k in ["name", "cells", "size", "ratio"] {
+        assert!(m.get(k).is_some(), "missing mesh key {k}");
+    }
+    assert!(v["meshes"][0]["ratio"].is_null());
+    assert_relative_eq!(
+        v["meshes"][0]["size"].as_f64().unwrap(),
+        1.0,
+        epsilon = 1e-15
+    );
+    assert_eq!(v["meshes"][0]["cells"], 3400000);
+    let q = &v["quantities"][0];
+    for k in [
+        "name",
+        "unit",
+        "values",
+        "three_grid",
+        "least_squares",
+        "uncertainty",
+    ] {
+        assert!(q.get(k).is_some(), "missing quantity key {k}");
+    }
+    for k in [
+        "meshes",
+        "convergence",
+        "convergence_ratio",
+        "observed_order",
+        "extrapolated",
+        "approx_rel_error",
+        "extrap_rel_error",
+        "gci_fine",
+        "gci_coarse",
+        "asymptotic_ratio",
+        "safety_factor",
+    ] {
+        assert!(
+            q["three_grid"].get(k).is_some(),
+            "missing three_grid key {k}"
+        );
+    }
+    for k in ["method", "value", "absolute", "relative", "lower", "upper"] {
+        assert!(
+            q["uncertainty"].get(k).is_some(),
+            "missing uncertainty key {k}"
+        );
+    }
+    for w in v["warnings"].as_array().unwrap() {
+        let code = w["code"].as_str().unwrap();
+        assert!(
+            code.chars()
+                .all(|c| c.is_ascii_lowercase() || c == '_' || c.is_ascii_digit()),
+            "{code}"
+        );
+        assert!(!w["message"].as_str().unwrap().is_empty());
+    }
+}
+
+#[test]
+fn output_file_is_written_and_meshes_sorted_whatever_the_file_order() {
+    let w = Workdir::new();
+    let study = w.write(
+        "s.yaml",
+        "format: 1\ndimension: 2\nmeshes:\n  - {name: c, cells: 4500}\n  - {name: a, cells: 18000}\n  - {name: b, cells: 8000}\nquantities:\n  q: {values: {a: 6.063, b: 5.972, c: 5.863}}\n",
+    );
+    let out = w.path().join("r.json");
+    let o = run(&[
+        "assess",
+        study.to_str().unwrap(),
+        "-f",
+        "json",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    assert!(o.stdout.is_empty());
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&out).unwrap()).unwrap();
+    let names: Vec<&str> = v["meshes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| m["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["a", "b", "c"]);
+    assert_eq!(
+        w.files(),
+        ["r.json", "s.yaml"],
+        "no temporary file may be left behind"
+    );
+}
+
+#[test]
+fn oscillatory_divergent_and_no_change_cases() {
+    let w = Workdir::new();
+    let study = w.write(
+        "s.yaml",
+        "format: 1\nmeshes:\n  - {name: a, size: 1.0}\n  - {name: b, size: 1.5}\n  - {name: c, size: 2.25}\nquantities:\n  osc: {values: {a: 1.0, b: 0.99, c: 1.02}}\n  div: {values: {a: 1.0, b: 1.02, c: 1.03}}\n  flat: {values: {a: 2.5, b: 2.5, c: 2.5}}\n",
+    );
+    let o = run(&["assess", study.to_str().unwrap(), "-f", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let q = |i: usize| &v["quantities"][i];
+    // Oscillatory: R = −1/3 (Stern et al. 2001 classes); half range 0.015 beats the GCI
+    // 1.25·0.01/(3 − 1) = 0.00625 (hand calculation), so the half range governs.
+    assert_eq!(q(0)["three_grid"]["convergence"], "oscillatory");
+    assert_eq!(q(0)["uncertainty"]["method"], "oscillation_range");
+    assert_relative_eq!(
+        q(0)["uncertainty"]["absolute"].as_f64().unwrap(),
+        0.015,
+        max_relative = 1e-12
+    );
+    // Divergent: R = 2 > 1, no uncertainty, no order.
+    assert_eq!(q(1)["three_grid"]["convergence"], "divergent");
+    assert!(q(1)["uncertainty"].is_null());
+    assert!(q(1)["three_grid"]["observed_order"].is_null());
+    // No change: zero uncertainty and a warning.
+    assert_eq!(q(2)["three_grid"]["convergence"], "no_change");
+    assert_eq!(q(2)["uncertainty"]["absolute"], 0.0);
+    let codes: Vec<&str> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap())
+        .collect();
+    assert!(
+        codes.contains(&"no_change")
+            && codes.contains(&"divergent")
+            && codes.contains(&"oscillatory"),
+        "{codes:?}"
+    );
+}

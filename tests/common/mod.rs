@@ -1,0 +1,75 @@
+//! Shared helpers for the integration tests: run the real binary in a fresh work directory
+//! and show everything on failure.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// The crate root (where `studies/` lives).
+pub fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// A temporary work directory that lives as long as the value.
+pub struct Workdir {
+    pub dir: tempfile::TempDir,
+}
+
+impl Workdir {
+    pub fn new() -> Self {
+        Workdir {
+            dir: tempfile::tempdir().expect("temporary directory"),
+        }
+    }
+    pub fn path(&self) -> &Path {
+        self.dir.path()
+    }
+    pub fn write(&self, name: &str, text: &str) -> PathBuf {
+        let p = self.dir.path().join(name);
+        if let Some(parent) = p.parent() {
+            std::fs::create_dir_all(parent).unwrap();
+        }
+        std::fs::write(&p, text).unwrap();
+        p
+    }
+    /// Names of the files in the directory (sorted).
+    pub fn files(&self) -> Vec<String> {
+        let mut v: Vec<String> = std::fs::read_dir(self.path())
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    }
+}
+
+/// Runs the binary with `args` in `cwd`.
+pub fn run_in(cwd: &Path, args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_meshbound"))
+        .args(args)
+        .current_dir(cwd)
+        .output()
+        .expect("the meshbound binary runs")
+}
+
+/// Runs the binary from the crate root.
+pub fn run(args: &[&str]) -> Output {
+    run_in(&root(), args)
+}
+
+/// Describes an output for failure messages.
+pub fn show(o: &Output) -> String {
+    format!(
+        "status: {:?}\n--- stdout\n{}\n--- stderr\n{}",
+        o.status.code(),
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&o.stderr)
+    )
+}
+
+/// Runs and parses JSON on stdout, asserting success.
+pub fn json(args: &[&str]) -> serde_json::Value {
+    let o = run(args);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    serde_json::from_slice(&o.stdout).unwrap_or_else(|e| panic!("not JSON: {e}\n{}", show(&o)))
+}
