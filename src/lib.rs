@@ -12,3 +12,4 @@
 
 pub mod estimate;
 pub mod warning;
+pub mod water;
