@@ -13,3 +13,4 @@
 pub mod estimate;
 pub mod warning;
 pub mod water;
+pub mod machine;
