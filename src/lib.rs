@@ -11,6 +11,6 @@
 #![deny(clippy::float_cmp)]
 
 pub mod estimate;
+pub mod machine;
 pub mod warning;
 pub mod water;
-pub mod machine;
