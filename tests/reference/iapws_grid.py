@@ -19,6 +19,7 @@ then run `cargo test --test water_reference` and commit both files.
 
 import json
 import os
+import sys
 
 import iapws
 from iapws import iapws97
@@ -76,7 +77,8 @@ def main():
         "saturation_temperature": saturation_temperature,
         "region1": region1,
     }
-    path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "iapws_grid.json")
+    path = sys.argv[1] if len(sys.argv) > 1 else os.path.join(
+        os.path.dirname(os.path.abspath(__file__)), "iapws_grid.json")
     with open(path, "w", encoding="utf-8") as f:
         json.dump(out, f, indent=1)
         f.write("\n")
