@@ -7,6 +7,7 @@
 
 pub mod num;
 pub mod raw;
+pub mod sweep;
 
 use crate::grid::{self, GridError, Mesh, MeshSpec, SizeBasis};
 use raw::{EstimatorChoice, RawStudy};
@@ -70,6 +71,8 @@ pub struct Settings {
     pub order_max: f64,
     /// Which estimator governs.
     pub estimator: EstimatorChoice,
+    /// Gravity for machine quantities, m/s².
+    pub gravity: f64,
 }
 
 /// A checked study.
@@ -89,8 +92,12 @@ pub struct Study {
     pub size_basis: SizeBasis,
     /// Scalar quantities.
     pub quantities: Vec<Quantity>,
+    /// Sweeps, curves finest first.
+    pub sweeps: Vec<sweep::Sweep>,
     /// Settings.
     pub settings: Settings,
+    /// Every file the study made meshbound read, the study file first.
+    pub files_read: Vec<PathBuf>,
 }
 
 /// Reads and checks a study file.
@@ -338,6 +345,10 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         });
     }
     let _ = order;
+    let gravity = raw.settings.gravity.map_or(crate::machine::STANDARD_GRAVITY, |g| g.0);
+    let mut files_read = vec![path.to_path_buf()];
+    let mesh_names: Vec<String> = meshes.iter().map(|m| m.name.clone()).collect();
+    let sweeps = sweep::check(&raw.sweeps, &mesh_names, gravity, path, text, &mut files_read)?;
     let title = raw.title.clone().unwrap_or_else(|| {
         path.file_stem()
             .map(|s| s.to_string_lossy().into_owned())
@@ -355,7 +366,10 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
             safety_factor: raw.settings.safety_factor.map_or(1.25, |v| v.0),
             order_max: raw.settings.order_max.map_or(20.0, |v| v.0),
             estimator: raw.settings.estimator.unwrap_or_default(),
+            gravity,
         },
+        sweeps,
+        files_read,
     })
 }
 

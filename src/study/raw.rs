@@ -25,6 +25,9 @@ pub struct RawStudy {
     /// Scalar quantities by name.
     #[serde(default)]
     pub quantities: IndexMap<String, RawQuantity>,
+    /// Sweeps (curves per mesh) by name.
+    #[serde(default)]
+    pub sweeps: IndexMap<String, super::sweep::RawSweep>,
     /// Settings of the estimators.
     #[serde(default)]
     pub settings: RawSettings,
@@ -127,4 +130,7 @@ pub struct RawSettings {
     /// Which estimator governs.
     #[serde(default)]
     pub estimator: Option<EstimatorChoice>,
+    /// Gravity for machine quantities, m/s² (default standard gravity 9.80665).
+    #[serde(default)]
+    pub gravity: Option<Positive>,
 }
