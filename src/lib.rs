@@ -11,4 +11,5 @@
 #![deny(clippy::float_cmp)]
 
 pub mod estimate;
+pub mod sweep;
 pub mod warning;
