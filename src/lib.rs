@@ -18,5 +18,6 @@ pub mod machine;
 pub mod output;
 pub mod report;
 pub mod study;
+pub mod sweep;
 pub mod warning;
 pub mod water;

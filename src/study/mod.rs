@@ -345,10 +345,20 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         });
     }
     let _ = order;
-    let gravity = raw.settings.gravity.map_or(crate::machine::STANDARD_GRAVITY, |g| g.0);
+    let gravity = raw
+        .settings
+        .gravity
+        .map_or(crate::machine::STANDARD_GRAVITY, |g| g.0);
     let mut files_read = vec![path.to_path_buf()];
     let mesh_names: Vec<String> = meshes.iter().map(|m| m.name.clone()).collect();
-    let sweeps = sweep::check(&raw.sweeps, &mesh_names, gravity, path, text, &mut files_read)?;
+    let sweeps = sweep::check(
+        &raw.sweeps,
+        &mesh_names,
+        gravity,
+        path,
+        text,
+        &mut files_read,
+    )?;
     let title = raw.title.clone().unwrap_or_else(|| {
         path.file_stem()
             .map(|s| s.to_string_lossy().into_owned())

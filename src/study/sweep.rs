@@ -90,7 +90,8 @@ impl<'de> Deserialize<'de> for RawSweepData {
                         out.file = Some(map.next_value::<String>()?);
                     } else {
                         let col: Vec<Finite> = map.next_value()?;
-                        out.columns.insert(key, col.into_iter().map(|v| v.0).collect());
+                        out.columns
+                            .insert(key, col.into_iter().map(|v| v.0).collect());
                     }
                 }
                 if out.file.is_some() && !out.columns.is_empty() {
@@ -205,7 +206,9 @@ impl<'de> Deserialize<'de> for BandAt {
                 if s == "fine" {
                     Ok(BandAt::Fine)
                 } else {
-                    Err(E::custom(format!("expected `fine` or a list of numbers, found `{s}`")))
+                    Err(E::custom(format!(
+                        "expected `fine` or a list of numbers, found `{s}`"
+                    )))
                 }
             }
             fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<BandAt, A::Error> {
@@ -357,17 +360,29 @@ fn read_csv(
         column: None,
         message: format!("{message} (named by {} at {key})", ctx.file.display()),
     };
-    let meta = std::fs::metadata(path)
-        .map_err(|e| ctx.err(key.to_string(), format!("cannot read the CSV file {}: {e}", path.display())))?;
+    let meta = std::fs::metadata(path).map_err(|e| {
+        ctx.err(
+            key.to_string(),
+            format!("cannot read the CSV file {}: {e}", path.display()),
+        )
+    })?;
     if meta.len() > 256 * 1024 * 1024 {
-        return Err(data_err(format!("the file has {} bytes; sweep files above 256 MiB are refused", meta.len())));
+        return Err(data_err(format!(
+            "the file has {} bytes; sweep files above 256 MiB are refused",
+            meta.len()
+        )));
     }
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
         .comment(Some(b'#'))
         .from_path(path)
-        .map_err(|e| ctx.err(key.to_string(), format!("cannot read the CSV file {}: {e}", path.display())))?;
+        .map_err(|e| {
+            ctx.err(
+                key.to_string(),
+                format!("cannot read the CSV file {}: {e}", path.display()),
+            )
+        })?;
     let headers = rdr
         .headers()
         .map_err(|e| data_err(format!("cannot read the header row: {e}")))?
@@ -392,7 +407,10 @@ fn read_csv(
     loop {
         let more = rdr.read_record(&mut rec).map_err(|e| {
             let line = e.position().map(|p| p.line() as usize);
-            StudyError { line, ..data_err(format!("unreadable CSV: {e}")) }
+            StudyError {
+                line,
+                ..data_err(format!("unreadable CSV: {e}"))
+            }
         })?;
         if !more {
             break;
@@ -401,7 +419,9 @@ fn read_csv(
         if cols[0].len() >= MAX_POINTS {
             return Err(StudyError {
                 line,
-                ..data_err(format!("more than {MAX_POINTS} rows; a sweep is refused above that"))
+                ..data_err(format!(
+                    "more than {MAX_POINTS} rows; a sweep is refused above that"
+                ))
             });
         }
         for (k, &i) in idx.iter().enumerate() {
@@ -413,7 +433,10 @@ fn read_csv(
             if !v.is_finite() {
                 return Err(StudyError {
                     line,
-                    ..data_err(format!("column `{}`: {field} is not a finite number", needed[k]))
+                    ..data_err(format!(
+                        "column `{}`: {field} is not a finite number",
+                        needed[k]
+                    ))
                 });
             }
             cols[k].push(v);
@@ -437,14 +460,23 @@ pub fn check(
     for (name, s) in raw {
         let at = |k: &str| format!("sweeps.{name}.{k}");
         if s.responses.is_empty() {
-            return Err(ctx.err(at("responses"), "lists no response: name at least one column".into()));
+            return Err(ctx.err(
+                at("responses"),
+                "lists no response: name at least one column".into(),
+            ));
         }
         for (i, r) in s.responses.iter().enumerate() {
             if r == &s.x {
-                return Err(ctx.err(format!("sweeps.{name}.responses[{i}]"), format!("`{r}` is the abscissa `x`, not a response")));
+                return Err(ctx.err(
+                    format!("sweeps.{name}.responses[{i}]"),
+                    format!("`{r}` is the abscissa `x`, not a response"),
+                ));
             }
             if s.responses[..i].contains(r) {
-                return Err(ctx.err(format!("sweeps.{name}.responses[{i}]"), format!("`{r}` is listed twice")));
+                return Err(ctx.err(
+                    format!("sweeps.{name}.responses[{i}]"),
+                    format!("`{r}` is listed twice"),
+                ));
             }
         }
         // Which columns each mesh must give.
@@ -463,7 +495,13 @@ pub fn check(
         }
         for m in s.data.keys() {
             if !mesh_names.contains(m) {
-                return Err(ctx.err(at(&format!("data.{m}")), format!("names the mesh `{m}`, which is not in `meshes` (known: {})", mesh_names.join(", "))));
+                return Err(ctx.err(
+                    at(&format!("data.{m}")),
+                    format!(
+                        "names the mesh `{m}`, which is not in `meshes` (known: {})",
+                        mesh_names.join(", ")
+                    ),
+                ));
             }
         }
         let mut mesh_indices = Vec::new();
@@ -507,7 +545,10 @@ pub fn check(
                 }
             }
             if n < MIN_POINTS {
-                return Err(ctx.err(key.clone(), format!("has {n} points; at least {MIN_POINTS} are needed per mesh")));
+                return Err(ctx.err(
+                    key.clone(),
+                    format!("has {n} points; at least {MIN_POINTS} are needed per mesh"),
+                ));
             }
             // Derive machine quantities from raw monitors.
             let derived = match s.mode {
@@ -523,7 +564,10 @@ pub fn check(
                             temperature: cols["temperature"][i],
                         };
                         dv.push(machine::derive_point(&p, mode, gravity).map_err(|e| {
-                            ctx.err(key.clone(), format!("point {} (counting from 1): {e}", i + 1))
+                            ctx.err(
+                                key.clone(),
+                                format!("point {} (counting from 1): {e}", i + 1),
+                            )
                         })?);
                     }
                     Some(dv)
@@ -555,20 +599,32 @@ pub fn check(
             curves.push(Curve {
                 mesh: mname.clone(),
                 x: order.iter().map(|&i| x[i]).collect(),
-                responses: ys.iter().map(|y| order.iter().map(|&i| y[i]).collect()).collect(),
+                responses: ys
+                    .iter()
+                    .map(|y| order.iter().map(|&i| y[i]).collect())
+                    .collect(),
                 derived: derived.map(|d| order.iter().map(|&i| d[i].clone()).collect()),
             });
             mesh_indices.push(mi);
         }
         if curves.len() < 3 {
-            return Err(ctx.err(at("data"), format!(
-                "gives data for {} mesh{}; at least three are needed for an observed order",
-                curves.len(),
-                if curves.len() == 1 { "" } else { "es" }
-            )));
+            return Err(ctx.err(
+                at("data"),
+                format!(
+                    "gives data for {} mesh{}; at least three are needed for an observed order",
+                    curves.len(),
+                    if curves.len() == 1 { "" } else { "es" }
+                ),
+            ));
         }
-        let lo = curves.iter().map(|c| c.x[0]).fold(f64::NEG_INFINITY, f64::max);
-        let hi = curves.iter().map(|c| c.x[c.x.len() - 1]).fold(f64::INFINITY, f64::min);
+        let lo = curves
+            .iter()
+            .map(|c| c.x[0])
+            .fold(f64::NEG_INFINITY, f64::max);
+        let hi = curves
+            .iter()
+            .map(|c| c.x[c.x.len() - 1])
+            .fold(f64::INFINITY, f64::min);
         if lo >= hi {
             return Err(ctx.err(at("data"), format!(
                 "the meshes' `{}` ranges do not overlap (the common range would be {lo} to {hi}): sweep every mesh over a common range",
@@ -577,7 +633,13 @@ pub fn check(
         }
         let response_index = |r: &str, k: String| {
             s.responses.iter().position(|x| x == r).ok_or_else(|| {
-                ctx.err(k, format!("`{r}` is not one of the sweep's responses ({})", s.responses.join(", ")))
+                ctx.err(
+                    k,
+                    format!(
+                        "`{r}` is not one of the sweep's responses ({})",
+                        s.responses.join(", ")
+                    ),
+                )
             })
         };
         let mut breakdown = Vec::new();
@@ -586,7 +648,13 @@ pub fn check(
             let ri = response_index(&b.response, format!("{k}.response"))?;
             let basis = b.drop_basis.unwrap_or_default();
             if basis == DropBasis::Relative && b.drop.0 >= 1.0 {
-                return Err(ctx.err(format!("{k}.drop"), format!("a relative drop must be below 1 (100 %), found {}", b.drop.0)));
+                return Err(ctx.err(
+                    format!("{k}.drop"),
+                    format!(
+                        "a relative drop must be below 1 (100 %), found {}",
+                        b.drop.0
+                    ),
+                ));
             }
             if b.drop.0 <= 0.0 {
                 return Err(ctx.err(format!("{k}.drop"), "the drop must be > 0".into()));
@@ -597,7 +665,10 @@ pub fn check(
                 ReferenceChoice::Highest
             });
             if reference == ReferenceChoice::Plateau && b.plateau_from.is_none() {
-                return Err(ctx.err(format!("{k}.plateau_from"), "`reference: plateau` needs `plateau_from`, the lowest x of the plateau".into()));
+                return Err(ctx.err(
+                    format!("{k}.plateau_from"),
+                    "`reference: plateau` needs `plateau_from`, the lowest x of the plateau".into(),
+                ));
             }
             breakdown.push(BreakdownSpec {
                 response: b.response.clone(),
@@ -612,7 +683,10 @@ pub fn check(
         let band = match &s.band {
             Some(b) => Some(BandSpec {
                 response: b.response.clone(),
-                response_index: response_index(&b.response, format!("sweeps.{name}.band.response"))?,
+                response_index: response_index(
+                    &b.response,
+                    format!("sweeps.{name}.band.response"),
+                )?,
                 at: b.at.clone().unwrap_or(BandAt::Fine),
                 interpolation: b.interpolation.unwrap_or(interpolation),
             }),

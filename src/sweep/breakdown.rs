@@ -1,0 +1,563 @@
+//! Breakdown: the x at which a response first falls a set amount below its reference.
+//!
+//! Read from a sweep of decreasing x (for a cavitation sweep, decreasing Thoma number σ at
+//! fixed duty): the *reference* is the response without cavitation, the *threshold* lies a
+//! set *drop* below it, and breakdown is the first crossing of the threshold met when the
+//! curve is scanned from the highest x downward. Trade practice (no published source) is a 1 %
+//! drop in efficiency for turbine and pump-turbine models; pump acceptance practice uses a
+//! 3 % drop in head (NPSH3, as in pump acceptance-test standards such as ISO 9906; from
+//! memory).
+//!
+//! Efficiency can rise a little before it breaks down (a hump). The first crossing *below
+//! the threshold* defines breakdown, never the maximum: points above the reference are simply
+//! passed over.
+//!
+//! **Drops are falls.** The response is taken to fall at breakdown, and a drop must be
+//! positive. A response that rises at breakdown (a loss, a vapour volume) is not read
+//! directly: negate the response (and a [`ReferenceKind::Value`]) before calling, and the
+//! breakdown x is the same. Negative drops are refused rather than reinterpreted, so that a
+//! sign slip in an input cannot turn into a plausible-looking σ.
+//!
+//! The crossing x is solved on the interpolant, inside the interval between the last point
+//! at or above the threshold and the first point below it, by bisection to 1e-12 relative
+//! (or until the interval is two neighbouring floating-point numbers). Each PCHIP piece is
+//! monotone between its knots (see [`super::interp`]), and so is each linear piece, so the
+//! curve cannot dip below the threshold inside an earlier interval whose two knots are at or
+//! above it: the first crossing of the data is the first crossing of the curve.
+
+use serde::{Deserialize, Serialize};
+
+use super::interp::{Interpolant, Interpolation};
+use super::{fmt_num, SweepError};
+
+/// How far below the reference the threshold lies.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum DropRule {
+    /// A fraction of the reference, `0 < f < 1` (0.01 for a 1 % drop); the reference must be
+    /// positive.
+    Relative(f64),
+    /// An amount in the response's unit, `> 0`.
+    Absolute(f64),
+}
+
+/// What the response is compared with: its non-cavitating value.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ReferenceKind {
+    /// The mean response over the points with `x >= from` (the plateau at high x).
+    Plateau {
+        /// Lowest x that belongs to the plateau.
+        from: f64,
+    },
+    /// The response at the highest x of the sweep.
+    Highest,
+    /// A given value.
+    Value(f64),
+}
+
+/// Where the response broke down.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Breakdown {
+    /// The breakdown x: where the curve crosses the threshold.
+    pub x: f64,
+    /// The reference response.
+    pub reference: f64,
+    /// The threshold the response fell below.
+    pub threshold: f64,
+    /// Number of points averaged for a plateau reference; `None` for the other kinds.
+    pub points_in_plateau: Option<usize>,
+    /// The two neighbouring sweep x values that bracket the crossing: `(below, at_or_above)`
+    /// — the first point below the threshold and the last one at or above it.
+    pub bracket: (f64, f64),
+}
+
+/// Why no breakdown could be read.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum BreakdownError {
+    /// The points cannot be interpolated.
+    #[error(transparent)]
+    Sweep(#[from] SweepError),
+    /// The drop is not a positive finite amount (or a relative drop is not below 1).
+    #[error("{0}")]
+    InvalidDrop(String),
+    /// The reference cannot be formed or used.
+    #[error("{0}")]
+    InvalidReference(String),
+    /// No point lies on the plateau.
+    #[error("no sweep point lies on the plateau x >= {}: the highest x is {}; lower the plateau start or extend the sweep to higher x", fmt_num(*.from), fmt_num(*.highest_x))]
+    NoPlateauPoints {
+        /// The plateau start asked for.
+        from: f64,
+        /// The highest x of the sweep.
+        highest_x: f64,
+    },
+    /// The point at the highest x is already below the threshold.
+    #[error("the point at the highest x ({}) is already below the threshold: {} < {} (reference {}); the sweep starts inside breakdown or the reference is too high; start the sweep at higher x or check the reference", fmt_num(*.x), fmt_num(*.y), fmt_num(*.threshold), fmt_num(*.reference))]
+    StartsBelowThreshold {
+        /// The highest x of the sweep.
+        x: f64,
+        /// The response there.
+        y: f64,
+        /// The threshold.
+        threshold: f64,
+        /// The reference.
+        reference: f64,
+    },
+    /// The response never falls below the threshold.
+    #[error("{}", no_crossing_text(*.lowest_x, *.largest_drop, *.reference, *.threshold))]
+    NoCrossing {
+        /// The lowest x the sweep reached.
+        lowest_x: f64,
+        /// The largest drop seen, `reference − min(response)`, in the response's unit
+        /// (negative when every point lies above the reference).
+        largest_drop: f64,
+        /// The reference.
+        reference: f64,
+        /// The threshold.
+        threshold: f64,
+    },
+}
+
+fn no_crossing_text(lowest_x: f64, largest_drop: f64, reference: f64, threshold: f64) -> String {
+    let seen = if largest_drop > 0.0 {
+        let fraction = if reference.abs() > 0.0 {
+            format!(
+                "{} % of the reference, ",
+                fmt_num(100.0 * largest_drop / reference.abs())
+            )
+        } else {
+            String::new()
+        };
+        format!(
+            "the largest drop seen is {fraction}{} absolute",
+            fmt_num(largest_drop)
+        )
+    } else {
+        "the response never falls below the reference".to_string()
+    };
+    format!(
+        "no breakdown: the response stays at or above the threshold {} (reference {}) down to the lowest x reached, {}; {seen}; extend the sweep to lower x",
+        fmt_num(threshold),
+        fmt_num(reference),
+        fmt_num(lowest_x)
+    )
+}
+
+/// Reads the breakdown x of the sweep `(x[i], y[i])` (points in any order).
+///
+/// Forms the reference, puts the threshold `drop` below it (`reference·(1 − f)` for a
+/// relative drop, `reference − d` for an absolute one), scans the points from the highest x
+/// downward, and solves for the x at which the `kind` interpolant meets the threshold in the
+/// interval of the first point that lies strictly below it.
+///
+/// # Errors
+/// [`BreakdownError`] when the points cannot be interpolated, the drop or reference is
+/// invalid, no point lies on the plateau, the highest-x point is already below the threshold,
+/// or the response never falls below the threshold ([`BreakdownError::NoCrossing`], whose
+/// message gives the lowest x reached and the largest drop seen).
+pub fn find_breakdown(
+    x: &[f64],
+    y: &[f64],
+    reference: &ReferenceKind,
+    drop: &DropRule,
+    kind: Interpolation,
+) -> Result<Breakdown, BreakdownError> {
+    let curve = Interpolant::new(x, y, kind)?;
+    let xs = curve.knots_x();
+    let ys = curve.knots_y();
+    let (lowest_x, highest_x) = curve.x_range();
+    let top_y = ys.last().copied().unwrap_or(f64::NAN);
+
+    let (reference, points_in_plateau) = match *reference {
+        ReferenceKind::Plateau { from } => {
+            if !from.is_finite() {
+                return Err(BreakdownError::InvalidReference(format!(
+                    "the plateau start must be a finite number, got {from}"
+                )));
+            }
+            let on: Vec<f64> = xs
+                .iter()
+                .zip(ys)
+                .filter(|(xi, _)| **xi >= from)
+                .map(|(_, yi)| *yi)
+                .collect();
+            if on.is_empty() {
+                return Err(BreakdownError::NoPlateauPoints { from, highest_x });
+            }
+            let mean = on.iter().sum::<f64>() / on.len() as f64;
+            (mean, Some(on.len()))
+        }
+        ReferenceKind::Highest => (top_y, None),
+        ReferenceKind::Value(v) => (v, None),
+    };
+    if !reference.is_finite() {
+        return Err(BreakdownError::InvalidReference(format!(
+            "the reference is not a finite number: {reference}"
+        )));
+    }
+
+    let threshold = match *drop {
+        DropRule::Relative(f) => {
+            if !(f.is_finite() && f > 0.0 && f < 1.0) {
+                return Err(BreakdownError::InvalidDrop(format!(
+                    "a relative drop must lie strictly between 0 and 1 (0.01 for 1 %), got {f}; \
+                     drops are falls of the response: for a response that rises, negate it"
+                )));
+            }
+            if reference <= 0.0 {
+                return Err(BreakdownError::InvalidReference(format!(
+                    "a relative drop needs a positive reference, got {}; give the drop as an absolute amount",
+                    fmt_num(reference)
+                )));
+            }
+            reference * (1.0 - f)
+        }
+        DropRule::Absolute(d) => {
+            if !(d.is_finite() && d > 0.0) {
+                return Err(BreakdownError::InvalidDrop(format!(
+                    "an absolute drop must be a positive finite amount, got {d}; \
+                     drops are falls of the response: for a response that rises, negate it"
+                )));
+            }
+            reference - d
+        }
+    };
+    if !threshold.is_finite() {
+        return Err(BreakdownError::InvalidReference(format!(
+            "the threshold {} below the reference {} is not a finite number",
+            match *drop {
+                DropRule::Relative(f) => format!("{} %", fmt_num(100.0 * f)),
+                DropRule::Absolute(d) => fmt_num(d),
+            },
+            fmt_num(reference)
+        )));
+    }
+
+    if top_y < threshold {
+        return Err(BreakdownError::StartsBelowThreshold {
+            x: highest_x,
+            y: top_y,
+            threshold,
+            reference,
+        });
+    }
+
+    // Scan from the highest x downward for the first point below the threshold.
+    let Some(below) = (0..ys.len()).rev().find(|&i| ys[i] < threshold) else {
+        let lowest_y = ys.iter().copied().fold(f64::INFINITY, f64::min);
+        return Err(BreakdownError::NoCrossing {
+            lowest_x,
+            largest_drop: reference - lowest_y,
+            reference,
+            threshold,
+        });
+    };
+    // `below` is not the last index (the top point is at or above the threshold), so the
+    // interval `below` reaches the point above it.
+    let (a, b) = match (xs.get(below), xs.get(below + 1)) {
+        (Some(&a), Some(&b)) => (a, b),
+        _ => {
+            return Err(BreakdownError::InvalidReference(
+                "internal: the crossing interval is missing".to_string(),
+            ))
+        }
+    };
+    let x_cross = bisect(&curve, below, a, b, threshold);
+    Ok(Breakdown {
+        x: x_cross,
+        reference,
+        threshold,
+        points_in_plateau,
+        bracket: (a, b),
+    })
+}
+
+/// Bisection on interval `k = [a, b]` of `curve`, where the value at `a` lies below `target`
+/// and the value at `b` at or above it. Stops at 1e-12 relative width or when the bracket is
+/// two neighbouring floats; returns the bracket's midpoint (always inside `[a, b]`).
+fn bisect(curve: &Interpolant, k: usize, a: f64, b: f64, target: f64) -> f64 {
+    let (mut lo, mut hi) = (a, b);
+    for _ in 0..4096 {
+        if hi - lo <= 1e-12 * lo.abs().max(hi.abs()) {
+            break;
+        }
+        let mid = lo + 0.5 * (hi - lo);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        match curve.value_in(k, mid) {
+            Some(v) if v < target => lo = mid,
+            _ => hi = mid,
+        }
+    }
+    lo + 0.5 * (hi - lo)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    fn ok(r: Result<Breakdown, BreakdownError>) -> Breakdown {
+        match r {
+            Ok(b) => b,
+            Err(e) => panic!("expected a breakdown, got: {e}"),
+        }
+    }
+
+    fn err_text(r: Result<Breakdown, BreakdownError>) -> String {
+        match r {
+            Ok(b) => panic!("expected an error, got {b:?}"),
+            Err(e) => e.to_string(),
+        }
+    }
+
+    // Source: analytic — linear interpolation of piecewise-linear data; reference 0.9 at the
+    // highest x, 1 % drop → threshold 0.891, crossing between (0.2, 0.88) and (0.3, 0.895) at
+    // x = 0.2 + 0.1·(0.891 − 0.88)/(0.895 − 0.88) = 0.2 + 0.22/3 = 0.27333…
+    #[test]
+    fn linear_crossing_is_exact() {
+        let x = [0.5, 0.4, 0.3, 0.2, 0.1];
+        let y = [0.9, 0.9, 0.895, 0.88, 0.80];
+        let b = ok(find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Highest,
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        ));
+        assert_relative_eq!(b.reference, 0.9, max_relative = 1e-15);
+        assert_relative_eq!(b.threshold, 0.891, max_relative = 1e-15);
+        assert_relative_eq!(b.x, 0.2 + 0.22 / 3.0, max_relative = 1e-12);
+        assert_eq!(b.points_in_plateau, None);
+        assert_eq!(b.bracket, (0.2, 0.3));
+    }
+
+    // Source: analytic — where three neighbouring secant slopes are equal, the PCHIP knot
+    // derivatives on the middle interval equal that slope (weighted harmonic mean of equal
+    // values), so the piece is the straight line. Here y = 0.9 − 2·(0.25 − x) on
+    // 0.1 ≤ x ≤ 0.25; reference 0.9 given, absolute drop 0.15 → threshold 0.75, reached at
+    // x = 0.25 − 0.075 = 0.175 inside [0.15, 0.2].
+    #[test]
+    fn pchip_crossing_on_a_straight_stretch() {
+        let x = [0.1, 0.15, 0.2, 0.25, 0.35, 0.5];
+        let y = [0.6, 0.7, 0.8, 0.9, 0.9, 0.9];
+        let b = ok(find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Absolute(0.15),
+            Interpolation::Pchip,
+        ));
+        assert_relative_eq!(b.threshold, 0.75, max_relative = 1e-15);
+        assert_relative_eq!(b.x, 0.175, max_relative = 1e-12);
+        assert_eq!(b.bracket, (0.15, 0.2));
+    }
+
+    // Source: trade fact (method notes §6) — efficiency may rise before it breaks down; the
+    // first crossing below the threshold, not the maximum, defines breakdown. Analytic with
+    // linear interpolation: plateau x ≥ 0.4 averages 0.90 (3 points); 1 % drop → 0.891; the
+    // hump (0.905 at 0.25) lies above the reference and is passed over; the crossing between
+    // (0.15, 0.87) and (0.2, 0.898) is at 0.15 + 0.05·(0.891 − 0.87)/(0.898 − 0.87) = 0.1875.
+    #[test]
+    fn hump_above_reference_is_passed_over() {
+        let x = [0.6, 0.5, 0.4, 0.3, 0.25, 0.2, 0.15, 0.1];
+        let y = [0.899, 0.901, 0.900, 0.903, 0.905, 0.898, 0.87, 0.80];
+        let b = ok(find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Plateau { from: 0.4 },
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        ));
+        assert_relative_eq!(b.reference, 0.9, max_relative = 1e-14);
+        assert_eq!(b.points_in_plateau, Some(3));
+        assert_relative_eq!(b.x, 0.1875, max_relative = 1e-12);
+        // The same data with PCHIP cross in the same interval.
+        let p = ok(find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Plateau { from: 0.4 },
+            &DropRule::Relative(0.01),
+            Interpolation::Pchip,
+        ));
+        assert_eq!(p.bracket, (0.15, 0.2));
+        let curve = Interpolant::new(&x, &y, Interpolation::Pchip)
+            .map_err(|e| e.to_string())
+            .and_then(|c| c.eval(p.x).ok_or_else(|| "no value".to_string()));
+        assert_relative_eq!(curve.unwrap_or(f64::NAN), p.threshold, epsilon = 1e-12);
+    }
+
+    // Source: analytic — a knot exactly at the threshold is not below it; the crossing lies in
+    // the interval beneath it, at the knot itself for linear data meeting it there:
+    // (0.2, 0.891) is on the threshold, (0.1, 0.80) below → crossing at x = 0.2.
+    #[test]
+    fn knot_on_the_threshold_is_not_below() {
+        let x = [0.1, 0.2, 0.3];
+        let y = [0.80, 0.891, 0.9];
+        let b = ok(find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Absolute(0.009),
+            Interpolation::Linear,
+        ));
+        assert_eq!(b.bracket, (0.1, 0.2));
+        assert_relative_eq!(b.x, 0.2, max_relative = 1e-9);
+    }
+
+    // Source: the error contract of this module (message text asserted exactly).
+    #[test]
+    fn no_crossing_message() {
+        let x = [0.12, 0.2, 0.3, 0.4];
+        let y = [0.9068, 0.9085, 0.909, 0.91];
+        let r = find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Highest,
+            &DropRule::Relative(0.01),
+            Interpolation::Pchip,
+        );
+        match &r {
+            Err(BreakdownError::NoCrossing {
+                lowest_x,
+                largest_drop,
+                ..
+            }) => {
+                assert_relative_eq!(*lowest_x, 0.12, max_relative = 1e-15);
+                assert_relative_eq!(*largest_drop, 0.0032, max_relative = 1e-12);
+            }
+            other => panic!("expected NoCrossing, got {other:?}"),
+        }
+        assert_eq!(
+            err_text(r),
+            "no breakdown: the response stays at or above the threshold 0.9009 (reference 0.91) \
+             down to the lowest x reached, 0.12; the largest drop seen is 0.351648 % of the \
+             reference, 0.0032 absolute; extend the sweep to lower x"
+        );
+        let r = find_breakdown(
+            &[0.1, 0.2],
+            &[0.95, 0.93],
+            &ReferenceKind::Value(0.92),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        );
+        assert_eq!(
+            err_text(r),
+            "no breakdown: the response stays at or above the threshold 0.9108 (reference 0.92) \
+             down to the lowest x reached, 0.1; the response never falls below the reference; \
+             extend the sweep to lower x"
+        );
+    }
+
+    // Source: the error contract of this module.
+    #[test]
+    fn first_point_below_threshold_is_refused() {
+        let r = find_breakdown(
+            &[0.1, 0.2, 0.3],
+            &[0.8, 0.85, 0.88],
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Pchip,
+        );
+        assert!(matches!(
+            r,
+            Err(BreakdownError::StartsBelowThreshold { .. })
+        ));
+        assert_eq!(
+            err_text(r),
+            "the point at the highest x (0.3) is already below the threshold: 0.88 < 0.891 \
+             (reference 0.9); the sweep starts inside breakdown or the reference is too high; \
+             start the sweep at higher x or check the reference"
+        );
+    }
+
+    // Source: the input contract of this module (drops are positive falls; no silent repair).
+    #[test]
+    fn bad_settings_are_refused() {
+        let x = [0.1, 0.2, 0.3];
+        let y = [0.8, 0.9, 0.9];
+        let run =
+            |r: ReferenceKind, d: DropRule| find_breakdown(&x, &y, &r, &d, Interpolation::Pchip);
+        for d in [
+            DropRule::Relative(0.0),
+            DropRule::Relative(-0.01),
+            DropRule::Relative(1.0),
+            DropRule::Relative(f64::NAN),
+            DropRule::Absolute(0.0),
+            DropRule::Absolute(-0.5),
+            DropRule::Absolute(f64::INFINITY),
+        ] {
+            let r = run(ReferenceKind::Highest, d);
+            assert!(
+                matches!(r, Err(BreakdownError::InvalidDrop(_))),
+                "{d:?}: {r:?}"
+            );
+        }
+        assert_eq!(
+            err_text(run(ReferenceKind::Highest, DropRule::Relative(-0.01))),
+            "a relative drop must lie strictly between 0 and 1 (0.01 for 1 %), got -0.01; \
+             drops are falls of the response: for a response that rises, negate it"
+        );
+        assert_eq!(
+            err_text(run(
+                ReferenceKind::Plateau { from: 0.35 },
+                DropRule::Relative(0.01)
+            )),
+            "no sweep point lies on the plateau x >= 0.35: the highest x is 0.3; lower the \
+             plateau start or extend the sweep to higher x"
+        );
+        assert_eq!(
+            err_text(run(ReferenceKind::Value(-0.9), DropRule::Relative(0.01))),
+            "a relative drop needs a positive reference, got -0.9; give the drop as an absolute amount"
+        );
+        for r in [
+            ReferenceKind::Value(f64::NAN),
+            ReferenceKind::Plateau { from: f64::NAN },
+        ] {
+            assert!(matches!(
+                run(r, DropRule::Absolute(0.01)),
+                Err(BreakdownError::InvalidReference(_))
+            ));
+        }
+        let r = find_breakdown(
+            &[0.1, 0.1],
+            &[0.8, 0.9],
+            &ReferenceKind::Highest,
+            &DropRule::Relative(0.01),
+            Interpolation::Pchip,
+        );
+        assert!(matches!(
+            r,
+            Err(BreakdownError::Sweep(SweepError::DuplicateX { .. }))
+        ));
+    }
+
+    // Source: analytic — the order in which points are given cannot change the curve.
+    #[test]
+    fn point_order_does_not_matter() {
+        let x = [0.5, 0.4, 0.3, 0.25, 0.2, 0.15, 0.1];
+        let y = [0.91, 0.91, 0.909, 0.905, 0.89, 0.85, 0.7];
+        let xr = [0.2, 0.5, 0.1, 0.3, 0.15, 0.4, 0.25];
+        let yr = [0.89, 0.91, 0.7, 0.909, 0.85, 0.91, 0.905];
+        let s = ReferenceKind::Plateau { from: 0.4 };
+        let a = ok(find_breakdown(
+            &x,
+            &y,
+            &s,
+            &DropRule::Relative(0.01),
+            Interpolation::Pchip,
+        ));
+        let b = ok(find_breakdown(
+            &xr,
+            &yr,
+            &s,
+            &DropRule::Relative(0.01),
+            Interpolation::Pchip,
+        ));
+        assert_eq!(a, b);
+        assert_eq!(a.points_in_plateau, Some(2));
+    }
+}
