@@ -54,7 +54,7 @@ struct Case {
 struct BreakdownCase {
     case: String,
     reference: RefRule,
-    drop: DropRule,
+    drop: DropJson,
     reference_value: Exact,
     threshold: Exact,
     x: Exact,
@@ -71,7 +71,7 @@ enum RefRule {
 
 #[derive(Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
-enum DropRule {
+enum DropJson {
     Relative { amount: f64 },
     Absolute { amount: f64 },
 }
@@ -183,8 +183,8 @@ fn breakdown_matches_scipy_roots() {
             RefRule::Value { value } => ReferenceKind::Value(value),
         };
         let drop = match b.drop {
-            DropRule::Relative { amount } => DropRule::Relative(amount),
-            DropRule::Absolute { amount } => DropRule::Absolute(amount),
+            DropJson::Relative { amount } => DropRule::Relative(amount),
+            DropJson::Absolute { amount } => DropRule::Absolute(amount),
         };
         let (x, y) = (plain(&c.x), plain(&c.y));
         let (want_ref, want_thr, want_x) = (b.reference_value.0, b.threshold.0, b.x.0);
