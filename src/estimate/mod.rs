@@ -2,6 +2,7 @@
 //!
 //! Nothing here reads files or prints. Inputs are always ordered finest mesh first.
 
+pub mod least_squares;
 pub mod three_grid;
 
 use serde::Serialize;
