@@ -29,6 +29,7 @@ Run:  python3 tests/reference/least_squares_scipy.py   (writes least_squares_sci
 """
 import json
 import os
+import sys
 
 import numpy as np
 import scipy
@@ -172,7 +173,8 @@ def main():
         excluded_band=BAND,
         cases=cases,
     )
-    path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "least_squares_scipy.json")
+    path = sys.argv[1] if len(sys.argv) > 1 else os.path.join(
+        os.path.dirname(os.path.abspath(__file__)), "least_squares_scipy.json")
     with open(path, "w") as f:
         json.dump(out, f, indent=1)
         f.write("\n")
