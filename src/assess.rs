@@ -3,6 +3,7 @@
 //! The serde form of [`Assessment`] *is* the JSON result contract (docs/study-file.md and the
 //! design notes): field names here are fixed.
 
+use crate::estimate::least_squares::{self, LeastSquares, LsSettings};
 use crate::estimate::three_grid::{self, Governing, ThreeGrid, ThreeGridSettings};
 use crate::estimate::Convergence;
 use crate::grid::Mesh;
@@ -110,19 +111,21 @@ pub struct QuantityResult {
     /// Three-mesh estimate on the three finest meshes.
     pub three_grid: Option<ThreeGridResult>,
     /// Least-squares estimate (four or more meshes).
-    pub least_squares: Option<serde_json::Value>,
+    pub least_squares: Option<LeastSquares>,
     /// The uncertainty statement (`None` when divergent).
     pub uncertainty: Option<Uncertainty>,
 }
 
-/// Estimates one quantity over the meshes (finest first).
+/// Estimates one quantity over the meshes (finest first): the three-mesh estimate on the three
+/// finest meshes, and the least-squares estimate over all meshes from four on. `estimator`
+/// says which governs the uncertainty.
 pub fn quantity(
     name: &str,
     unit: Option<&str>,
     meshes: &[Mesh],
     values: &[f64],
     settings: &ThreeGridSettings,
-    _estimator: EstimatorChoice,
+    estimator: EstimatorChoice,
     warnings: &mut Vec<Warning>,
 ) -> QuantityResult {
     let mut out = QuantityResult {
@@ -134,7 +137,8 @@ pub fn quantity(
         least_squares: None,
         uncertainty: None,
     };
-    if meshes.len() < 3 || values.len() < 3 {
+    let n = meshes.len().min(values.len());
+    if n < 3 {
         warnings.push(
             Warning::new("too_few_meshes", "fewer than three meshes: no estimate").about(name),
         );
@@ -160,6 +164,42 @@ pub fn quantity(
             });
         }
         Err(e) => warnings.push(Warning::new("estimate_failed", e.to_string()).about(name)),
+    }
+    if n >= 4 {
+        let names: Vec<String> = meshes[..n].iter().map(|m| m.name.clone()).collect();
+        let hs: Vec<f64> = meshes[..n].iter().map(|m| m.size).collect();
+        match least_squares::estimate(&names, &hs, &values[..n], &LsSettings::default()) {
+            Ok(mut ls) => {
+                warnings.extend(ls.warnings.drain(..).map(|w| w.about(name)));
+                let ls_u = ls.per_mesh.first().map(|m| m.uncertainty);
+                let tg_u = out.uncertainty.as_ref().map(|u| u.absolute);
+                if let (Some(a), Some(b)) = (ls_u, tg_u) {
+                    let (lo, hi) = (a.min(b), a.max(b));
+                    if hi > 2.0 * lo {
+                        warnings.push(
+                            Warning::new(
+                                "estimates_disagree",
+                                format!(
+                                    "the least-squares uncertainty ({a:.3e}) and the three-mesh uncertainty ({b:.3e}) differ by more than a factor of two: the finest meshes are probably not in the asymptotic range"
+                                ),
+                            )
+                            .about(name),
+                        );
+                    }
+                }
+                if estimator != EstimatorChoice::ThreeGrid {
+                    out.convergence = Some(ls.convergence);
+                    out.uncertainty = if ls.convergence == Convergence::Divergent {
+                        None
+                    } else {
+                        ls_u.map(|u| Uncertainty::new(Method::LeastSquares, values[0], u))
+                    };
+                }
+                out.least_squares = Some(ls);
+            }
+            Err(e) => warnings
+                .push(Warning::new("estimate_failed", format!("least squares: {e}")).about(name)),
+        }
     }
     out
 }

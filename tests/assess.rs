@@ -246,3 +246,83 @@ fn oscillatory_divergent_and_no_change_cases() {
         "{codes:?}"
     );
 }
+
+#[test]
+fn five_mesh_study_shows_both_estimates_and_least_squares_governs() {
+    let v = json(&[
+        "assess",
+        "studies/axial-pump-five-meshes.yaml",
+        "--format",
+        "json",
+    ]);
+    let q = &v["quantities"][0];
+    let ls = &q["least_squares"];
+    for k in [
+        "fits",
+        "selected",
+        "order",
+        "data_range",
+        "error_estimate",
+        "safety_factor",
+        "per_mesh",
+    ] {
+        assert!(ls.get(k).is_some(), "missing least_squares key {k}");
+    }
+    assert_eq!(ls["fits"].as_array().unwrap().len(), 8);
+    for f in ls["fits"].as_array().unwrap() {
+        for k in [
+            "kind",
+            "weighted",
+            "phi0",
+            "coefficients",
+            "order",
+            "std_dev",
+        ] {
+            assert!(f.get(k).is_some(), "missing fit key {k}");
+        }
+    }
+    let per_mesh = ls["per_mesh"].as_array().unwrap();
+    assert_eq!(per_mesh.len(), 5);
+    assert_eq!(per_mesh[0]["mesh"], "G1");
+    assert_eq!(q["uncertainty"]["method"], "least_squares");
+    assert_eq!(q["uncertainty"]["absolute"], per_mesh[0]["uncertainty"]);
+    assert_eq!(
+        q["three_grid"]["meshes"],
+        serde_json::json!(["G1", "G2", "G3"])
+    );
+    let o = run(&["assess", "studies/axial-pump-five-meshes.yaml"]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("least squares (5 meshes)"), "{text}");
+    assert!(
+        text.contains("differ by more than a factor of two"),
+        "{text}"
+    );
+}
+
+#[test]
+fn estimator_setting_chooses_what_governs() {
+    let w = Workdir::new();
+    let base = std::fs::read_to_string(root().join("studies/axial-pump-five-meshes.yaml")).unwrap();
+    w.write(
+        "tg.yaml",
+        &base.replace("estimator: auto", "estimator: three_grid"),
+    );
+    let o = run_in(w.path(), &["assess", "tg.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["quantities"][0]["uncertainty"]["method"], "three_grid");
+    assert!(
+        v["quantities"][0]["least_squares"].is_object(),
+        "least squares is still shown"
+    );
+    // least_squares with three meshes is refused.
+    let three = std::fs::read_to_string(root().join("studies/hydrofoil-lift.yaml")).unwrap();
+    w.write(
+        "ls3.yaml",
+        &format!("{three}settings: {{estimator: least_squares}}\n"),
+    );
+    let o = run_in(w.path(), &["assess", "ls3.yaml"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr)
+        .contains("settings.estimator: `least_squares` needs at least four meshes"));
+}

@@ -57,7 +57,7 @@ fn quantity_block(a: &Assessment, q: &QuantityResult, out: &mut String) {
         .as_deref()
         .map_or(String::new(), |u| format!(" [{u}]"));
     out.push_str(&format!("\n{}{unit}\n  {}\n", q.name, statement(q)));
-    let mut t = grid(&["mesh", "value", "change to finer"]);
+    let mut t = grid(&["mesh", "value", "Δ to next finer"]);
     for (i, (m, v)) in a.meshes.iter().zip(&q.values).enumerate() {
         let change = if i == 0 {
             "–".to_string()
@@ -99,6 +99,121 @@ fn quantity_block(a: &Assessment, q: &QuantityResult, out: &mut String) {
         }
         out.push_str(&format!("{t}\n"));
     }
+    if let Some(ls) = &q.least_squares {
+        least_squares_block(a, q, ls, out);
+    }
+}
+
+fn least_squares_block(
+    a: &Assessment,
+    q: &QuantityResult,
+    ls: &crate::estimate::least_squares::LeastSquares,
+    out: &mut String,
+) {
+    let governing = q.uncertainty.as_ref().map(|u| u.method);
+    let tg = q.three_grid.as_ref().map(|t| &t.estimate);
+    let tg_head = q.three_grid.as_ref().map_or("three-mesh".to_string(), |t| {
+        format!("three-mesh ({})", t.meshes.join(", "))
+    });
+    let ls_head = format!("least squares ({} meshes)", ls.per_mesh.len());
+    let mut t = grid(&["both estimates", &tg_head, &ls_head]);
+    let selected = ls.selected_fit();
+    let mark = |m: bool| if m { "governs" } else { "" };
+    let rows: Vec<(&str, String, String)> = vec![
+        (
+            "class",
+            tg.map_or("–".into(), |e| e.convergence.label().to_string()),
+            ls.convergence.label().to_string(),
+        ),
+        (
+            "observed order",
+            opt(tg.and_then(|e| e.observed_order), 4),
+            opt(ls.order, 4),
+        ),
+        (
+            "extrapolated value",
+            opt(tg.and_then(|e| e.extrapolated), 7),
+            opt(selected.map(|f| f.phi0), 7),
+        ),
+        (
+            "uncertainty U of the finest mesh",
+            opt(tg.and_then(|e| e.uncertainty), 4),
+            opt(ls.per_mesh.first().map(|m| m.uncertainty), 4),
+        ),
+        (
+            "safety factor",
+            opt(tg.map(|e| e.safety_factor), 3),
+            sig(ls.safety_factor, 3),
+        ),
+        (
+            "fit",
+            "Richardson, three points".into(),
+            format!(
+                "{}{}",
+                ls.selected.kind.label(),
+                if ls.selected.weighted {
+                    ", weighted"
+                } else {
+                    ", unweighted"
+                }
+            ),
+        ),
+        (
+            "",
+            mark(matches!(
+                governing,
+                Some(Method::ThreeGrid | Method::OscillationRange)
+            ))
+            .into(),
+            mark(governing == Some(Method::LeastSquares)).into(),
+        ),
+    ];
+    for (k, x, y) in rows {
+        t.add_row(vec![k.to_string(), x, y]);
+    }
+    out.push_str(&format!("{t}\n"));
+    if a.warnings
+        .iter()
+        .any(|w| w.code == "estimates_disagree" && w.subject.as_deref() == Some(q.name.as_str()))
+    {
+        out.push_str(
+            "  The two estimates differ by more than a factor of two: the finest meshes are \
+             probably not in the asymptotic range, and neither figure should be quoted alone.\n",
+        );
+    }
+    out.push_str(&format!(
+        "  class from {}; data range Δφ = {}, error estimate ε = {}\n",
+        ls.convergence_basis,
+        sig(ls.data_range, 4),
+        sig(ls.error_estimate, 4)
+    ));
+    let mut t = grid(&["mesh", "value", "selected fit", "U (least squares)"]);
+    for (m, v) in ls.per_mesh.iter().zip(&q.values) {
+        t.add_row(vec![
+            m.mesh.clone(),
+            num(*v, 8),
+            sig(m.fit, 7),
+            sig(m.uncertainty, 4),
+        ]);
+    }
+    out.push_str(&format!("{t}\n"));
+    let mut t = grid(&[
+        "candidate fit",
+        "weighting",
+        "φ0",
+        "order",
+        "std. deviation",
+    ]);
+    for f in &ls.fits {
+        t.add_row(vec![
+            f.kind.label().to_string(),
+            if f.weighted { "1/h weights" } else { "equal" }.to_string(),
+            sig(f.phi0, 7),
+            opt(f.order, 4),
+            sig(f.std_dev, 3),
+        ]);
+    }
+    out.push_str(&format!("{t}\n"));
 }
 
 impl Exporter for Table {

@@ -345,6 +345,16 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         });
     }
     let _ = order;
+    if raw.settings.estimator == Some(EstimatorChoice::LeastSquares) && meshes.len() < 4 {
+        return Err(err(
+            "settings.estimator".into(),
+            find_line(text, 1, |l| l.trim_start().starts_with("estimator:")),
+            format!(
+                "`least_squares` needs at least four meshes; the study has {}: use `auto` or `three_grid`",
+                meshes.len()
+            ),
+        ));
+    }
     let gravity = raw
         .settings
         .gravity
