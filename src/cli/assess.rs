@@ -21,7 +21,7 @@ pub struct Args {
 /// Runs `assess`.
 pub fn run(args: Args) -> Result<(), Failure> {
     let study = crate::study::load(&args.study).map_err(|e| Failure::Input(e.to_string()))?;
-    let assessment = crate::assess::run(&study);
+    let assessment = crate::assess::run(&study).map_err(|e| Failure::Input(e.to_string()))?;
     let bytes = args.format.exporter().export(&assessment);
     write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()))
 }

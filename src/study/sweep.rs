@@ -5,6 +5,7 @@
 use super::num::{Finite, NonNegativeOrPercent};
 use super::StudyError;
 use crate::machine::{self, Mode, RawPoint};
+use crate::sweep::{DropRule, Interpolation, ReferenceKind};
 use indexmap::IndexMap;
 use serde::de::{self, Deserializer, MapAccess, SeqAccess, Visitor};
 use serde::Deserialize;
@@ -30,17 +31,6 @@ pub const MIN_POINTS: usize = 4;
 /// Most points read for one sweep on one mesh (a refusal, not a truncation).
 pub const MAX_POINTS: usize = 1_000_000;
 
-/// Interpolation between sweep points.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum InterpolationChoice {
-    /// Monotone piecewise-cubic Hermite (Fritsch & Carlson 1980).
-    #[default]
-    Pchip,
-    /// Straight lines between points.
-    Linear,
-}
-
 /// One sweep as written.
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -51,7 +41,7 @@ pub struct RawSweep {
     pub responses: Vec<String>,
     /// Interpolation between points.
     #[serde(default)]
-    pub interpolation: Option<InterpolationChoice>,
+    pub interpolation: Option<Interpolation>,
     /// Machine mode; when given, the data are raw monitors and head, efficiency, NPSH and σ
     /// are derived.
     #[serde(default)]
@@ -237,7 +227,7 @@ pub struct RawBand {
     pub at: Option<BandAt>,
     /// Interpolation for the band (default: the sweep's).
     #[serde(default)]
-    pub interpolation: Option<InterpolationChoice>,
+    pub interpolation: Option<Interpolation>,
 }
 
 /// One mesh's curve, sorted by increasing x.
@@ -261,14 +251,10 @@ pub struct BreakdownSpec {
     pub response: String,
     /// Index of the response in [`Sweep::responses`].
     pub response_index: usize,
-    /// The drop.
-    pub drop: f64,
-    /// Relative or absolute.
-    pub basis: DropBasis,
-    /// Reference kind.
-    pub reference: ReferenceChoice,
-    /// Plateau start for `Plateau`.
-    pub plateau_from: Option<f64>,
+    /// The drop and whether it is relative or absolute.
+    pub drop: DropRule,
+    /// The non-cavitating reference.
+    pub reference: ReferenceKind,
 }
 
 /// A checked band definition.
@@ -281,7 +267,7 @@ pub struct BandSpec {
     /// Where to evaluate.
     pub at: BandAt,
     /// Interpolation.
-    pub interpolation: InterpolationChoice,
+    pub interpolation: Interpolation,
 }
 
 /// A checked sweep: curves of the meshes it covers, finest first.
@@ -294,7 +280,7 @@ pub struct Sweep {
     /// Response names.
     pub responses: Vec<String>,
     /// Interpolation.
-    pub interpolation: InterpolationChoice,
+    pub interpolation: Interpolation,
     /// Machine mode when derived from raw monitors.
     pub mode: Option<Mode>,
     /// Indices into the study's meshes (finest first) of the meshes this sweep covers.
@@ -673,10 +659,17 @@ pub fn check(
             breakdown.push(BreakdownSpec {
                 response: b.response.clone(),
                 response_index: ri,
-                drop: b.drop.0,
-                basis,
-                reference,
-                plateau_from: b.plateau_from.map(|v| v.0),
+                drop: match basis {
+                    DropBasis::Relative => DropRule::Relative(b.drop.0),
+                    DropBasis::Absolute => DropRule::Absolute(b.drop.0),
+                },
+                reference: match reference {
+                    ReferenceChoice::Plateau => ReferenceKind::Plateau {
+                        from: b.plateau_from.map_or(f64::NAN, |v| v.0),
+                    },
+                    ReferenceChoice::Highest => ReferenceKind::Highest,
+                    ReferenceChoice::Value(v) => ReferenceKind::Value(v),
+                },
             });
         }
         let interpolation = s.interpolation.unwrap_or_default();

@@ -12,6 +12,8 @@ use crate::study::{Quantity, Study};
 use crate::warning::Warning;
 use serde::Serialize;
 
+pub mod sweep;
+
 /// The caution carried by every report.
 pub const CAUTION: &str =
     "Numerical (discretisation) uncertainty is not model-test acceptance and \
@@ -33,11 +35,13 @@ pub struct Assessment {
     /// Scalar quantities.
     pub quantities: Vec<QuantityResult>,
     /// Sweeps (curves per mesh).
-    pub sweeps: Vec<serde_json::Value>,
+    pub sweeps: Vec<sweep::SweepResult>,
     /// Warnings, each with a stable code.
     pub warnings: Vec<Warning>,
     /// The caution every report carries.
     pub caution: String,
+    /// Every file the study made meshbound read, the study file first.
+    pub files_read: Vec<String>,
 }
 
 /// The three-mesh estimate with the names of the meshes it used.
@@ -233,8 +237,9 @@ pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
     w
 }
 
-/// Assesses a whole study.
-pub fn run(study: &Study) -> Assessment {
+/// Assesses a whole study. Fails only where the data cannot give what the study asks for
+/// (for example a sweep that never reaches breakdown); the error names the file and key.
+pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
     let mut warnings = mesh_warnings(&study.meshes);
     let settings = ThreeGridSettings {
         safety_factor: study.settings.safety_factor,
@@ -256,14 +261,26 @@ pub fn run(study: &Study) -> Assessment {
             )
         })
         .collect();
-    Assessment {
+    let mut sweeps = Vec::new();
+    for s in &study.sweeps {
+        sweeps.push(sweep::assess_sweep(
+            s,
+            &study.meshes,
+            &settings,
+            study.settings.estimator,
+            &study.path,
+            &mut warnings,
+        )?);
+    }
+    Ok(Assessment {
         format: 1,
         title: study.title.clone(),
         study: study.path.display().to_string(),
         meshes: study.meshes.clone(),
         quantities,
-        sweeps: Vec::new(),
+        sweeps,
         warnings,
         caution: CAUTION.to_string(),
-    }
+        files_read: study.files_read.iter().map(|p| p.display().to_string()).collect(),
+    })
 }

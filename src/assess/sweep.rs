@@ -1,0 +1,377 @@
+//! Sweeps: the breakdown x and the reference of every mesh, each estimated like a scalar
+//! quantity, and the uncertainty band along a response curve at common abscissae.
+
+use super::{quantity, QuantityResult};
+use crate::estimate::three_grid::ThreeGridSettings;
+use crate::estimate::Convergence;
+use crate::grid::Mesh;
+use crate::machine::{DerivedPoint, Mode};
+use crate::study::raw::EstimatorChoice;
+use crate::study::sweep::{BandAt, Sweep};
+use crate::study::StudyError;
+use crate::sweep::{self, find_breakdown, DropRule, Interpolant, Interpolation, ReferenceKind};
+use crate::warning::Warning;
+use serde::Serialize;
+use std::path::Path;
+
+/// One mesh's curve as reported.
+#[derive(Debug, Clone, Serialize)]
+pub struct CurveResult {
+    /// Mesh name.
+    pub mesh: String,
+    /// Number of points.
+    pub points: usize,
+    /// Abscissa range [lowest, highest].
+    pub x_range: [f64; 2],
+    /// Abscissa values, increasing.
+    pub x: Vec<f64>,
+    /// Response values, one list per response, aligned with `x`.
+    pub responses: Vec<Vec<f64>>,
+    /// Derived machine quantities per point (raw sweeps only), aligned with `x`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub derived: Option<Vec<DerivedPoint>>,
+}
+
+/// One mesh's breakdown.
+#[derive(Debug, Clone, Serialize)]
+pub struct MeshBreakdown {
+    /// Mesh name.
+    pub mesh: String,
+    /// Breakdown abscissa.
+    pub x: f64,
+    /// Non-cavitating reference of the response.
+    pub reference: f64,
+    /// Threshold the response fell below.
+    pub threshold: f64,
+    /// Sweep points either side of the crossing [below, at or above].
+    pub bracket: [f64; 2],
+    /// Points averaged for a plateau reference.
+    pub points_in_plateau: Option<usize>,
+}
+
+/// A breakdown definition and its results.
+#[derive(Debug, Clone, Serialize)]
+pub struct BreakdownResult {
+    /// The response.
+    pub response: String,
+    /// The drop rule.
+    pub drop: DropRule,
+    /// The reference rule.
+    pub reference_rule: ReferenceKind,
+    /// Per mesh, finest first.
+    pub per_mesh: Vec<MeshBreakdown>,
+    /// The breakdown abscissa as a quantity over the meshes (name `<sweep>.breakdown.<response>`).
+    pub breakdown: QuantityResult,
+    /// The reference as a quantity over the meshes (name `<sweep>.reference.<response>`).
+    pub reference: QuantityResult,
+}
+
+/// One point of an uncertainty band.
+#[derive(Debug, Clone, Serialize)]
+pub struct BandPoint {
+    /// Abscissa.
+    pub x: f64,
+    /// Finest mesh's interpolated value.
+    pub value: f64,
+    /// Extrapolated value (`None` when it does not exist).
+    pub extrapolated: Option<f64>,
+    /// Observed order of the governing estimate.
+    pub order: Option<f64>,
+    /// Absolute uncertainty (`None` when divergent).
+    pub uncertainty: Option<f64>,
+    /// value − U.
+    pub lower: Option<f64>,
+    /// value + U.
+    pub upper: Option<f64>,
+    /// Convergence class.
+    pub class: Option<Convergence>,
+}
+
+/// Counts and shares of the convergence classes along a band.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct ClassCounts {
+    /// Monotonic points.
+    pub monotonic: usize,
+    /// Oscillatory points.
+    pub oscillatory: usize,
+    /// Divergent points.
+    pub divergent: usize,
+    /// Points without change.
+    pub no_change: usize,
+    /// Points without an estimate.
+    pub none: usize,
+}
+
+/// Summary of a band.
+#[derive(Debug, Clone, Serialize)]
+pub struct BandSummary {
+    /// Number of points.
+    pub points: usize,
+    /// Points per class.
+    pub classes: ClassCounts,
+    /// Share of monotonic points, 0–1.
+    pub share_monotonic: f64,
+    /// Share of oscillatory points.
+    pub share_oscillatory: f64,
+    /// Share of divergent points.
+    pub share_divergent: f64,
+    /// Mean of U/|value| over points with an uncertainty and a nonzero value.
+    pub mean_relative: Option<f64>,
+    /// Largest U/|value|.
+    pub max_relative: Option<f64>,
+    /// Abscissa of the largest relative uncertainty.
+    pub max_relative_at: Option<f64>,
+    /// Average observed order over points with an order (Celik et al. 2008 report the average
+    /// order along a profile).
+    pub mean_order: Option<f64>,
+}
+
+/// The band along one response.
+#[derive(Debug, Clone, Serialize)]
+pub struct BandResult {
+    /// The response.
+    pub response: String,
+    /// Interpolation used to bring every mesh to the common abscissae.
+    pub interpolation: Interpolation,
+    /// `fine` or `values`.
+    pub at: &'static str,
+    /// The points, increasing x.
+    pub points: Vec<BandPoint>,
+    /// Summary.
+    pub summary: BandSummary,
+}
+
+/// A sweep's results.
+#[derive(Debug, Clone, Serialize)]
+pub struct SweepResult {
+    /// Sweep name.
+    pub name: String,
+    /// Abscissa name.
+    pub x: String,
+    /// Response names.
+    pub responses: Vec<String>,
+    /// Interpolation used for breakdowns.
+    pub interpolation: Interpolation,
+    /// Machine mode of a raw sweep.
+    pub mode: Option<Mode>,
+    /// Meshes covered, finest first.
+    pub meshes: Vec<String>,
+    /// Common abscissa range of all meshes [lowest, highest].
+    pub overlap: [f64; 2],
+    /// Curves, finest first.
+    pub curves: Vec<CurveResult>,
+    /// Breakdowns.
+    pub breakdown: Vec<BreakdownResult>,
+    /// Band.
+    pub band: Option<BandResult>,
+}
+
+fn input_error(file: &Path, key: String, message: String) -> StudyError {
+    StudyError {
+        file: file.to_path_buf(),
+        key,
+        line: None,
+        column: None,
+        message,
+    }
+}
+
+/// Assesses one sweep over its meshes (`meshes` are the study's meshes, finest first).
+pub fn assess_sweep(
+    s: &Sweep,
+    meshes: &[Mesh],
+    settings: &ThreeGridSettings,
+    estimator: EstimatorChoice,
+    file: &Path,
+    warnings: &mut Vec<Warning>,
+) -> Result<SweepResult, StudyError> {
+    let sub: Vec<Mesh> = s.mesh_indices.iter().map(|&i| meshes[i].clone()).collect();
+    let ranges: Vec<(f64, f64)> = s.curves.iter().map(|c| (c.x[0], c.x[c.x.len() - 1])).collect();
+    let (lo, hi) = sweep::overlap(&ranges).ok_or_else(|| {
+        input_error(file, format!("sweeps.{}.data", s.name), "the meshes' ranges do not overlap".into())
+    })?;
+    let mut breakdown = Vec::new();
+    for (bi, b) in s.breakdown.iter().enumerate() {
+        let key = format!("sweeps.{}.breakdown[{bi}]", s.name);
+        let mut per_mesh = Vec::new();
+        for c in &s.curves {
+            let y = &c.responses[b.response_index];
+            let r = find_breakdown(&c.x, y, &b.reference, &b.drop, s.interpolation).map_err(|e| {
+                input_error(file, key.clone(), format!("mesh `{}`, response `{}`: {e}", c.mesh, b.response))
+            })?;
+            per_mesh.push(MeshBreakdown {
+                mesh: c.mesh.clone(),
+                x: r.x,
+                reference: r.reference,
+                threshold: r.threshold,
+                bracket: [r.bracket.0, r.bracket.1],
+                points_in_plateau: r.points_in_plateau,
+            });
+        }
+        let bx: Vec<f64> = per_mesh.iter().map(|m| m.x).collect();
+        let refs: Vec<f64> = per_mesh.iter().map(|m| m.reference).collect();
+        let bname = format!("{}.breakdown.{}", s.name, b.response);
+        let rname = format!("{}.reference.{}", s.name, b.response);
+        breakdown.push(BreakdownResult {
+            response: b.response.clone(),
+            drop: b.drop,
+            reference_rule: b.reference,
+            per_mesh,
+            breakdown: quantity(&bname, Some(&s.x), &sub, &bx, settings, estimator, warnings),
+            reference: quantity(&rname, None, &sub, &refs, settings, estimator, warnings),
+        });
+    }
+    let band = match &s.band {
+        Some(b) => Some(band(s, b, &sub, (lo, hi), settings, estimator, file, warnings)?),
+        None => None,
+    };
+    Ok(SweepResult {
+        name: s.name.clone(),
+        x: s.x.clone(),
+        responses: s.responses.clone(),
+        interpolation: s.interpolation,
+        mode: s.mode,
+        meshes: sub.iter().map(|m| m.name.clone()).collect(),
+        overlap: [lo, hi],
+        curves: s
+            .curves
+            .iter()
+            .map(|c| CurveResult {
+                mesh: c.mesh.clone(),
+                points: c.x.len(),
+                x_range: [c.x[0], c.x[c.x.len() - 1]],
+                x: c.x.clone(),
+                responses: c.responses.clone(),
+                derived: c.derived.clone(),
+            })
+            .collect(),
+        breakdown,
+        band,
+    })
+}
+
+#[allow(clippy::too_many_arguments)]
+fn band(
+    s: &Sweep,
+    b: &crate::study::sweep::BandSpec,
+    sub: &[Mesh],
+    (lo, hi): (f64, f64),
+    settings: &ThreeGridSettings,
+    estimator: EstimatorChoice,
+    file: &Path,
+    warnings: &mut Vec<Warning>,
+) -> Result<BandResult, StudyError> {
+    let key = format!("sweeps.{}.band", s.name);
+    let interps: Vec<Interpolant> = s
+        .curves
+        .iter()
+        .map(|c| Interpolant::new(&c.x, &c.responses[b.response_index], b.interpolation))
+        .collect::<Result<_, _>>()
+        .map_err(|e| input_error(file, key.clone(), e.to_string()))?;
+    let xs: Vec<f64> = match &b.at {
+        BandAt::Fine => {
+            let ranges: Vec<(f64, f64)> = s.curves.iter().map(|c| (c.x[0], c.x[c.x.len() - 1])).collect();
+            sweep::common_abscissae(&ranges, &s.curves[0].x)
+        }
+        BandAt::Values(v) => {
+            if let Some(bad) = v.iter().find(|x| **x < lo || **x > hi) {
+                return Err(input_error(
+                    file,
+                    format!("{key}.at"),
+                    format!("{bad} lies outside the range common to all meshes, {lo} to {hi}"),
+                ));
+            }
+            let mut v = v.clone();
+            v.sort_by(f64::total_cmp);
+            v.dedup();
+            v
+        }
+    };
+    let mut points = Vec::with_capacity(xs.len());
+    let mut classes = ClassCounts::default();
+    let mut rel_sum = 0.0;
+    let mut rel_n = 0usize;
+    let mut max_rel: Option<(f64, f64)> = None;
+    let mut order_sum = 0.0;
+    let mut order_n = 0usize;
+    let mut point_warnings = Vec::new();
+    for &x in &xs {
+        let values: Option<Vec<f64>> = interps.iter().map(|f| f.eval(x)).collect();
+        let Some(values) = values else { continue };
+        let q = quantity("", None, sub, &values, settings, estimator, &mut point_warnings);
+        let (extrapolated, order) = match (&q.least_squares, &q.three_grid) {
+            (Some(ls), _) if q.uncertainty.as_ref().map(|u| u.method) == Some(super::Method::LeastSquares) => {
+                (ls.selected_fit().map(|f| f.phi0), ls.order)
+            }
+            (_, Some(tg)) => (tg.estimate.extrapolated, tg.estimate.observed_order),
+            _ => (None, None),
+        };
+        match q.convergence {
+            Some(Convergence::Monotonic) => classes.monotonic += 1,
+            Some(Convergence::Oscillatory) => classes.oscillatory += 1,
+            Some(Convergence::Divergent) => classes.divergent += 1,
+            Some(Convergence::NoChange) => classes.no_change += 1,
+            None => classes.none += 1,
+        }
+        if let Some(p) = order {
+            order_sum += p;
+            order_n += 1;
+        }
+        let u = q.uncertainty.as_ref().map(|u| u.absolute);
+        if let (Some(u), true) = (u, values[0] != 0.0) {
+            let r = u / values[0].abs();
+            rel_sum += r;
+            rel_n += 1;
+            if max_rel.is_none_or(|(m, _)| r > m) {
+                max_rel = Some((r, x));
+            }
+        }
+        points.push(BandPoint {
+            x,
+            value: values[0],
+            extrapolated,
+            order,
+            uncertainty: u,
+            lower: u.map(|u| values[0] - u),
+            upper: u.map(|u| values[0] + u),
+            class: q.convergence,
+        });
+    }
+    if points.is_empty() {
+        return Err(input_error(file, key, "no common abscissa inside the range of all meshes: the band is empty".into()));
+    }
+    let n = points.len() as f64;
+    if classes.divergent > 0 {
+        warnings.push(
+            Warning::new(
+                "band_divergent_points",
+                format!(
+                    "{} of {} band points diverge: no uncertainty is given there",
+                    classes.divergent,
+                    points.len()
+                ),
+            )
+            .about(&format!("{}.band.{}", s.name, b.response)),
+        );
+    }
+    Ok(BandResult {
+        response: b.response.clone(),
+        interpolation: b.interpolation,
+        at: match b.at {
+            BandAt::Fine => "fine",
+            BandAt::Values(_) => "values",
+        },
+        summary: BandSummary {
+            points: points.len(),
+            share_monotonic: classes.monotonic as f64 / n,
+            share_oscillatory: classes.oscillatory as f64 / n,
+            share_divergent: classes.divergent as f64 / n,
+            classes,
+            mean_relative: (rel_n > 0).then(|| rel_sum / rel_n as f64),
+            max_relative: max_rel.map(|m| m.0),
+            max_relative_at: max_rel.map(|m| m.1),
+            mean_order: (order_n > 0).then(|| order_sum / order_n as f64),
+        },
+        points,
+    })
+}
