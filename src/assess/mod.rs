@@ -281,6 +281,10 @@ pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
         sweeps,
         warnings,
         caution: CAUTION.to_string(),
-        files_read: study.files_read.iter().map(|p| p.display().to_string()).collect(),
+        files_read: study
+            .files_read
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect(),
     })
 }

@@ -54,16 +54,18 @@ pub struct MeshBreakdown {
 pub struct BreakdownResult {
     /// The response.
     pub response: String,
-    /// The drop rule.
-    pub drop: DropRule,
+    /// The drop: a fraction of the reference when `relative`, else in the response's unit.
+    pub drop: f64,
+    /// Whether the drop is relative to the reference.
+    pub relative: bool,
     /// The reference rule.
     pub reference_rule: ReferenceKind,
     /// Per mesh, finest first.
     pub per_mesh: Vec<MeshBreakdown>,
     /// The breakdown abscissa as a quantity over the meshes (name `<sweep>.breakdown.<response>`).
-    pub breakdown: QuantityResult,
+    pub x_estimate: QuantityResult,
     /// The reference as a quantity over the meshes (name `<sweep>.reference.<response>`).
-    pub reference: QuantityResult,
+    pub reference_estimate: QuantityResult,
 }
 
 /// One point of an uncertainty band.
@@ -78,13 +80,13 @@ pub struct BandPoint {
     /// Observed order of the governing estimate.
     pub order: Option<f64>,
     /// Absolute uncertainty (`None` when divergent).
-    pub uncertainty: Option<f64>,
+    pub absolute: Option<f64>,
     /// value − U.
     pub lower: Option<f64>,
     /// value + U.
     pub upper: Option<f64>,
     /// Convergence class.
-    pub class: Option<Convergence>,
+    pub convergence: Option<Convergence>,
 }
 
 /// Counts and shares of the convergence classes along a band.
@@ -186,9 +188,17 @@ pub fn assess_sweep(
     warnings: &mut Vec<Warning>,
 ) -> Result<SweepResult, StudyError> {
     let sub: Vec<Mesh> = s.mesh_indices.iter().map(|&i| meshes[i].clone()).collect();
-    let ranges: Vec<(f64, f64)> = s.curves.iter().map(|c| (c.x[0], c.x[c.x.len() - 1])).collect();
+    let ranges: Vec<(f64, f64)> = s
+        .curves
+        .iter()
+        .map(|c| (c.x[0], c.x[c.x.len() - 1]))
+        .collect();
     let (lo, hi) = sweep::overlap(&ranges).ok_or_else(|| {
-        input_error(file, format!("sweeps.{}.data", s.name), "the meshes' ranges do not overlap".into())
+        input_error(
+            file,
+            format!("sweeps.{}.data", s.name),
+            "the meshes' ranges do not overlap".into(),
+        )
     })?;
     let mut breakdown = Vec::new();
     for (bi, b) in s.breakdown.iter().enumerate() {
@@ -196,9 +206,14 @@ pub fn assess_sweep(
         let mut per_mesh = Vec::new();
         for c in &s.curves {
             let y = &c.responses[b.response_index];
-            let r = find_breakdown(&c.x, y, &b.reference, &b.drop, s.interpolation).map_err(|e| {
-                input_error(file, key.clone(), format!("mesh `{}`, response `{}`: {e}", c.mesh, b.response))
-            })?;
+            let r =
+                find_breakdown(&c.x, y, &b.reference, &b.drop, s.interpolation).map_err(|e| {
+                    input_error(
+                        file,
+                        key.clone(),
+                        format!("mesh `{}`, response `{}`: {e}", c.mesh, b.response),
+                    )
+                })?;
             per_mesh.push(MeshBreakdown {
                 mesh: c.mesh.clone(),
                 x: r.x,
@@ -214,15 +229,27 @@ pub fn assess_sweep(
         let rname = format!("{}.reference.{}", s.name, b.response);
         breakdown.push(BreakdownResult {
             response: b.response.clone(),
-            drop: b.drop,
+            drop: match b.drop {
+                DropRule::Relative(v) | DropRule::Absolute(v) => v,
+            },
+            relative: matches!(b.drop, DropRule::Relative(_)),
             reference_rule: b.reference,
             per_mesh,
-            breakdown: quantity(&bname, Some(&s.x), &sub, &bx, settings, estimator, warnings),
-            reference: quantity(&rname, None, &sub, &refs, settings, estimator, warnings),
+            x_estimate: quantity(&bname, Some(&s.x), &sub, &bx, settings, estimator, warnings),
+            reference_estimate: quantity(&rname, None, &sub, &refs, settings, estimator, warnings),
         });
     }
     let band = match &s.band {
-        Some(b) => Some(band(s, b, &sub, (lo, hi), settings, estimator, file, warnings)?),
+        Some(b) => Some(band(
+            s,
+            b,
+            &sub,
+            (lo, hi),
+            settings,
+            estimator,
+            file,
+            warnings,
+        )?),
         None => None,
     };
     Ok(SweepResult {
@@ -270,7 +297,11 @@ fn band(
         .map_err(|e| input_error(file, key.clone(), e.to_string()))?;
     let xs: Vec<f64> = match &b.at {
         BandAt::Fine => {
-            let ranges: Vec<(f64, f64)> = s.curves.iter().map(|c| (c.x[0], c.x[c.x.len() - 1])).collect();
+            let ranges: Vec<(f64, f64)> = s
+                .curves
+                .iter()
+                .map(|c| (c.x[0], c.x[c.x.len() - 1]))
+                .collect();
             sweep::common_abscissae(&ranges, &s.curves[0].x)
         }
         BandAt::Values(v) => {
@@ -298,9 +329,20 @@ fn band(
     for &x in &xs {
         let values: Option<Vec<f64>> = interps.iter().map(|f| f.eval(x)).collect();
         let Some(values) = values else { continue };
-        let q = quantity("", None, sub, &values, settings, estimator, &mut point_warnings);
+        let q = quantity(
+            "",
+            None,
+            sub,
+            &values,
+            settings,
+            estimator,
+            &mut point_warnings,
+        );
         let (extrapolated, order) = match (&q.least_squares, &q.three_grid) {
-            (Some(ls), _) if q.uncertainty.as_ref().map(|u| u.method) == Some(super::Method::LeastSquares) => {
+            (Some(ls), _)
+                if q.uncertainty.as_ref().map(|u| u.method)
+                    == Some(super::Method::LeastSquares) =>
+            {
                 (ls.selected_fit().map(|f| f.phi0), ls.order)
             }
             (_, Some(tg)) => (tg.estimate.extrapolated, tg.estimate.observed_order),
@@ -331,14 +373,18 @@ fn band(
             value: values[0],
             extrapolated,
             order,
-            uncertainty: u,
+            absolute: u,
             lower: u.map(|u| values[0] - u),
             upper: u.map(|u| values[0] + u),
-            class: q.convergence,
+            convergence: q.convergence,
         });
     }
     if points.is_empty() {
-        return Err(input_error(file, key, "no common abscissa inside the range of all meshes: the band is empty".into()));
+        return Err(input_error(
+            file,
+            key,
+            "no common abscissa inside the range of all meshes: the band is empty".into(),
+        ));
     }
     let n = points.len() as f64;
     if classes.divergent > 0 {

@@ -43,6 +43,20 @@ pub fn num(v: f64, max_sig: usize) -> String {
     }
 }
 
+/// A value and its uncertainty, the value rounded to the last digit shown of U (three
+/// significant digits of U): 0.16400230 ± 0.0091276 → ("0.16400", "0.00913").
+pub fn with_uncertainty(v: f64, u: f64) -> (String, String) {
+    if !(v.is_finite() && u.is_finite()) || u <= 0.0 {
+        return (num(v, 8), sig(u, 3));
+    }
+    let mag = u.log10().floor() as i32;
+    if !(-4..=6).contains(&mag) || v.abs() >= 1e9 {
+        return (sig(v, 8), sig(u, 3));
+    }
+    let decimals = (2 - mag).max(0) as usize;
+    (format!("{v:.decimals$}"), format!("{u:.decimals$}"))
+}
+
 /// A fraction as a percentage with three significant digits: 0.00412 → "0.412 %".
 pub fn percent(v: f64) -> String {
     format!("{} %", sig(v * 100.0, 3))
@@ -72,6 +86,14 @@ mod tests {
         assert_eq!(percent(0.004123), "0.412 %");
         assert_eq!(opt(None, 3), "–");
         assert_eq!(num(18000.0, 6), "18000");
+        assert_eq!(
+            with_uncertainty(0.16400230, 0.0091276),
+            ("0.16400".to_string(), "0.00913".to_string())
+        );
+        assert_eq!(
+            with_uncertainty(61.42, 0.31036),
+            ("61.420".to_string(), "0.310".to_string())
+        );
         assert_eq!(num(6.063, 7), "6.063");
         assert_eq!(num(6.168495572330159, 7), "6.168496");
     }

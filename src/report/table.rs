@@ -1,6 +1,6 @@
 //! Tables for people, built with comfy-table. Only formats the assessment.
 
-use super::format::{num, opt, opt_percent, percent, sig};
+use super::format::{num, opt, opt_percent, percent, sig, with_uncertainty};
 use super::Exporter;
 use crate::assess::{Assessment, Method, QuantityResult};
 use comfy_table::{presets, CellAlignment, ContentArrangement, Table as Grid, TableComponent};
@@ -38,11 +38,8 @@ pub fn statement(q: &QuantityResult) -> String {
             let rel = u
                 .relative
                 .map_or_else(|| "value is zero".to_string(), percent);
-            format!(
-                "{} ± {} ({rel}) · {class} · from the {how}",
-                num(u.value, 8),
-                sig(u.absolute, 3)
-            )
+            let (v, a) = with_uncertainty(u.value, u.absolute);
+            format!("{v} ± {a} ({rel}) · {class} · from the {how}")
         }
         None => format!(
             "{} · {class} · no discretisation uncertainty can be claimed",
@@ -216,6 +213,118 @@ fn least_squares_block(
     out.push_str(&format!("{t}\n"));
 }
 
+/// The usual symbol of a quantity name in hydraulic machinery, or the name itself.
+pub fn symbol(name: &str) -> &str {
+    match name {
+        "sigma" => "σ",
+        "efficiency" => "η",
+        "head" => "H",
+        "npsh" => "NPSH",
+        other => other,
+    }
+}
+
+/// Describes a breakdown rule in words.
+pub fn breakdown_rule(b: &crate::assess::sweep::BreakdownResult, x: &str) -> String {
+    use crate::sweep::ReferenceKind;
+    let drop = if b.relative {
+        format!("{} drop", percent(b.drop))
+    } else {
+        format!("drop of {}", num(b.drop, 6))
+    };
+    let reference = match b.reference_rule {
+        ReferenceKind::Plateau { from } => {
+            format!("the plateau mean ({} ≥ {})", symbol(x), num(from, 6))
+        }
+        ReferenceKind::Highest => format!("the value at the highest {}", symbol(x)),
+        ReferenceKind::Value(v) => format!("the given value {}", num(v, 8)),
+    };
+    format!("{drop} of {} below {reference}", b.response)
+}
+
+fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
+    out.push_str(&format!(
+        "\nsweep {} — {} along {}, {} interpolation, meshes {}{}\n",
+        s.name,
+        s.responses.join(", "),
+        s.x,
+        s.interpolation.label(),
+        s.meshes.join(", "),
+        s.mode.map_or(String::new(), |m| format!(
+            ", derived from raw monitors in {} mode",
+            m.label()
+        ))
+    ));
+    for b in &s.breakdown {
+        out.push_str(&format!("\n  breakdown: {}\n", breakdown_rule(b, &s.x)));
+        out.push_str(&format!(
+            "    {}_b = {}\n",
+            symbol(&s.x),
+            statement(&b.x_estimate)
+        ));
+        out.push_str(&format!(
+            "    reference {} = {}\n",
+            symbol(&b.response),
+            statement(&b.reference_estimate)
+        ));
+        let mut t = grid(&[
+            "mesh",
+            "reference",
+            "threshold",
+            &format!("breakdown {}", s.x),
+        ]);
+        for m in &b.per_mesh {
+            t.add_row(vec![
+                m.mesh.clone(),
+                sig(m.reference, 6),
+                sig(m.threshold, 6),
+                sig(m.x, 5),
+            ]);
+        }
+        out.push_str(&format!("{t}\n"));
+    }
+    if let Some(band) = &s.band {
+        let sm = &band.summary;
+        out.push_str(&format!(
+            "\n  band of {} along {} ({} points, {} interpolation): {} monotonic, {} oscillatory, {} divergent; \
+             mean relative U {}, largest {}{}; mean observed order {}\n",
+            band.response,
+            s.x,
+            sm.points,
+            band.interpolation.label(),
+            percent(sm.share_monotonic),
+            percent(sm.share_oscillatory),
+            percent(sm.share_divergent),
+            opt_percent(sm.mean_relative),
+            opt_percent(sm.max_relative),
+            sm.max_relative_at.map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6))),
+            opt(sm.mean_order, 3),
+        ));
+        let mut t = grid(&[s.x.as_str(), "value", "± U", "lower", "upper", "class"]);
+        let n = band.points.len();
+        let step = n.div_ceil(16).max(1);
+        for (i, p) in band.points.iter().enumerate() {
+            if i % step != 0 && i + 1 != n {
+                continue;
+            }
+            t.add_row(vec![
+                num(p.x, 6),
+                sig(p.value, 6),
+                opt(p.absolute, 3),
+                opt(p.lower, 6),
+                opt(p.upper, 6),
+                p.convergence.map_or("–", |c| c.label()).to_string(),
+            ]);
+        }
+        out.push_str(&format!("{t}\n"));
+        if step > 1 {
+            out.push_str(&format!(
+                "  every {step}th point shown; all {n} are in the JSON and CSV outputs\n"
+            ));
+        }
+    }
+}
+
 impl Exporter for Table {
     fn export(&self, a: &Assessment) -> Vec<u8> {
         let mut out = String::new();
@@ -237,6 +346,9 @@ impl Exporter for Table {
         out.push_str(&format!("meshes, finest first\n{t}\n"));
         for q in &a.quantities {
             quantity_block(a, q, &mut out);
+        }
+        for s in &a.sweeps {
+            sweep_block(s, &mut out);
         }
         if !a.warnings.is_empty() {
             out.push_str("\nwarnings\n");
