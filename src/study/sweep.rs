@@ -575,7 +575,7 @@ pub fn check(
             let mut order: Vec<usize> = (0..n).collect();
             order.sort_by(|&a, &b| x[a].total_cmp(&x[b]));
             for w in order.windows(2) {
-                if x[w[0]] == x[w[1]] {
+                if x[w[0]].total_cmp(&x[w[1]]).is_eq() {
                     return Err(ctx.err(key.clone(), format!(
                         "`{}` = {} appears twice (points {} and {}, counting from 1): the abscissa must be strictly monotone",
                         s.x, x[w[0]], w[0].min(w[1]) + 1, w[0].max(w[1]) + 1
@@ -589,7 +589,7 @@ pub fn check(
                     .iter()
                     .map(|y| order.iter().map(|&i| y[i]).collect())
                     .collect(),
-                derived: derived.map(|d| order.iter().map(|&i| d[i].clone()).collect()),
+                derived: derived.map(|d| order.iter().map(|&i| d[i]).collect()),
             });
             mesh_indices.push(mi);
         }
