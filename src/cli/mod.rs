@@ -4,6 +4,7 @@
 //! wrong (nothing is written); 3 an output could not be written.
 
 pub mod assess;
+pub mod water;
 
 use clap::{Parser, Subcommand};
 
@@ -43,12 +44,15 @@ pub struct Cli {
 pub enum Command {
     /// Estimate the discretisation uncertainty of every quantity of a study.
     Assess(assess::Args),
+    /// Water properties (IAPWS-IF97) and the pressure that gives a target Thoma number.
+    Water(water::Args),
 }
 
 /// Runs the parsed command line.
 pub fn run(cli: Cli) -> Result<(), Failure> {
     match cli.command {
         Command::Assess(a) => assess::run(a),
+        Command::Water(a) => water::run(a),
     }
 }
 
