@@ -13,9 +13,11 @@
 pub mod assess;
 pub mod cli;
 pub mod estimate;
+pub mod gate;
 pub mod grid;
 pub mod machine;
 pub mod output;
+pub mod plan;
 pub mod report;
 pub mod study;
 pub mod sweep;

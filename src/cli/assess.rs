@@ -1,27 +1,107 @@
-//! `meshbound assess STUDY`: estimate every quantity of a study and print or write the result.
+//! `meshbound assess STUDY…`: estimate every quantity of one or many studies (files or
+//! directories searched for `*.yaml`/`*.yml`) and print or write the result. A broken study is
+//! reported and the others still run; the exit status is then 2.
 
-use super::Failure;
+use super::{batch, Failure};
 use crate::output::write_atomic;
 use crate::report::Format;
 use std::path::PathBuf;
 
+/// Output formats of `assess`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum AssessFormat {
+    /// Tables for people (default).
+    Table,
+    /// The JSON result (the contract): one object for one study, an array for several.
+    Json,
+    /// One JSON result object per line, one line per study (a broken study gives
+    /// `{"study": …, "error": …}`).
+    Jsonl,
+}
+
+impl AssessFormat {
+    fn exporter(self) -> Option<Format> {
+        match self {
+            AssessFormat::Table => Some(Format::Table),
+            AssessFormat::Json | AssessFormat::Jsonl => None,
+        }
+    }
+}
+
 /// Options of `assess`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// The study file (YAML).
-    pub study: PathBuf,
+    /// Study files (YAML) or directories holding them.
+    #[arg(required = true, num_args = 1..)]
+    pub studies: Vec<PathBuf>,
     /// Output format.
-    #[arg(long, short = 'f', value_enum, default_value_t = Format::Table)]
-    pub format: Format,
+    #[arg(long, short = 'f', value_enum, default_value_t = AssessFormat::Table)]
+    pub format: AssessFormat,
     /// Write to this file (atomically) instead of standard output; `-` is standard output.
     #[arg(long, short = 'o', default_value = "-")]
     pub output: PathBuf,
 }
 
+/// Reads, checks and assesses one study.
+pub fn assess_one(path: &std::path::Path) -> Result<crate::assess::Assessment, String> {
+    let study = crate::study::load(path).map_err(|e| e.to_string())?;
+    crate::assess::run(&study).map_err(|e| e.to_string())
+}
+
 /// Runs `assess`.
 pub fn run(args: Args) -> Result<(), Failure> {
-    let study = crate::study::load(&args.study).map_err(|e| Failure::Input(e.to_string()))?;
-    let assessment = crate::assess::run(&study).map_err(|e| Failure::Input(e.to_string()))?;
-    let bytes = args.format.exporter().export(&assessment);
-    write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()))
+    let paths = batch::expand(&args.studies)?;
+    let results = batch::run_all(&paths, assess_one);
+    let broken = results.iter().filter(|r| r.is_err()).count();
+    if paths.len() == 1 {
+        // One study: its output or its error, nothing partial.
+        let a = match results.into_iter().next() {
+            Some(Ok(a)) => a,
+            Some(Err(e)) => return Err(Failure::Input(e)),
+            None => return Ok(()),
+        };
+        let bytes = match args.format.exporter() {
+            Some(f) => f.exporter().export(&a),
+            None => crate::report::json::Json.export_one(&a, args.format == AssessFormat::Jsonl),
+        };
+        return write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()));
+    }
+    let mut bytes = Vec::new();
+    let mut oks = Vec::new();
+    for (p, r) in paths.iter().zip(&results) {
+        match r {
+            Ok(a) => match args.format {
+                AssessFormat::Jsonl => bytes.extend(crate::report::json::Json.export_one(a, true)),
+                AssessFormat::Json => oks.push(a),
+                f => {
+                    if let Some(x) = f.exporter() {
+                        if !bytes.is_empty() {
+                            bytes.extend_from_slice(b"\n");
+                        }
+                        bytes.extend(x.exporter().export(a));
+                    }
+                }
+            },
+            Err(e) => {
+                eprintln!("error: {e}");
+                if args.format == AssessFormat::Jsonl {
+                    let line = serde_json::json!({"study": p.display().to_string(), "error": e});
+                    bytes.extend(line.to_string().into_bytes());
+                    bytes.push(b'\n');
+                }
+            }
+        }
+    }
+    if args.format == AssessFormat::Json {
+        bytes = serde_json::to_vec_pretty(&oks).map_err(|e| Failure::Output(e.to_string()))?;
+        bytes.push(b'\n');
+    }
+    write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()))?;
+    if broken > 0 {
+        return Err(Failure::Input(format!(
+            "{broken} of {} studies could not be assessed",
+            paths.len()
+        )));
+    }
+    Ok(())
 }

@@ -4,6 +4,9 @@
 //! wrong (nothing is written); 3 an output could not be written.
 
 pub mod assess;
+pub mod batch;
+pub mod gate;
+pub mod plan;
 pub mod water;
 
 use clap::{Parser, Subcommand};
@@ -44,6 +47,10 @@ pub struct Cli {
 pub enum Command {
     /// Estimate the discretisation uncertainty of every quantity of a study.
     Assess(assess::Args),
+    /// Check the acceptance limits of studies: exit 0 all hold, 1 one fails, 2 bad input.
+    Gate(gate::Args),
+    /// Plan meshes: a family from one mesh, or the mesh a target uncertainty needs.
+    Plan(plan::Args),
     /// Water properties (IAPWS-IF97) and the pressure that gives a target Thoma number.
     Water(water::Args),
 }
@@ -53,6 +60,8 @@ pub fn run(cli: Cli) -> Result<(), Failure> {
     match cli.command {
         Command::Assess(a) => assess::run(a),
         Command::Water(a) => water::run(a),
+        Command::Plan(a) => plan::run(a),
+        Command::Gate(a) => gate::run(a),
     }
 }
 

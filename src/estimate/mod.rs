@@ -5,10 +5,10 @@
 pub mod least_squares;
 pub mod three_grid;
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// Convergence class of a quantity over a set of meshes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Convergence {
     /// Differences shrink with refinement and keep their sign.

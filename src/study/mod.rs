@@ -98,6 +98,8 @@ pub struct Study {
     pub settings: Settings,
     /// Every file the study made meshbound read, the study file first.
     pub files_read: Vec<PathBuf>,
+    /// Acceptance limits for `gate`.
+    pub acceptance: Vec<raw::RawAcceptance>,
 }
 
 /// Reads and checks a study file.
@@ -345,6 +347,19 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         });
     }
     let _ = order;
+    for (i, a) in raw.acceptance.iter().enumerate() {
+        if a.max_relative.is_none()
+            && a.max_absolute.is_none()
+            && a.require.is_none()
+            && a.min_meshes.is_none()
+        {
+            return Err(err(
+                format!("acceptance[{i}]"),
+                find_line(text, 1, |l| l.contains(&format!("target: {}", a.target))),
+                format!("the limit for `{}` sets nothing: give max_relative, max_absolute, require or min_meshes", a.target),
+            ));
+        }
+    }
     if raw.settings.estimator == Some(EstimatorChoice::LeastSquares) && meshes.len() < 4 {
         return Err(err(
             "settings.estimator".into(),
@@ -390,6 +405,7 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         },
         sweeps,
         files_read,
+        acceptance: raw.acceptance.clone(),
     })
 }
 

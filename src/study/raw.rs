@@ -31,6 +31,30 @@ pub struct RawStudy {
     /// Settings of the estimators.
     #[serde(default)]
     pub settings: RawSettings,
+    /// Acceptance limits that `gate` checks.
+    #[serde(default)]
+    pub acceptance: Vec<RawAcceptance>,
+}
+
+/// One acceptance limit as written.
+#[derive(Debug, Clone, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawAcceptance {
+    /// A quantity, `<sweep>.breakdown.<response>`, `<sweep>.reference.<response>` or
+    /// `<field>.<column>`.
+    pub target: String,
+    /// Largest relative uncertainty allowed (a fraction or `0.5%`).
+    #[serde(default)]
+    pub max_relative: Option<super::num::NonNegativeOrPercent>,
+    /// Largest absolute uncertainty allowed, in the target's unit.
+    #[serde(default)]
+    pub max_absolute: Option<super::num::NonNegativeOrPercent>,
+    /// Required convergence class.
+    #[serde(default)]
+    pub require: Option<crate::estimate::Convergence>,
+    /// Fewest meshes the estimate must rest on.
+    #[serde(default)]
+    pub min_meshes: Option<u32>,
 }
 
 /// The study format number.

@@ -1,0 +1,156 @@
+//! `meshbound gate STUDY…`: check the `acceptance` limits of each study. Exit 0 when every
+//! limit holds, 1 when any fails, 2 when a study is broken (the others are still checked).
+
+use super::{batch, Failure};
+use crate::gate::Check;
+use crate::output::write_atomic;
+use serde::Serialize;
+use std::path::PathBuf;
+
+/// Output formats of `gate`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum GateFormat {
+    /// Lines for people.
+    Table,
+    /// `{"passed", "checks": [...]}` (the contract), with `errors` for broken studies.
+    Json,
+}
+
+/// Options of `gate`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// Study files (YAML) or directories holding them.
+    #[arg(required = true, num_args = 1..)]
+    pub studies: Vec<PathBuf>,
+    /// Output format.
+    #[arg(long, short = 'f', value_enum, default_value_t = GateFormat::Table)]
+    pub format: GateFormat,
+    /// Write to this file (atomically) instead of standard output.
+    #[arg(long, short = 'o', default_value = "-")]
+    pub output: PathBuf,
+}
+
+/// A broken study in the gate report.
+#[derive(Debug, Serialize)]
+pub struct GateError {
+    /// The study file.
+    pub study: String,
+    /// What is wrong.
+    pub message: String,
+}
+
+/// The gate report (its JSON is a contract).
+#[derive(Debug, Serialize)]
+pub struct GateReport {
+    /// Whether every limit of every study held (false when a study is broken).
+    pub passed: bool,
+    /// Every check, in input order.
+    pub checks: Vec<Check>,
+    /// Broken studies.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub errors: Vec<GateError>,
+    /// Studies without any acceptance limit.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub without_limits: Vec<String>,
+}
+
+fn gate_one(path: &std::path::Path) -> Result<Vec<Check>, String> {
+    let study = crate::study::load(path).map_err(|e| e.to_string())?;
+    let a = crate::assess::run(&study).map_err(|e| e.to_string())?;
+    crate::gate::check(&a, &study.acceptance).map_err(|e| format!("{}: {e}", path.display()))
+}
+
+/// Runs `gate`.
+pub fn run(args: Args) -> Result<(), Failure> {
+    let paths = batch::expand(&args.studies)?;
+    let results = batch::run_all(&paths, gate_one);
+    let mut report = GateReport {
+        passed: true,
+        checks: Vec::new(),
+        errors: Vec::new(),
+        without_limits: Vec::new(),
+    };
+    for (p, r) in paths.iter().zip(results) {
+        match r {
+            Ok(checks) => {
+                if checks.is_empty() {
+                    report.without_limits.push(p.display().to_string());
+                }
+                report.checks.extend(checks);
+            }
+            Err(e) => report.errors.push(GateError {
+                study: p.display().to_string(),
+                message: e,
+            }),
+        }
+    }
+    let failed = report.checks.iter().filter(|c| !c.passed).count();
+    report.passed = failed == 0 && report.errors.is_empty();
+    let bytes = match args.format {
+        GateFormat::Json => {
+            let mut v =
+                serde_json::to_vec_pretty(&report).map_err(|e| Failure::Output(e.to_string()))?;
+            v.push(b'\n');
+            v
+        }
+        GateFormat::Table => {
+            let mut s = String::new();
+            let mut last = "";
+            for c in &report.checks {
+                if c.study != last {
+                    s.push_str(&format!("{}\n", c.study));
+                    last = &c.study;
+                }
+                let value = match &c.value {
+                    serde_json::Value::Null => "none".to_string(),
+                    serde_json::Value::String(x) => x.clone(),
+                    serde_json::Value::Number(n) => n
+                        .as_f64()
+                        .map_or_else(|| n.to_string(), |x| crate::report::format::sig(x, 5)),
+                    v => v.to_string(),
+                };
+                s.push_str(&format!(
+                    "  {:<6} {} {} — found {}{}\n",
+                    if c.passed { "pass" } else { "FAIL" },
+                    c.target,
+                    c.limit,
+                    value,
+                    c.note.as_ref().map_or(String::new(), |n| format!(" ({n})"))
+                ));
+            }
+            for w in &report.without_limits {
+                s.push_str(&format!("{w}\n  no acceptance limits\n"));
+            }
+            for e in &report.errors {
+                s.push_str(&format!("broken: {}\n", e.message));
+            }
+            s.push_str(&format!(
+                "{}: {} checks, {} failed, {} broken studies\n",
+                if report.passed {
+                    "passed"
+                } else {
+                    "not passed"
+                },
+                report.checks.len(),
+                failed,
+                report.errors.len()
+            ));
+            s.into_bytes()
+        }
+    };
+    write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()))?;
+    if !report.errors.is_empty() {
+        for e in &report.errors {
+            eprintln!("error: {}", e.message);
+        }
+        return Err(Failure::Input(format!(
+            "{} of {} studies are broken",
+            report.errors.len(),
+            paths.len()
+        )));
+    }
+    if failed > 0 {
+        return Err(Failure::Limits);
+    }
+    Ok(())
+}

@@ -1,0 +1,199 @@
+//! Acceptance limits against an assessment: plain verdicts, no printing.
+//!
+//! A limit names a target — a quantity, `<sweep>.breakdown.<response>`,
+//! `<sweep>.reference.<response>` — and any of `max_relative`, `max_absolute`, `require` (a
+//! convergence class) and `min_meshes`. Each becomes one check. A divergent target has no
+//! uncertainty and so fails every uncertainty limit.
+
+use crate::assess::{Assessment, QuantityResult};
+use crate::study::raw::RawAcceptance;
+use serde::Serialize;
+
+/// One checked limit (the JSON of `gate --format json` is a contract).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Check {
+    /// The study file.
+    pub study: String,
+    /// The target as written.
+    pub target: String,
+    /// The limit in words, e.g. `max_relative 0.005`.
+    pub limit: String,
+    /// The figure compared (a number, a class, or `null` when it does not exist).
+    pub value: serde_json::Value,
+    /// Whether the limit holds.
+    pub passed: bool,
+    /// Why a check failed without a figure, when it did.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
+}
+
+/// What a target resolves to.
+pub enum Resolved<'a> {
+    /// A scalar-like estimate.
+    Quantity(&'a QuantityResult),
+    /// A field column, by its summary figures.
+    Field {
+        /// Largest relative uncertainty over the points.
+        max_relative: Option<f64>,
+        /// Largest absolute uncertainty over the points, when known.
+        max_absolute: Option<f64>,
+        /// Points per class, and the total.
+        classes: [(crate::estimate::Convergence, usize); 4],
+        /// Number of points.
+        points: usize,
+    },
+}
+
+/// Finds a target in an assessment.
+pub fn resolve<'a>(a: &'a Assessment, target: &str) -> Option<Resolved<'a>> {
+    if let Some(q) = a.quantities.iter().find(|q| q.name == target) {
+        return Some(Resolved::Quantity(q));
+    }
+    let parts: Vec<&str> = target.splitn(3, '.').collect();
+    if parts.len() == 3 {
+        if let Some(s) = a.sweeps.iter().find(|s| s.name == parts[0]) {
+            let b = s.breakdown.iter().find(|b| b.response == parts[2])?;
+            return match parts[1] {
+                "breakdown" => Some(Resolved::Quantity(&b.x_estimate)),
+                "reference" => Some(Resolved::Quantity(&b.reference_estimate)),
+                _ => None,
+            };
+        }
+    }
+    resolve_field(a, target)
+}
+
+fn resolve_field<'a>(_a: &'a Assessment, _target: &str) -> Option<Resolved<'a>> {
+    None
+}
+
+/// The targets an assessment offers, for messages.
+pub fn known_targets(a: &Assessment) -> Vec<String> {
+    let mut v: Vec<String> = a.quantities.iter().map(|q| q.name.clone()).collect();
+    for s in &a.sweeps {
+        for b in &s.breakdown {
+            v.push(format!("{}.breakdown.{}", s.name, b.response));
+            v.push(format!("{}.reference.{}", s.name, b.response));
+        }
+    }
+    v
+}
+
+fn num(v: Option<f64>) -> serde_json::Value {
+    v.map_or(serde_json::Value::Null, |x| serde_json::json!(x))
+}
+
+/// Checks every limit. An unknown target is an error naming the known ones.
+pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, String> {
+    let mut out = Vec::new();
+    for (i, l) in limits.iter().enumerate() {
+        let r = resolve(a, &l.target).ok_or_else(|| {
+            format!(
+                "acceptance[{i}].target: `{}` is not a quantity, breakdown or reference of the study (known: {})",
+                l.target,
+                known_targets(a).join(", ")
+            )
+        })?;
+        let mk =
+            |limit: String, value: serde_json::Value, passed: bool, note: Option<String>| Check {
+                study: a.study.clone(),
+                target: l.target.clone(),
+                limit,
+                value,
+                passed,
+                note,
+            };
+        match r {
+            Resolved::Quantity(q) => {
+                let no_u = || {
+                    Some(match q.convergence {
+                        Some(crate::estimate::Convergence::Divergent) => {
+                            "divergent: no uncertainty can be claimed".to_string()
+                        }
+                        _ => "no uncertainty estimate".to_string(),
+                    })
+                };
+                if let Some(m) = l.max_relative {
+                    let v = q.uncertainty.as_ref().and_then(|u| u.relative);
+                    out.push(mk(
+                        format!("max_relative {}", m.0),
+                        num(v),
+                        v.is_some_and(|v| v <= m.0),
+                        if v.is_none() { no_u() } else { None },
+                    ));
+                }
+                if let Some(m) = l.max_absolute {
+                    let v = q.uncertainty.as_ref().map(|u| u.absolute);
+                    out.push(mk(
+                        format!("max_absolute {}", m.0),
+                        num(v),
+                        v.is_some_and(|v| v <= m.0),
+                        if v.is_none() { no_u() } else { None },
+                    ));
+                }
+                if let Some(c) = l.require {
+                    let got = q.convergence;
+                    out.push(mk(
+                        format!("require {}", c.label()),
+                        got.map_or(serde_json::Value::Null, |g| serde_json::json!(g.label())),
+                        got == Some(c),
+                        None,
+                    ));
+                }
+                if let Some(n) = l.min_meshes {
+                    let used = q
+                        .least_squares
+                        .as_ref()
+                        .map_or_else(|| q.values.len().min(3), |ls| ls.per_mesh.len());
+                    out.push(mk(
+                        format!("min_meshes {n}"),
+                        serde_json::json!(used),
+                        used >= n as usize,
+                        None,
+                    ));
+                }
+            }
+            Resolved::Field {
+                max_relative,
+                max_absolute,
+                classes,
+                points,
+            } => {
+                if let Some(m) = l.max_relative {
+                    out.push(mk(
+                        format!("max_relative {}", m.0),
+                        num(max_relative),
+                        max_relative.is_some_and(|v| v <= m.0),
+                        None,
+                    ));
+                }
+                if let Some(m) = l.max_absolute {
+                    out.push(mk(
+                        format!("max_absolute {}", m.0),
+                        num(max_absolute),
+                        max_absolute.is_some_and(|v| v <= m.0),
+                        None,
+                    ));
+                }
+                if let Some(c) = l.require {
+                    let n = classes.iter().find(|(k, _)| *k == c).map_or(0, |x| x.1);
+                    out.push(mk(
+                        format!("require {} at every point", c.label()),
+                        serde_json::json!(format!("{n} of {points} points {}", c.label())),
+                        n == points,
+                        None,
+                    ));
+                }
+                if let Some(n) = l.min_meshes {
+                    out.push(mk(
+                        format!("min_meshes {n}"),
+                        serde_json::json!(3),
+                        3 >= n as usize,
+                        None,
+                    ));
+                }
+            }
+        }
+    }
+    Ok(out)
+}
