@@ -326,3 +326,28 @@ fn estimator_setting_chooses_what_governs() {
     assert!(String::from_utf8_lossy(&o.stderr)
         .contains("settings.estimator: `least_squares` needs at least four meshes"));
 }
+
+#[test]
+fn study_health_checks() {
+    let w = Workdir::new();
+    w.write(
+        "h.yaml",
+        "format: 1\nmeshes:\n  - {name: a, cells: 8000, size: 0.05, y_plus: 22, iterative: 0.0004}\n  - {name: b, cells: 1000, size: 0.1, y_plus: 45}\n  - {name: c, cells: 125, size: 0.3, y_plus: 90}\nquantities:\n  q: {values: {a: 1.0, b: 1.002, c: 1.01}}\n",
+    );
+    let o = run_in(w.path(), &["assess", "h.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let codes: Vec<&str> = v["warnings"].as_array().unwrap().iter().map(|w| w["code"].as_str().unwrap()).collect();
+    // y+ 22 lies below the 30–300 wall-function range, 45 and 90 inside (common practice).
+    assert!(codes.contains(&"y_plus_crosses_wall_function_range"), "{codes:?}");
+    // iterative 4e-4 > |ε21|/10 = 2e-4.
+    assert!(codes.contains(&"iterative_not_small"), "{codes:?}");
+    // cells 8000 → 125 in 3-D imply h ratio 4, the sizes give 6.
+    assert!(codes.contains(&"cells_do_not_follow_sizes"), "{codes:?}");
+    // r32 = 3 vs r21 = 2: non-constant ratio.
+    assert!(codes.contains(&"ratios_differ"), "{codes:?}");
+    // The example study raises none of the health warnings.
+    let v = json(&["assess", "studies/pump-turbine-pump-mode.yaml", "-f", "json"]);
+    let codes: Vec<&str> = v["warnings"].as_array().unwrap().iter().map(|w| w["code"].as_str().unwrap()).collect();
+    assert!(!codes.contains(&"y_plus_crosses_wall_function_range"), "{codes:?}");
+}

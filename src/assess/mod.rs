@@ -208,6 +208,73 @@ pub fn quantity(
     out
 }
 
+/// The usual y+ range of wall functions (common practice, no source).
+pub const WALL_FUNCTION_Y_PLUS: (f64, f64) = (30.0, 300.0);
+
+/// Study health checks beyond the estimators: y+ moving across the wall-function range,
+/// iterative uncertainty not small beside the mesh differences, cell counts that do not follow
+/// the sizes given.
+pub fn health_warnings(study: &Study) -> Vec<Warning> {
+    let mut w = Vec::new();
+    let (lo, hi) = WALL_FUNCTION_Y_PLUS;
+    let given: Vec<(&str, f64)> = study
+        .meshes
+        .iter()
+        .zip(&study.y_plus)
+        .filter_map(|(m, y)| y.map(|y| (m.name.as_str(), y)))
+        .collect();
+    let inside = given.iter().filter(|(_, y)| (lo..=hi).contains(y)).count();
+    if inside > 0 && inside < given.len() {
+        let list: Vec<String> = given.iter().map(|(n, y)| format!("{n}: {y}")).collect();
+        w.push(Warning::new(
+            "y_plus_crosses_wall_function_range",
+            format!(
+                "mean y+ moves across the wall-function range {lo}–{hi} during refinement ({}): the wall treatment changes between meshes, so the differences are not only discretisation error (common practice, no source)",
+                list.join(", ")
+            ),
+        ));
+    }
+    for q in &study.quantities {
+        if q.values.len() < 2 {
+            continue;
+        }
+        let e21 = (q.values[1] - q.values[0]).abs();
+        for (m, it) in study.meshes.iter().zip(&study.iterative) {
+            if let Some(it) = it {
+                if *it > 0.1 * e21 {
+                    w.push(
+                        Warning::new(
+                            "iterative_not_small",
+                            format!(
+                                "the iterative uncertainty of mesh `{}` ({it:e}) is more than a tenth of |ε21| = {e21:e}: the mesh differences may be iterative noise (common practice, no source)",
+                                m.name
+                            ),
+                        )
+                        .about(&q.name),
+                    );
+                    break;
+                }
+            }
+        }
+    }
+    if let Some(implied) = &study.sizes_from_cells {
+        let h1 = study.meshes[0].size;
+        for (m, s) in study.meshes.iter().zip(implied) {
+            let given = m.size / h1;
+            if (given - s).abs() > 0.05 * s {
+                w.push(Warning::new(
+                    "cells_do_not_follow_sizes",
+                    format!(
+                        "mesh `{}`: the cell counts imply h/h1 = {s:.4} but the sizes give {given:.4} (more than 5 % apart): check `cells` and `size`",
+                        m.name
+                    ),
+                ));
+            }
+        }
+    }
+    w
+}
+
 /// Warnings about the mesh family itself.
 pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
     let mut w = Vec::new();
@@ -241,6 +308,7 @@ pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
 /// (for example a sweep that never reaches breakdown); the error names the file and key.
 pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
     let mut warnings = mesh_warnings(&study.meshes);
+    warnings.extend(health_warnings(study));
     let settings = ThreeGridSettings {
         safety_factor: study.settings.safety_factor,
         order_max: study.settings.order_max,

@@ -100,6 +100,13 @@ pub struct Study {
     pub files_read: Vec<PathBuf>,
     /// Acceptance limits for `gate`.
     pub acceptance: Vec<raw::RawAcceptance>,
+    /// Per mesh (same order as `meshes`): mean wall y+, when given.
+    pub y_plus: Vec<Option<f64>>,
+    /// Per mesh (same order as `meshes`): iterative uncertainty, absolute, when given.
+    pub iterative: Vec<Option<f64>>,
+    /// Sizes implied by the cell counts, relative to the finest mesh, when both `size` (or
+    /// `extent`) and `cells` are given for every mesh.
+    pub sizes_from_cells: Option<Vec<f64>>,
 }
 
 /// Reads and checks a study file.
@@ -346,7 +353,19 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
             values,
         });
     }
-    let _ = order;
+    let sizes_from_cells = if size_basis == SizeBasis::Absolute
+        && order.iter().all(|&i| raw.meshes[i].cells.is_some() && raw.meshes[i].size.is_some())
+    {
+        let n1 = raw.meshes[order[0]].cells.map_or(1.0, |c| c.0);
+        Some(
+            order
+                .iter()
+                .map(|&i| (n1 / raw.meshes[i].cells.map_or(1.0, |c| c.0)).powf(1.0 / f64::from(dimension)))
+                .collect::<Vec<f64>>(),
+        )
+    } else {
+        None
+    };
     for (i, a) in raw.acceptance.iter().enumerate() {
         if a.max_relative.is_none()
             && a.max_absolute.is_none()
@@ -406,6 +425,9 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         sweeps,
         files_read,
         acceptance: raw.acceptance.clone(),
+        y_plus: order.iter().map(|&i| raw.meshes[i].y_plus.map(|v| v.0)).collect(),
+        iterative: order.iter().map(|&i| raw.meshes[i].iterative.map(|v| v.0.abs())).collect(),
+        sizes_from_cells,
     })
 }
 
