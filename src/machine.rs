@@ -37,7 +37,7 @@ use std::fmt;
 pub const STANDARD_GRAVITY: f64 = 9.80665;
 
 /// Operating mode of the machine.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize, schemars::JsonSchema)]
 #[serde(rename_all = "snake_case")]
 pub enum Mode {
     /// The machine adds energy to the water: outlet total pressure above inlet.

@@ -337,9 +337,17 @@ fn study_health_checks() {
     let o = run_in(w.path(), &["assess", "h.yaml", "-f", "json"]);
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
-    let codes: Vec<&str> = v["warnings"].as_array().unwrap().iter().map(|w| w["code"].as_str().unwrap()).collect();
+    let codes: Vec<&str> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap())
+        .collect();
     // y+ 22 lies below the 30–300 wall-function range, 45 and 90 inside (common practice).
-    assert!(codes.contains(&"y_plus_crosses_wall_function_range"), "{codes:?}");
+    assert!(
+        codes.contains(&"y_plus_crosses_wall_function_range"),
+        "{codes:?}"
+    );
     // iterative 4e-4 > |ε21|/10 = 2e-4.
     assert!(codes.contains(&"iterative_not_small"), "{codes:?}");
     // cells 8000 → 125 in 3-D imply h ratio 4, the sizes give 6.
@@ -347,7 +355,20 @@ fn study_health_checks() {
     // r32 = 3 vs r21 = 2: non-constant ratio.
     assert!(codes.contains(&"ratios_differ"), "{codes:?}");
     // The example study raises none of the health warnings.
-    let v = json(&["assess", "studies/pump-turbine-pump-mode.yaml", "-f", "json"]);
-    let codes: Vec<&str> = v["warnings"].as_array().unwrap().iter().map(|w| w["code"].as_str().unwrap()).collect();
-    assert!(!codes.contains(&"y_plus_crosses_wall_function_range"), "{codes:?}");
+    let v = json(&[
+        "assess",
+        "studies/pump-turbine-pump-mode.yaml",
+        "-f",
+        "json",
+    ]);
+    let codes: Vec<&str> = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|w| w["code"].as_str().unwrap())
+        .collect();
+    assert!(
+        !codes.contains(&"y_plus_crosses_wall_function_range"),
+        "{codes:?}"
+    );
 }

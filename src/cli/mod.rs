@@ -5,8 +5,11 @@
 
 pub mod assess;
 pub mod batch;
+pub mod draft;
 pub mod gate;
+pub mod manual;
 pub mod plan;
+pub mod schema;
 pub mod water;
 
 use clap::{Parser, Subcommand};
@@ -51,6 +54,14 @@ pub enum Command {
     Gate(gate::Args),
     /// Plan meshes: a family from one mesh, or the mesh a target uncertainty needs.
     Plan(plan::Args),
+    /// Print the JSON Schema of the study file (for YAML editors).
+    Schema(schema::Args),
+    /// Write a commented study file to begin from (never overwrites).
+    Draft(draft::Args),
+    /// Print shell completions.
+    Completions(manual::CompletionArgs),
+    /// Print the man page (roff).
+    Manual(manual::ManualArgs),
     /// Water properties (IAPWS-IF97) and the pressure that gives a target Thoma number.
     Water(water::Args),
 }
@@ -62,6 +73,10 @@ pub fn run(cli: Cli) -> Result<(), Failure> {
         Command::Water(a) => water::run(a),
         Command::Plan(a) => plan::run(a),
         Command::Gate(a) => gate::run(a),
+        Command::Schema(a) => schema::run(a),
+        Command::Draft(a) => draft::run(a),
+        Command::Completions(a) => manual::completions(a),
+        Command::Manual(a) => manual::manual(a),
     }
 }
 

@@ -8,7 +8,7 @@ pub mod three_grid;
 use serde::{Deserialize, Serialize};
 
 /// Convergence class of a quantity over a set of meshes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, schemars::JsonSchema)]
 #[serde(rename_all = "snake_case")]
 pub enum Convergence {
     /// Differences shrink with refinement and keep their sign.

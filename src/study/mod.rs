@@ -354,13 +354,17 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         });
     }
     let sizes_from_cells = if size_basis == SizeBasis::Absolute
-        && order.iter().all(|&i| raw.meshes[i].cells.is_some() && raw.meshes[i].size.is_some())
+        && order
+            .iter()
+            .all(|&i| raw.meshes[i].cells.is_some() && raw.meshes[i].size.is_some())
     {
         let n1 = raw.meshes[order[0]].cells.map_or(1.0, |c| c.0);
         Some(
             order
                 .iter()
-                .map(|&i| (n1 / raw.meshes[i].cells.map_or(1.0, |c| c.0)).powf(1.0 / f64::from(dimension)))
+                .map(|&i| {
+                    (n1 / raw.meshes[i].cells.map_or(1.0, |c| c.0)).powf(1.0 / f64::from(dimension))
+                })
                 .collect::<Vec<f64>>(),
         )
     } else {
@@ -425,8 +429,14 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         sweeps,
         files_read,
         acceptance: raw.acceptance.clone(),
-        y_plus: order.iter().map(|&i| raw.meshes[i].y_plus.map(|v| v.0)).collect(),
-        iterative: order.iter().map(|&i| raw.meshes[i].iterative.map(|v| v.0.abs())).collect(),
+        y_plus: order
+            .iter()
+            .map(|&i| raw.meshes[i].y_plus.map(|v| v.0))
+            .collect(),
+        iterative: order
+            .iter()
+            .map(|&i| raw.meshes[i].iterative.map(|v| v.0.abs()))
+            .collect(),
         sizes_from_cells,
     })
 }

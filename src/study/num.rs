@@ -54,7 +54,7 @@ fn number_or_percent<'de, D: Deserializer<'de>>(
 }
 
 macro_rules! checked {
-    ($(#[$m:meta])* $name:ident, $percent:expr, $ok:expr, $what:expr) => {
+    ($(#[$m:meta])* $name:ident, $percent:expr, $ok:expr, $what:expr, $schema:expr) => {
         $(#[$m])*
         #[derive(Debug, Clone, Copy, PartialEq, PartialOrd, Serialize)]
         #[serde(transparent)]
@@ -71,7 +71,23 @@ macro_rules! checked {
                 }
             }
         }
+
+        impl schemars::JsonSchema for $name {
+            fn schema_name() -> std::borrow::Cow<'static, str> {
+                stringify!($name).into()
+            }
+            fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+                let v: serde_json::Value = $schema;
+                schemars::Schema::try_from(v).unwrap_or_default()
+            }
+        }
     };
+}
+
+fn percent_schema(number: serde_json::Value) -> serde_json::Value {
+    serde_json::json!({
+        "anyOf": [number, {"type": "string", "pattern": "^\\s*[-+]?[0-9]*\\.?[0-9]+([eE][-+]?[0-9]+)?\\s*%\\s*$"}]
+    })
 }
 
 /// Shows a number the way a user would recognise it in the file.
@@ -91,17 +107,21 @@ pub(crate) fn show(v: f64) -> String {
 
 checked!(
     /// A finite number.
-    Finite, false, |v: f64| v.is_finite(), "a finite number"
+    Finite, false, |v: f64| v.is_finite(), "a finite number",
+    serde_json::json!({"type": "number", "description": "a finite number"})
 );
 checked!(
     /// A finite number > 0.
-    Positive, false, |v: f64| v.is_finite() && v > 0.0, "a finite number > 0"
+    Positive, false, |v: f64| v.is_finite() && v > 0.0, "a finite number > 0",
+    serde_json::json!({"type": "number", "exclusiveMinimum": 0, "description": "a finite number > 0"})
 );
 checked!(
     /// A finite number ≥ 0, plain or as a percentage.
-    NonNegativeOrPercent, true, |v: f64| v.is_finite() && v >= 0.0, "a finite number ≥ 0"
+    NonNegativeOrPercent, true, |v: f64| v.is_finite() && v >= 0.0, "a finite number ≥ 0",
+    percent_schema(serde_json::json!({"type": "number", "minimum": 0}))
 );
 checked!(
     /// A fraction in (0, 1), plain or as a percentage (`1%`).
-    Fraction, true, |v: f64| v.is_finite() && v > 0.0 && v < 1.0, "a fraction between 0 and 1 (or a percentage such as `1%`)"
+    Fraction, true, |v: f64| v.is_finite() && v > 0.0 && v < 1.0, "a fraction between 0 and 1 (or a percentage such as `1%`)",
+    percent_schema(serde_json::json!({"type": "number", "exclusiveMinimum": 0, "exclusiveMaximum": 1}))
 );

@@ -6,7 +6,7 @@ use serde::de::{self, Deserializer};
 use serde::Deserialize;
 
 /// The top level of a study file (format 1).
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawStudy {
     /// Format number; only 1 exists.
@@ -37,7 +37,7 @@ pub struct RawStudy {
 }
 
 /// One acceptance limit as written.
-#[derive(Debug, Clone, PartialEq, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawAcceptance {
     /// A quantity, `<sweep>.breakdown.<response>`, `<sweep>.reference.<response>` or
@@ -60,6 +60,24 @@ pub struct RawAcceptance {
 /// The study format number.
 #[derive(Debug, Clone, Copy)]
 pub struct FormatNumber(pub u32);
+
+impl schemars::JsonSchema for FormatNumber {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "FormatNumber".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({"const": 1, "description": "study format; only 1 exists"})
+    }
+}
+
+impl schemars::JsonSchema for Dimension {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "Dimension".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({"type": "integer", "enum": [1, 2, 3]})
+    }
+}
 
 impl<'de> Deserialize<'de> for FormatNumber {
     fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
@@ -92,7 +110,7 @@ impl<'de> Deserialize<'de> for Dimension {
 }
 
 /// One mesh.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawMesh {
     /// Unique, non-empty name.
@@ -115,7 +133,7 @@ pub struct RawMesh {
 }
 
 /// One scalar quantity.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawQuantity {
     /// Free-text unit.
@@ -129,7 +147,7 @@ pub struct RawQuantity {
 }
 
 /// Which estimator decides a quantity's uncertainty.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, schemars::JsonSchema)]
 #[serde(rename_all = "snake_case")]
 pub enum EstimatorChoice {
     /// Least squares from four meshes on, three-mesh below.
@@ -142,7 +160,7 @@ pub enum EstimatorChoice {
 }
 
 /// Settings of the estimators.
-#[derive(Debug, Default, Deserialize)]
+#[derive(Debug, Default, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawSettings {
     /// Safety factor of the three-mesh GCI (default 1.25).

@@ -32,7 +32,7 @@ pub const MIN_POINTS: usize = 4;
 pub const MAX_POINTS: usize = 1_000_000;
 
 /// One sweep as written.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawSweep {
     /// Name of the abscissa column (for example `sigma`).
@@ -63,6 +63,38 @@ pub struct RawSweepData {
     pub file: Option<String>,
     /// Inline columns.
     pub columns: IndexMap<String, Vec<f64>>,
+}
+
+impl schemars::JsonSchema for RawSweepData {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "SweepData".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({
+            "type": "object",
+            "description": "`file: path.csv` (relative to the study file) or inline columns `name: [numbers]`",
+            "properties": {"file": {"type": "string"}},
+            "additionalProperties": {"type": "array", "items": {"type": "number"}}
+        })
+    }
+}
+
+impl schemars::JsonSchema for ReferenceChoice {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "BreakdownReference".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({"anyOf": [{"enum": ["plateau", "highest"]}, {"type": "number"}]})
+    }
+}
+
+impl schemars::JsonSchema for BandAt {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "BandAt".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({"anyOf": [{"const": "fine"}, {"type": "array", "items": {"type": "number"}, "minItems": 1}]})
+    }
 }
 
 impl<'de> Deserialize<'de> for RawSweepData {
@@ -97,7 +129,9 @@ impl<'de> Deserialize<'de> for RawSweepData {
 }
 
 /// Whether a drop is a fraction of the reference or in the response's unit.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize, schemars::JsonSchema,
+)]
 #[serde(rename_all = "snake_case")]
 pub enum DropBasis {
     /// A fraction of the reference (default): threshold = reference · (1 − drop).
@@ -155,7 +189,7 @@ impl<'de> Deserialize<'de> for ReferenceChoice {
 }
 
 /// One breakdown definition as written.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawBreakdown {
     /// The response whose drop defines breakdown.
@@ -217,7 +251,7 @@ impl<'de> Deserialize<'de> for BandAt {
 }
 
 /// The band definition as written.
-#[derive(Debug, Deserialize)]
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct RawBand {
     /// The response.

@@ -27,7 +27,9 @@ use serde::{Deserialize, Serialize};
 use super::SweepError;
 
 /// How to interpolate between sweep points.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize, schemars::JsonSchema,
+)]
 #[serde(rename_all = "snake_case")]
 pub enum Interpolation {
     /// Monotone piecewise-cubic Hermite interpolation (Fritsch & Carlson 1980).
