@@ -17,6 +17,12 @@ pub enum AssessFormat {
     /// One JSON result object per line, one line per study (a broken study gives
     /// `{"study": …, "error": …}`).
     Jsonl,
+    /// CSV rows (columns in docs/exports.md).
+    Csv,
+    /// Markdown tables.
+    Markdown,
+    /// LaTeX tabulars (booktabs, siunitx).
+    Latex,
 }
 
 impl AssessFormat {
@@ -24,6 +30,9 @@ impl AssessFormat {
         match self {
             AssessFormat::Table => Some(Format::Table),
             AssessFormat::Json | AssessFormat::Jsonl => None,
+            AssessFormat::Csv => Some(Format::Csv),
+            AssessFormat::Markdown => Some(Format::Markdown),
+            AssessFormat::Latex => Some(Format::Latex),
         }
     }
 }

@@ -72,6 +72,69 @@ pub fn opt_percent(v: Option<f64>) -> String {
     v.map_or_else(|| "–".to_string(), percent)
 }
 
+/// A number at full precision for machine-read formats (CSV): the shortest text that reads
+/// back to the same `f64`, in scientific notation for very small or very large magnitudes.
+/// Non-finite numbers give an empty string (a missing figure), never `NaN` or `inf`.
+pub fn full(v: f64) -> String {
+    if !v.is_finite() {
+        return String::new();
+    }
+    let a = v.abs();
+    if a != 0.0 && !(1e-5..1e16).contains(&a) {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
+    }
+}
+
+/// The label of the estimate that governed an uncertainty, for table cells.
+pub fn method_label(m: crate::assess::Method) -> &'static str {
+    use crate::assess::Method;
+    match m {
+        Method::ThreeGrid => "three-mesh GCI",
+        Method::OscillationRange => "half range of the oscillation",
+        Method::LeastSquares => "least-squares fit",
+    }
+}
+
+/// Whether the least-squares estimate governed the quantity's uncertainty.
+fn least_squares_governs(q: &crate::assess::QuantityResult) -> bool {
+    q.uncertainty.as_ref().map(|u| u.method) == Some(crate::assess::Method::LeastSquares)
+}
+
+/// The observed order of the estimate that governed a quantity: the least-squares order when
+/// the least-squares fit governed, else the three-mesh observed order (as held, not computed).
+pub fn governing_order(q: &crate::assess::QuantityResult) -> Option<f64> {
+    if least_squares_governs(q) {
+        q.least_squares.as_ref().and_then(|ls| ls.order)
+    } else {
+        q.three_grid
+            .as_ref()
+            .and_then(|t| t.estimate.observed_order)
+    }
+}
+
+/// The extrapolated value of the estimate that governed a quantity: φ0 of the selected
+/// least-squares fit when that governed, else the three-mesh φ_ext21.
+pub fn governing_extrapolated(q: &crate::assess::QuantityResult) -> Option<f64> {
+    if least_squares_governs(q) {
+        q.least_squares
+            .as_ref()
+            .and_then(|ls| ls.selected_fit())
+            .map(|f| f.phi0)
+    } else {
+        q.three_grid.as_ref().and_then(|t| t.estimate.extrapolated)
+    }
+}
+
+/// Indices of at most about `max` rows out of `n`, evenly spaced, always with the last row:
+/// the condensed band table. Returns the indices and the step (1 when every row is kept).
+pub fn condensed(n: usize, max: usize) -> (Vec<usize>, usize) {
+    let step = n.div_ceil(max.max(1)).max(1);
+    let idx = (0..n).filter(|i| i % step == 0 || i + 1 == n).collect();
+    (idx, step)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -96,5 +159,36 @@ mod tests {
         );
         assert_eq!(num(6.063, 7), "6.063");
         assert_eq!(num(6.168495572330159, 7), "6.168496");
+    }
+
+    #[test]
+    fn full_precision_reads_back_exactly() {
+        for v in [
+            0.0037456747027612603,
+            1.0 / 3.0,
+            -2.5e-9,
+            3.4e6,
+            6.02e23,
+            0.0,
+            -0.0,
+        ] {
+            let s = full(v);
+            let back: f64 = s.parse().unwrap();
+            assert_eq!(back.to_ne_bytes(), v.to_ne_bytes(), "{s}");
+        }
+        assert_eq!(full(f64::NAN), "");
+        assert_eq!(full(f64::INFINITY), "");
+        assert_eq!(full(3.4e6), "3400000");
+        assert_eq!(full(1.5e-7), "1.5e-7");
+    }
+
+    #[test]
+    fn condensed_keeps_the_last_row() {
+        assert_eq!(condensed(5, 16), (vec![0, 1, 2, 3, 4], 1));
+        assert_eq!(
+            condensed(20, 16),
+            (vec![0, 2, 4, 6, 8, 10, 12, 14, 16, 18, 19], 2)
+        );
+        assert_eq!(condensed(0, 16), (vec![], 1));
     }
 }

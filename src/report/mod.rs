@@ -1,8 +1,14 @@
 //! Exporters: each formats the one [`Assessment`] into bytes. No exporter computes a number
 //! that the assessment does not hold, and none does I/O.
 
+pub mod csv;
 pub mod format;
+pub mod html;
 pub mod json;
+pub mod latex;
+pub mod markdown;
+pub mod markup;
+pub mod plot;
 pub mod table;
 
 use crate::assess::Assessment;
@@ -20,6 +26,12 @@ pub enum Format {
     Table,
     /// The JSON result (the contract).
     Json,
+    /// One CSV file: a row per quantity, then a row per band point (docs/exports.md).
+    Csv,
+    /// Markdown with GitHub tables.
+    Markdown,
+    /// A LaTeX fragment: booktabs tables with siunitx numbers.
+    Latex,
 }
 
 impl Format {
@@ -28,6 +40,9 @@ impl Format {
         match self {
             Format::Table => Box::new(table::Table),
             Format::Json => Box::new(json::Json),
+            Format::Csv => Box::new(csv::Csv),
+            Format::Markdown => Box::new(markdown::Markdown),
+            Format::Latex => Box::new(latex::Latex),
         }
     }
 }

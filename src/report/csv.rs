@@ -1,0 +1,310 @@
+//! CSV export: one file, one header row, a `record` column telling the two kinds of row apart.
+//!
+//! Rows, in this order:
+//! 1. one `quantity` row per scalar quantity, then per sweep and per breakdown the breakdown
+//!    abscissa (`<sweep>.breakdown.<response>`) and the reference (`<sweep>.reference.<response>`);
+//! 2. one `band_point` row per point of every sweep's band, increasing abscissa.
+//!
+//! Columns (empty where a figure does not exist or does not apply; numbers at full precision,
+//! the shortest text that reads back to the same double; relative measures are fractions):
+//!
+//! | column | `quantity` row | `band_point` row |
+//! |---|---|---|
+//! | `record` | `quantity` | `band_point` |
+//! | `sweep` | sweep name for breakdown and reference rows | sweep name |
+//! | `name` | quantity name | band response |
+//! | `unit` | quantity unit | – |
+//! | `x` | – | abscissa |
+//! | `value` | finest mesh's value | finest mesh's interpolated value |
+//! | `absolute` | U | U |
+//! | `relative` | U/\|value\| | – (not held; absolute/\|value\|) |
+//! | `lower`, `upper` | value ∓ U | value ∓ U |
+//! | `convergence` | class | class |
+//! | `method` | `three_grid`, `oscillation_range` or `least_squares` | – |
+//! | `observed_order` | order of the governing estimate | order of the governing estimate |
+//! | `extrapolated` | extrapolated value of the governing estimate | same |
+//! | `three_grid_order`, `three_grid_extrapolated`, `three_grid_uncertainty` | three-mesh p, φ_ext21, U | – |
+//! | `gci_fine`, `gci_coarse`, `convergence_ratio`, `asymptotic_ratio` | three-mesh figures | – |
+//! | `least_squares_order`, `least_squares_extrapolated`, `least_squares_uncertainty` | free order, φ0 of the selected fit, U of the finest mesh | – |
+//! | `least_squares_fit`, `least_squares_weighted` | selected fit (`free`, `first`, `second`, `first_second`), `true`/`false` | – |
+//! | `meshes` | mesh names finest first, `;`-separated | the sweep's meshes |
+//! | `mesh_values` | values finest first, `;`-separated | – |
+//!
+//! The same table is in `docs/exports.md`.
+
+use super::format::{full, governing_extrapolated, governing_order};
+use super::Exporter;
+use crate::assess::sweep::{BandPoint, SweepResult};
+use crate::assess::{Assessment, Method, QuantityResult};
+
+/// CSV exporter.
+pub struct Csv;
+
+/// The header row, in column order.
+pub const COLUMNS: [&str; 26] = [
+    "record",
+    "sweep",
+    "name",
+    "unit",
+    "x",
+    "value",
+    "absolute",
+    "relative",
+    "lower",
+    "upper",
+    "convergence",
+    "method",
+    "observed_order",
+    "extrapolated",
+    "three_grid_order",
+    "three_grid_extrapolated",
+    "three_grid_uncertainty",
+    "gci_fine",
+    "gci_coarse",
+    "convergence_ratio",
+    "asymptotic_ratio",
+    "least_squares_order",
+    "least_squares_extrapolated",
+    "least_squares_uncertainty",
+    "least_squares_fit",
+    "least_squares_weighted",
+];
+
+const MESHES: &str = "meshes";
+const MESH_VALUES: &str = "mesh_values";
+
+fn o(v: Option<f64>) -> String {
+    v.map_or(String::new(), full)
+}
+
+fn method(m: Method) -> &'static str {
+    match m {
+        Method::ThreeGrid => "three_grid",
+        Method::OscillationRange => "oscillation_range",
+        Method::LeastSquares => "least_squares",
+    }
+}
+
+fn quantity_row(sweep: &str, meshes: &[String], q: &QuantityResult) -> Vec<String> {
+    let u = q.uncertainty.as_ref();
+    let tg = q.three_grid.as_ref().map(|t| &t.estimate);
+    let ls = q.least_squares.as_ref();
+    let mesh_names: Vec<String> = match (&q.least_squares, &q.three_grid) {
+        (Some(ls), _) => ls.per_mesh.iter().map(|m| m.mesh.clone()).collect(),
+        (None, Some(t)) => t.meshes.clone(),
+        (None, None) => meshes.iter().take(q.values.len()).cloned().collect(),
+    };
+    vec![
+        "quantity".into(),
+        sweep.into(),
+        q.name.clone(),
+        q.unit.clone().unwrap_or_default(),
+        String::new(),
+        o(u.map(|u| u.value).or(q.values.first().copied())),
+        o(u.map(|u| u.absolute)),
+        o(u.and_then(|u| u.relative)),
+        o(u.map(|u| u.lower)),
+        o(u.map(|u| u.upper)),
+        q.convergence.map_or("", |c| c.label()).into(),
+        u.map_or("", |u| method(u.method)).into(),
+        o(governing_order(q)),
+        o(governing_extrapolated(q)),
+        o(tg.and_then(|e| e.observed_order)),
+        o(tg.and_then(|e| e.extrapolated)),
+        o(tg.and_then(|e| e.uncertainty)),
+        o(tg.and_then(|e| e.gci_fine)),
+        o(tg.and_then(|e| e.gci_coarse)),
+        o(tg.and_then(|e| e.convergence_ratio)),
+        o(tg.and_then(|e| e.asymptotic_ratio)),
+        o(ls.and_then(|l| l.order)),
+        o(ls.and_then(|l| l.selected_fit()).map(|f| f.phi0)),
+        o(ls.and_then(|l| l.per_mesh.first()).map(|m| m.uncertainty)),
+        ls.map_or("", |l| l.selected.kind.label()).into(),
+        ls.map_or(String::new(), |l| l.selected.weighted.to_string()),
+        mesh_names.join(";"),
+        q.values
+            .iter()
+            .map(|v| full(*v))
+            .collect::<Vec<_>>()
+            .join(";"),
+    ]
+}
+
+fn band_row(s: &SweepResult, response: &str, p: &BandPoint) -> Vec<String> {
+    let mut row = vec![String::new(); COLUMNS.len() + 2];
+    row[0] = "band_point".into();
+    row[1] = s.name.clone();
+    row[2] = response.into();
+    row[4] = full(p.x);
+    row[5] = full(p.value);
+    row[6] = o(p.absolute);
+    row[8] = o(p.lower);
+    row[9] = o(p.upper);
+    row[10] = p.convergence.map_or("", |c| c.label()).into();
+    row[12] = o(p.order);
+    row[13] = o(p.extrapolated);
+    row[COLUMNS.len()] = s.meshes.join(";");
+    row
+}
+
+/// Every row of the export, header first.
+pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
+    let mut out = vec![COLUMNS
+        .iter()
+        .chain(&[MESHES, MESH_VALUES])
+        .map(|c| c.to_string())
+        .collect::<Vec<_>>()];
+    let names: Vec<String> = a.meshes.iter().map(|m| m.name.clone()).collect();
+    for q in &a.quantities {
+        out.push(quantity_row("", &names, q));
+    }
+    for s in &a.sweeps {
+        for b in &s.breakdown {
+            out.push(quantity_row(&s.name, &s.meshes, &b.x_estimate));
+            out.push(quantity_row(&s.name, &s.meshes, &b.reference_estimate));
+        }
+    }
+    for s in &a.sweeps {
+        if let Some(band) = &s.band {
+            for p in &band.points {
+                out.push(band_row(s, &band.response, p));
+            }
+        }
+    }
+    out
+}
+
+impl Exporter for Csv {
+    fn export(&self, a: &Assessment) -> Vec<u8> {
+        let mut w = csv::Writer::from_writer(Vec::new());
+        for r in rows(a) {
+            if let Err(e) = w.write_record(&r) {
+                return format!("error\nthe CSV could not be written: {e}\n").into_bytes();
+            }
+        }
+        w.into_inner().unwrap_or_else(|e| {
+            format!("error\nthe CSV could not be written: {}\n", e.error()).into_bytes()
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::json::Json;
+    use crate::report::markup::fixture;
+    use approx::assert_relative_eq;
+
+    fn parse(bytes: &[u8]) -> (csv::StringRecord, Vec<csv::StringRecord>) {
+        let mut r = csv::Reader::from_reader(bytes);
+        let head = r.headers().expect("header row").clone();
+        let rows = r.records().collect::<Result<Vec<_>, _>>().expect("rows");
+        (head, rows)
+    }
+
+    #[test]
+    fn rows_have_the_columns_of_the_header_and_both_record_kinds() {
+        let a = fixture::assess(fixture::DEMO);
+        let (head, rows) = parse(&Csv.export(&a));
+        assert_eq!(head.len(), COLUMNS.len() + 2);
+        assert_eq!(&head[0], "record");
+        assert_eq!(&head[head.len() - 1], "mesh_values");
+        for r in &rows {
+            assert_eq!(r.len(), head.len());
+        }
+        let quantities: Vec<&str> = rows
+            .iter()
+            .filter(|r| &r[0] == "quantity")
+            .map(|r| r.get(2).unwrap_or(""))
+            .collect();
+        assert_eq!(
+            quantities,
+            [
+                "efficiency",
+                "torque",
+                "cav.breakdown.efficiency",
+                "cav.reference.efficiency"
+            ]
+        );
+        let band = a.sweeps[0].band.as_ref().expect("band");
+        let points = rows.iter().filter(|r| &r[0] == "band_point").count();
+        assert_eq!(points, band.points.len());
+        assert_eq!(rows.len(), quantities.len() + points);
+    }
+
+    #[test]
+    fn figures_equal_the_json_figures() {
+        let a = fixture::assess(fixture::DEMO);
+        let json: serde_json::Value =
+            serde_json::from_slice(&Json.export(&a)).expect("the JSON exporter gives JSON");
+        let (head, rows) = parse(&Csv.export(&a));
+        let col = |name: &str| head.iter().position(|h| h == name).expect(name);
+        let eff = rows.iter().find(|r| &r[2] == "efficiency").expect("row");
+        let num = |r: &csv::StringRecord, c: &str| -> f64 { r[col(c)].parse().expect(c) };
+        let u = &json["quantities"][0]["uncertainty"];
+        // Full precision: the CSV text reads back to the very double of the JSON.
+        assert_relative_eq!(
+            num(eff, "absolute"),
+            u["absolute"].as_f64().expect("U"),
+            max_relative = 0.0,
+            epsilon = 0.0
+        );
+        assert_relative_eq!(
+            num(eff, "gci_fine"),
+            json["quantities"][0]["three_grid"]["gci_fine"]
+                .as_f64()
+                .expect("gci"),
+            max_relative = 0.0,
+            epsilon = 0.0
+        );
+        assert_eq!(&eff[col("method")], "three_grid");
+        assert_eq!(&eff[col("meshes")], "M_fine;M_mid;M_coarse");
+        let b = rows
+            .iter()
+            .find(|r| &r[2] == "cav.breakdown.efficiency")
+            .expect("breakdown row");
+        assert_relative_eq!(
+            num(b, "value"),
+            json["sweeps"][0]["breakdown"][0]["x_estimate"]["uncertainty"]["value"]
+                .as_f64()
+                .expect("x_b"),
+            max_relative = 0.0,
+            epsilon = 0.0
+        );
+        let p = rows
+            .iter()
+            .find(|r| &r[0] == "band_point")
+            .expect("band row");
+        let jp = &json["sweeps"][0]["band"]["points"][0];
+        assert_relative_eq!(
+            num(p, "x"),
+            jp["x"].as_f64().expect("x"),
+            max_relative = 0.0,
+            epsilon = 0.0
+        );
+        assert_eq!(&p[col("relative")], "");
+    }
+
+    #[test]
+    fn missing_figures_are_empty_cells() {
+        let a = fixture::assess(fixture::DEMO);
+        let (head, rows) = parse(&Csv.export(&a));
+        let col = |name: &str| head.iter().position(|h| h == name).expect(name);
+        let torque = rows.iter().find(|r| &r[2] == "torque").expect("row");
+        // divergent (R = 2 > 1, Stern et al. 2001 classes): no uncertainty, no order
+        for c in [
+            "absolute",
+            "relative",
+            "lower",
+            "upper",
+            "method",
+            "observed_order",
+        ] {
+            assert_eq!(&torque[col(c)], "", "{c}");
+        }
+        assert_eq!(&torque[col("convergence")], "divergent");
+        assert_eq!(&torque[col("value")], "101");
+        let text = String::from_utf8(Csv.export(&a)).expect("UTF-8");
+        assert!(!text.contains("NaN") && !text.contains("inf"));
+    }
+}

@@ -1,0 +1,657 @@
+//! The report content shared by the markup formats (Markdown, LaTeX, HTML).
+//!
+//! [`document`] lays out one assessment as a sequence of headings, paragraphs, tables and
+//! lists — the same content for every format — and a [`Markup`] implementation renders each
+//! block in its own syntax. Cells say what they hold ([`Cell::Num`], [`Cell::Percent`], …) so
+//! that each format can typeset numbers its own way (`\num{…}` in LaTeX). Every number shown
+//! is a figure the assessment holds, rounded for display by [`super::format`].
+
+use super::format::{
+    condensed, governing_extrapolated, governing_order, method_label, num, opt, percent, sig,
+    with_uncertainty,
+};
+use super::table::{breakdown_rule, statement, symbol};
+use crate::assess::sweep::{BandResult, BreakdownResult, SweepResult};
+use crate::assess::{Assessment, Method, QuantityResult};
+
+/// Rows of the condensed band table (about this many, always with the last point).
+pub const BAND_ROWS: usize = 16;
+
+/// A piece of running text.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Span {
+    /// Plain text (escaped by the format).
+    Text(String),
+    /// An identifier, set in a code font (warning codes, file names).
+    Code(String),
+    /// Emphasised text.
+    Strong(String),
+}
+
+/// Splits text on backticks: the parts between backticks become [`Span::Code`].
+/// Warning messages name meshes and keys this way.
+pub fn spans(text: &str) -> Vec<Span> {
+    text.split('`')
+        .enumerate()
+        .filter(|(_, s)| !s.is_empty())
+        .map(|(i, s)| {
+            if i % 2 == 1 {
+                Span::Code(s.to_string())
+            } else {
+                Span::Text(s.to_string())
+            }
+        })
+        .collect()
+}
+
+/// One table cell.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Cell {
+    /// Text.
+    Text(String),
+    /// A number already rounded for display (as produced by [`super::format`]).
+    Num(String),
+    /// A fraction shown as a percentage.
+    Percent(f64),
+    /// A figure that does not exist.
+    Missing,
+}
+
+impl Cell {
+    /// Text cell.
+    pub fn text(s: impl Into<String>) -> Self {
+        Cell::Text(s.into())
+    }
+    /// Number cell, or [`Cell::Missing`] for `None`.
+    pub fn num(v: Option<String>) -> Self {
+        v.map_or(Cell::Missing, Cell::Num)
+    }
+    /// Percentage cell, or [`Cell::Missing`] for `None`.
+    pub fn percent(v: Option<f64>) -> Self {
+        v.map_or(Cell::Missing, Cell::Percent)
+    }
+}
+
+/// Column alignment.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Align {
+    /// Text columns.
+    Left,
+    /// Number columns.
+    Right,
+}
+
+/// A table: a caption, headed columns and rows of cells.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TableBlock {
+    /// What the table shows.
+    pub caption: String,
+    /// Column headings.
+    pub headers: Vec<String>,
+    /// Alignment per column.
+    pub align: Vec<Align>,
+    /// Rows; each has one cell per column.
+    pub rows: Vec<Vec<Cell>>,
+}
+
+impl TableBlock {
+    fn new(caption: impl Into<String>, columns: &[(&str, Align)]) -> Self {
+        TableBlock {
+            caption: caption.into(),
+            headers: columns.iter().map(|(h, _)| h.to_string()).collect(),
+            align: columns.iter().map(|(_, a)| *a).collect(),
+            rows: Vec::new(),
+        }
+    }
+}
+
+/// One block of the report.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Block {
+    /// A heading, level 1 (title) to 3.
+    Heading(u8, String),
+    /// A paragraph of running text.
+    Paragraph(Vec<Span>),
+    /// A table.
+    Table(TableBlock),
+    /// A bulleted list.
+    List(Vec<Vec<Span>>),
+    /// The caution, set apart.
+    Caution(String),
+    /// A figure: title and SVG text (HTML only; other formats skip it).
+    Figure(String, String),
+}
+
+/// A markup syntax: renders each block. Implementations escape the text they are given.
+pub trait Markup {
+    /// Text before the first block.
+    fn begin(&self, _title: &str) -> String {
+        String::new()
+    }
+    /// Text after the last block.
+    fn end(&self) -> String {
+        String::new()
+    }
+    /// A heading.
+    fn heading(&self, level: u8, text: &str) -> String;
+    /// A paragraph.
+    fn paragraph(&self, spans: &[Span]) -> String;
+    /// A table.
+    fn table(&self, t: &TableBlock) -> String;
+    /// A bulleted list.
+    fn list(&self, items: &[Vec<Span>]) -> String;
+    /// The caution.
+    fn caution(&self, text: &str) -> String;
+    /// A figure; formats that cannot embed SVG leave it out.
+    fn figure(&self, _title: &str, _svg: &str) -> String {
+        String::new()
+    }
+}
+
+/// Renders blocks with a markup.
+pub fn render<M: Markup + ?Sized>(m: &M, title: &str, blocks: &[Block]) -> String {
+    let mut out = m.begin(title);
+    for b in blocks {
+        out.push_str(&match b {
+            Block::Heading(l, t) => m.heading(*l, t),
+            Block::Paragraph(s) => m.paragraph(s),
+            Block::Table(t) => m.table(t),
+            Block::List(items) => m.list(items),
+            Block::Caution(t) => m.caution(t),
+            Block::Figure(t, svg) => m.figure(t, svg),
+        });
+    }
+    out.push_str(&m.end());
+    out
+}
+
+fn text(s: impl Into<String>) -> Span {
+    Span::Text(s.into())
+}
+
+/// Value and U of a statement, the value rounded to the last digit shown of U.
+fn value_and_u(q: &QuantityResult) -> (Cell, Cell) {
+    match &q.uncertainty {
+        Some(u) => {
+            let (v, a) = with_uncertainty(u.value, u.absolute);
+            (Cell::Num(v), Cell::Num(a))
+        }
+        None => (
+            Cell::num(q.values.first().map(|v| num(*v, 8))),
+            Cell::Missing,
+        ),
+    }
+}
+
+fn class(q: &QuantityResult) -> Cell {
+    Cell::text(q.convergence.map_or("no estimate", |c| c.label()))
+}
+
+fn method(q: &QuantityResult) -> Cell {
+    q.uncertainty
+        .as_ref()
+        .map_or(Cell::text("none"), |u| Cell::text(method_label(u.method)))
+}
+
+fn meshes_table(a: &Assessment) -> TableBlock {
+    let mut t = TableBlock::new(
+        "Meshes, finest first (h relative to the finest mesh when only cell counts are given)",
+        &[
+            ("mesh", Align::Left),
+            ("cells", Align::Right),
+            ("h", Align::Right),
+            ("ratio to finer", Align::Right),
+        ],
+    );
+    for m in &a.meshes {
+        t.rows.push(vec![
+            Cell::text(&m.name),
+            Cell::num(m.cells.map(|c| num(c, 8))),
+            Cell::Num(num(m.size, 5)),
+            Cell::num(m.ratio.map(|r| sig(r, 4))),
+        ]);
+    }
+    t
+}
+
+fn results_table(a: &Assessment) -> TableBlock {
+    let mut t = TableBlock::new(
+        "Uncertainty of each quantity on the finest mesh",
+        &[
+            ("quantity", Align::Left),
+            ("unit", Align::Left),
+            ("value", Align::Right),
+            ("U", Align::Right),
+            ("relative U", Align::Right),
+            ("class", Align::Left),
+            ("method", Align::Left),
+            ("observed order", Align::Right),
+            ("extrapolated", Align::Right),
+        ],
+    );
+    for q in &a.quantities {
+        let (v, u) = value_and_u(q);
+        t.rows.push(vec![
+            Cell::text(&q.name),
+            q.unit.as_deref().map_or(Cell::Missing, Cell::text),
+            v,
+            u,
+            Cell::percent(q.uncertainty.as_ref().and_then(|u| u.relative)),
+            class(q),
+            method(q),
+            Cell::num(governing_order(q).map(|p| sig(p, 4))),
+            Cell::num(governing_extrapolated(q).map(|x| sig(x, 7))),
+        ]);
+    }
+    t
+}
+
+/// The two estimates side by side, for quantities with a least-squares estimate.
+fn both_estimates_table(a: &Assessment) -> Option<TableBlock> {
+    let mut t = TableBlock::new(
+        "Three-mesh and least-squares estimates side by side (U of the finest mesh)",
+        &[
+            ("quantity", Align::Left),
+            ("three-mesh order", Align::Right),
+            ("three-mesh extrapolated", Align::Right),
+            ("three-mesh U", Align::Right),
+            ("least-squares order", Align::Right),
+            ("least-squares extrapolated", Align::Right),
+            ("least-squares U", Align::Right),
+            ("selected fit", Align::Left),
+            ("governs", Align::Left),
+        ],
+    );
+    for q in &a.quantities {
+        let Some(ls) = &q.least_squares else { continue };
+        let tg = q.three_grid.as_ref().map(|t| &t.estimate);
+        let governs = match q.uncertainty.as_ref().map(|u| u.method) {
+            Some(Method::LeastSquares) => "least squares",
+            Some(Method::ThreeGrid | Method::OscillationRange) => "three-mesh",
+            None => "neither",
+        };
+        t.rows.push(vec![
+            Cell::text(&q.name),
+            Cell::num(tg.and_then(|e| e.observed_order).map(|p| sig(p, 4))),
+            Cell::num(tg.and_then(|e| e.extrapolated).map(|x| sig(x, 7))),
+            Cell::num(tg.and_then(|e| e.uncertainty).map(|u| sig(u, 4))),
+            Cell::num(ls.order.map(|p| sig(p, 4))),
+            Cell::num(ls.selected_fit().map(|f| sig(f.phi0, 7))),
+            Cell::num(ls.per_mesh.first().map(|m| sig(m.uncertainty, 4))),
+            Cell::text(format!(
+                "{}, {}",
+                ls.selected.kind.label(),
+                if ls.selected.weighted {
+                    "weighted"
+                } else {
+                    "unweighted"
+                }
+            )),
+            Cell::text(governs),
+        ]);
+    }
+    (!t.rows.is_empty()).then_some(t)
+}
+
+fn breakdown_summary(s: &SweepResult) -> TableBlock {
+    let xs = format!("breakdown {}", s.x);
+    let mut t = TableBlock::new(
+        format!(
+            "Breakdown of sweep {}: the finest mesh's {} and reference, with their uncertainty",
+            s.name, s.x
+        ),
+        &[
+            ("criterion", Align::Left),
+            (&xs, Align::Right),
+            ("U", Align::Right),
+            ("relative U", Align::Right),
+            ("class", Align::Left),
+            ("reference", Align::Right),
+            ("U of reference", Align::Right),
+            ("class of reference", Align::Left),
+        ],
+    );
+    for b in &s.breakdown {
+        let (x, ux) = value_and_u(&b.x_estimate);
+        let (r, ur) = value_and_u(&b.reference_estimate);
+        t.rows.push(vec![
+            Cell::text(breakdown_rule(b, &s.x)),
+            x,
+            ux,
+            Cell::percent(b.x_estimate.uncertainty.as_ref().and_then(|u| u.relative)),
+            class(&b.x_estimate),
+            r,
+            ur,
+            class(&b.reference_estimate),
+        ]);
+    }
+    t
+}
+
+fn breakdown_per_mesh(s: &SweepResult, b: &BreakdownResult) -> TableBlock {
+    let xs = format!("breakdown {}", s.x);
+    let mut t = TableBlock::new(
+        format!("Breakdown per mesh: {}", breakdown_rule(b, &s.x)),
+        &[
+            ("mesh", Align::Left),
+            ("reference", Align::Right),
+            ("threshold", Align::Right),
+            (&xs, Align::Right),
+        ],
+    );
+    for m in &b.per_mesh {
+        t.rows.push(vec![
+            Cell::text(&m.mesh),
+            Cell::Num(sig(m.reference, 6)),
+            Cell::Num(sig(m.threshold, 6)),
+            Cell::Num(sig(m.x, 5)),
+        ]);
+    }
+    t
+}
+
+fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
+    let sm = &band.summary;
+    out.push(Block::Heading(
+        3,
+        format!("Band of {} along {}", band.response, s.x),
+    ));
+    let largest_at = sm
+        .max_relative_at
+        .map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6)));
+    out.push(Block::Paragraph(vec![text(format!(
+        "{} points, {} interpolation: {} monotonic, {} oscillatory, {} divergent; mean relative U {}, largest {}{largest_at}; mean observed order {}.",
+        sm.points,
+        band.interpolation.label(),
+        percent(sm.share_monotonic),
+        percent(sm.share_oscillatory),
+        percent(sm.share_divergent),
+        sm.mean_relative.map_or("–".into(), percent),
+        sm.max_relative.map_or("–".into(), percent),
+        opt(sm.mean_order, 3),
+    ))]));
+    let (rows, step) = condensed(band.points.len(), BAND_ROWS);
+    let caption = if step > 1 {
+        format!(
+            "Band of {} on the finest mesh, every {step}th of {} points (all are in the JSON and CSV outputs)",
+            band.response,
+            band.points.len()
+        )
+    } else {
+        format!("Band of {} on the finest mesh", band.response)
+    };
+    let mut t = TableBlock::new(
+        caption,
+        &[
+            (s.x.as_str(), Align::Right),
+            ("value", Align::Right),
+            ("U", Align::Right),
+            ("lower", Align::Right),
+            ("upper", Align::Right),
+            ("class", Align::Left),
+        ],
+    );
+    for i in rows {
+        let Some(p) = band.points.get(i) else {
+            continue;
+        };
+        t.rows.push(vec![
+            Cell::Num(num(p.x, 6)),
+            Cell::Num(sig(p.value, 6)),
+            Cell::num(p.absolute.map(|u| sig(u, 3))),
+            Cell::num(p.lower.map(|v| sig(v, 6))),
+            Cell::num(p.upper.map(|v| sig(v, 6))),
+            Cell::text(p.convergence.map_or("no estimate", |c| c.label())),
+        ]);
+    }
+    out.push(Block::Table(t));
+}
+
+fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
+    out.push(Block::Heading(2, format!("Sweep {}", s.name)));
+    let mode = s.mode.map_or(String::new(), |m| {
+        format!(", derived from raw monitors in {} mode", m.label())
+    });
+    out.push(Block::Paragraph(vec![text(format!(
+        "{} along {}, {} interpolation, meshes {}; range common to all meshes {} to {}{mode}.",
+        s.responses.join(", "),
+        s.x,
+        s.interpolation.label(),
+        s.meshes.join(", "),
+        num(s.overlap[0], 6),
+        num(s.overlap[1], 6),
+    ))]));
+    if !s.breakdown.is_empty() {
+        out.push(Block::Heading(3, format!("Breakdown of {}", s.name)));
+        let mut items = Vec::new();
+        for b in &s.breakdown {
+            items.push(vec![
+                Span::Strong(breakdown_rule(b, &s.x)),
+                text(format!(
+                    ": {}_b = {}; reference {} = {}",
+                    symbol(&s.x),
+                    statement(&b.x_estimate),
+                    symbol(&b.response),
+                    statement(&b.reference_estimate)
+                )),
+            ]);
+        }
+        out.push(Block::List(items));
+        out.push(Block::Table(breakdown_summary(s)));
+        for b in &s.breakdown {
+            out.push(Block::Table(breakdown_per_mesh(s, b)));
+        }
+    }
+    if let Some(band) = &s.band {
+        band_blocks(s, band, out);
+    }
+}
+
+/// The report of one assessment as blocks: meshes, results, estimates side by side, sweeps
+/// (breakdown and band), figures, warnings and, last, the caution.
+pub fn document(a: &Assessment, figures: &[(String, String)]) -> Vec<Block> {
+    let mut out = vec![
+        Block::Heading(1, a.title.clone()),
+        Block::Paragraph(vec![text("Study file: "), Span::Code(a.study.clone())]),
+        Block::Heading(2, "Meshes".into()),
+        Block::Table(meshes_table(a)),
+    ];
+    if !a.quantities.is_empty() {
+        out.push(Block::Heading(2, "Results".into()));
+        let items = a
+            .quantities
+            .iter()
+            .map(|q| {
+                let unit = q
+                    .unit
+                    .as_deref()
+                    .map_or(String::new(), |u| format!(" [{u}]"));
+                vec![
+                    Span::Strong(format!("{}{unit}", q.name)),
+                    text(format!(": {}", statement(q))),
+                ]
+            })
+            .collect();
+        out.push(Block::List(items));
+        out.push(Block::Table(results_table(a)));
+        if let Some(t) = both_estimates_table(a) {
+            out.push(Block::Table(t));
+        }
+    }
+    for s in &a.sweeps {
+        sweep_blocks(s, &mut out);
+    }
+    if !figures.is_empty() {
+        out.push(Block::Heading(2, "Figures".into()));
+        for (title, svg) in figures {
+            out.push(Block::Figure(title.clone(), svg.clone()));
+        }
+    }
+    out.push(Block::Heading(2, "Warnings".into()));
+    if a.warnings.is_empty() {
+        out.push(Block::Paragraph(vec![text("None.")]));
+    } else {
+        out.push(Block::List(
+            a.warnings
+                .iter()
+                .map(|w| {
+                    let mut s = vec![Span::Code(w.code.clone()), text(": ")];
+                    s.extend(spans(&w.message));
+                    s
+                })
+                .collect(),
+        ));
+    }
+    out.push(Block::Caution(a.caution.clone()));
+    out
+}
+
+#[cfg(test)]
+pub(crate) mod fixture {
+    //! Demo studies for the exporters' tests (invented numbers: format tests only, no check
+    //! values come from them).
+
+    use crate::assess::Assessment;
+    use std::path::Path;
+
+    /// Three meshes, a scalar quantity, a divergent one, and a sweep with a breakdown and a
+    /// band (invented demo data).
+    pub const DEMO: &str = "format: 1
+title: Demo runner & draft tube_test (invented) 100%
+dimension: 3
+meshes:
+  - {name: M_fine, cells: 2.0e6}
+  - {name: M_mid, cells: 8.0e5}
+  - {name: M_coarse, cells: 3.0e5}
+quantities:
+  efficiency:
+    unit: \"-\"
+    values: {M_fine: 0.912, M_mid: 0.905, M_coarse: 0.893}
+  torque:
+    unit: N m
+    values: {M_fine: 101.0, M_mid: 103.0, M_coarse: 104.0}
+sweeps:
+  cav:
+    x: sigma
+    responses: [efficiency]
+    interpolation: linear
+    data:
+      M_fine: {sigma: [0.4, 0.3, 0.2, 0.15, 0.1], efficiency: [0.90, 0.90, 0.898, 0.88, 0.80]}
+      M_mid: {sigma: [0.4, 0.3, 0.2, 0.15, 0.1], efficiency: [0.89, 0.89, 0.886, 0.86, 0.76]}
+      M_coarse: {sigma: [0.4, 0.3, 0.2, 0.15, 0.1], efficiency: [0.87, 0.87, 0.858, 0.83, 0.70]}
+    breakdown:
+      - {response: efficiency, drop: 1%, reference: plateau, plateau_from: 0.3}
+    band: {response: efficiency, at: fine}
+";
+
+    /// Five meshes, so that the least-squares estimate governs (invented demo data).
+    pub const FIVE: &str = "format: 1
+title: five meshes (invented)
+meshes:
+  - {name: A, size: 1.0}
+  - {name: B, size: 1.3}
+  - {name: C, size: 1.69}
+  - {name: D, size: 2.2}
+  - {name: E, size: 2.86}
+quantities:
+  head:
+    unit: m
+    values: {A: 24.31, B: 24.27, C: 24.12, D: 24.05, E: 23.71}
+";
+
+    /// Runs the real pipeline on a study text.
+    pub fn assess(text: &str) -> Assessment {
+        let study = crate::study::parse(text, Path::new("demo.yaml")).expect("demo study parses");
+        crate::assess::run(&study).expect("demo study assesses")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn backticks_become_code() {
+        assert_eq!(
+            spans("mesh `L2`: ratio"),
+            vec![
+                Span::Text("mesh ".into()),
+                Span::Code("L2".into()),
+                Span::Text(": ratio".into())
+            ]
+        );
+        assert_eq!(spans(""), vec![]);
+    }
+
+    #[test]
+    fn document_has_every_part_and_rows_match_columns() {
+        let a = fixture::assess(fixture::DEMO);
+        let blocks = document(&a, &[]);
+        let headings: Vec<&str> = blocks
+            .iter()
+            .filter_map(|b| match b {
+                Block::Heading(_, t) => Some(t.as_str()),
+                _ => None,
+            })
+            .collect();
+        for h in ["Meshes", "Results", "Sweep cav", "Warnings"] {
+            assert!(headings.contains(&h), "{h} in {headings:?}");
+        }
+        assert!(headings.iter().any(|h| h.starts_with("Band of efficiency")));
+        let tables: Vec<&TableBlock> = blocks
+            .iter()
+            .filter_map(|b| match b {
+                Block::Table(t) => Some(t),
+                _ => None,
+            })
+            .collect();
+        // meshes, results, breakdown summary, one per-mesh breakdown table, band
+        assert_eq!(tables.len(), 5);
+        for t in &tables {
+            assert_eq!(t.headers.len(), t.align.len());
+            for r in &t.rows {
+                assert_eq!(r.len(), t.headers.len(), "{}", t.caption);
+            }
+        }
+        assert_eq!(tables[0].rows.len(), a.meshes.len());
+        assert_eq!(tables[1].rows.len(), a.quantities.len());
+        assert!(matches!(blocks.last(), Some(Block::Caution(c)) if c == &a.caution));
+    }
+
+    #[test]
+    fn divergent_quantity_has_no_uncertainty_cells() {
+        let a = fixture::assess(fixture::DEMO);
+        let t = results_table(&a);
+        let torque = t
+            .rows
+            .iter()
+            .find(|r| r[0] == Cell::text("torque"))
+            .expect("torque row");
+        // 101, 103, 104: differences −2 then −1 grow with refinement, R = 2 (divergent, by
+        // the classes of Stern et al. 2001).
+        assert_eq!(torque[3], Cell::Missing);
+        assert_eq!(torque[5], Cell::text("divergent"));
+        assert_eq!(torque[6], Cell::text("none"));
+    }
+
+    #[test]
+    fn least_squares_gets_the_side_by_side_table() {
+        let a = fixture::assess(fixture::FIVE);
+        let t = both_estimates_table(&a).expect("five meshes give a least-squares estimate");
+        assert_eq!(t.rows.len(), 1);
+        assert!(both_estimates_table(&fixture::assess(fixture::DEMO)).is_none());
+    }
+
+    #[test]
+    fn figures_are_blocks_only_when_given() {
+        let a = fixture::assess(fixture::DEMO);
+        let n = |f: &[(String, String)]| {
+            document(&a, f)
+                .iter()
+                .filter(|b| matches!(b, Block::Figure(..)))
+                .count()
+        };
+        assert_eq!(n(&[]), 0);
+        assert_eq!(n(&[("t".into(), "<svg></svg>".into())]), 1);
+    }
+}

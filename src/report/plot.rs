@@ -1,0 +1,1222 @@
+//! SVG figures drawn with plotters' SVG backend (no fonts are loaded: the backend writes
+//! `<text>` elements and the viewer sets them).
+//!
+//! Every figure is first described as a [`Scene`] of plain data — lines, markers, bands and
+//! error bars in data coordinates, each in a named layer — and then drawn. Each layer is drawn
+//! into its own SVG buffer with the same chart geometry and the results are stacked into one
+//! document, each layer in a `<g>` group (`class="mesh"` with `data-mesh="…"` for a mesh), so
+//! that the parts of a figure can be found, styled or hidden in the SVG.
+//!
+//! Meshes are told apart by marker shape, fill and dash pattern as well as colour, so the
+//! figures stay readable printed in grey. Non-finite figures are skipped; no `NaN` reaches the
+//! SVG. The curves drawn (the Richardson line, the least-squares fit, the band) are figures the
+//! assessment holds, evaluated only to be drawn.
+
+use super::format::{governing_order, method_label, num, sig};
+use super::table::{breakdown_rule, statement, symbol};
+use crate::assess::sweep::SweepResult;
+use crate::assess::{Assessment, Method, QuantityResult};
+use crate::grid::Mesh;
+use plotters::coord::types::RangedCoordf64;
+use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+
+/// A measured point to show beside the computed curves, with its uncertainty in y
+/// (absolute; zero or non-finite draws no bar).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MeasuredPoint {
+    /// Abscissa.
+    pub x: f64,
+    /// Measured value.
+    pub y: f64,
+    /// Absolute uncertainty of the measured value.
+    pub u: f64,
+}
+
+/// Figure width in pixels.
+pub const WIDTH: u32 = 880;
+/// Figure height in pixels.
+pub const HEIGHT: u32 = 540;
+/// Width of the legend column at the right.
+const LEGEND: u32 = 260;
+/// Height of the title block above the chart.
+const TOP: u32 = 78;
+/// Font family of every text.
+const FONT: &str = "sans-serif";
+
+/// Marker shapes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Marker {
+    /// Filled circle.
+    Disc,
+    /// Open triangle.
+    Triangle,
+    /// Filled square.
+    Square,
+    /// Open diamond.
+    Diamond,
+    /// Diagonal cross.
+    Cross,
+    /// Open circle.
+    Ring,
+    /// Open circle with an upright cross (the extrapolated value).
+    Target,
+    /// Upright cross, bold (measured points).
+    Plus,
+}
+
+/// Line pattern.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Dash {
+    /// Unbroken.
+    Solid,
+    /// Dashes of the given length and gap, in pixels.
+    Dashed(u32, u32),
+}
+
+/// Stroke of a line.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Pen {
+    /// Colour.
+    pub colour: RGBColor,
+    /// Width in pixels.
+    pub width: u32,
+    /// Pattern.
+    pub dash: Dash,
+}
+
+/// What is drawn, in data coordinates.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Item {
+    /// A polyline.
+    Line(Vec<(f64, f64)>, Pen),
+    /// Markers of one shape, colour and size (pixels).
+    Markers(Vec<(f64, f64)>, Marker, RGBColor, i32),
+    /// A shaded band between an upper and a lower curve (same abscissae).
+    Band(Vec<(f64, f64)>, Vec<(f64, f64)>, RGBAColor),
+    /// A vertical error bar at x from `lo` to `hi`.
+    BarY(f64, f64, f64, RGBColor),
+    /// A horizontal error bar at y from `lo` to `hi`.
+    BarX(f64, f64, f64, RGBColor),
+}
+
+/// A group of items, written as one `<g>` element.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Layer {
+    /// The group's class (`mesh`, `band`, `fit`, …).
+    pub class: &'static str,
+    /// The mesh this layer belongs to, if any (`data-mesh`).
+    pub mesh: Option<String>,
+    /// What it draws.
+    pub items: Vec<Item>,
+}
+
+/// The sample drawn beside a legend label.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Sample {
+    /// A line, with a marker on it.
+    Line(Pen, Option<(Marker, RGBColor, i32)>),
+    /// A marker.
+    Marker(Marker, RGBColor, i32),
+    /// A filled swatch.
+    Swatch(RGBAColor),
+    /// A vertical error bar.
+    BarY(RGBColor),
+    /// A horizontal error bar.
+    BarX(RGBColor),
+}
+
+/// A figure as plain data.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scene {
+    /// Title line.
+    pub title: String,
+    /// Lines under the title.
+    pub subtitle: Vec<String>,
+    /// Abscissa label.
+    pub x_desc: String,
+    /// Ordinate label.
+    pub y_desc: String,
+    /// Values the axes must include besides the items (for example x = 0).
+    pub include_x: Vec<f64>,
+    /// Layers, drawn in order.
+    pub layers: Vec<Layer>,
+    /// Legend entries.
+    pub legend: Vec<(String, Sample)>,
+    /// Sentences under the legend.
+    pub notes: Vec<String>,
+}
+
+// Our palette: dark enough to print, distinct in hue, and backed by marker and dash.
+const INK: RGBColor = RGBColor(0x1A, 0x1A, 0x1A);
+const GREY_TEXT: RGBColor = RGBColor(0x44, 0x44, 0x44);
+const GRID_LIGHT: RGBColor = RGBColor(0xEC, 0xEC, 0xEC);
+const GRID_BOLD: RGBColor = RGBColor(0xD4, 0xD4, 0xD4);
+const FIT: RGBColor = RGBColor(0x4A, 0x4A, 0x4A);
+const BAND: RGBAColor = RGBAColor(0x8F, 0xA9, 0xBF, 0.45);
+const MESH_COLOURS: [RGBColor; 6] = [
+    RGBColor(0x1F, 0x3B, 0x57), // slate
+    RGBColor(0xB4, 0x53, 0x2A), // rust
+    RGBColor(0x3E, 0x7D, 0x4F), // moss
+    RGBColor(0x6D, 0x4C, 0x8F), // plum
+    RGBColor(0x8C, 0x7A, 0x2B), // ochre
+    RGBColor(0x2F, 0x7F, 0x8C), // teal
+];
+const MESH_MARKERS: [Marker; 6] = [
+    Marker::Disc,
+    Marker::Triangle,
+    Marker::Square,
+    Marker::Diamond,
+    Marker::Cross,
+    Marker::Ring,
+];
+const MESH_DASHES: [Dash; 6] = [
+    Dash::Solid,
+    Dash::Dashed(10, 5),
+    Dash::Dashed(3, 4),
+    Dash::Dashed(16, 5),
+    Dash::Dashed(7, 3),
+    Dash::Dashed(2, 7),
+];
+
+/// Colour, marker and line of the `i`-th mesh, finest first.
+pub fn mesh_style(i: usize) -> (RGBColor, Marker, Pen) {
+    let k = i % MESH_COLOURS.len();
+    let colour = MESH_COLOURS[k];
+    (
+        colour,
+        MESH_MARKERS[k],
+        Pen {
+            colour,
+            width: 2,
+            dash: MESH_DASHES[k],
+        },
+    )
+}
+
+fn finite(p: &(f64, f64)) -> bool {
+    p.0.is_finite() && p.1.is_finite()
+}
+
+/// `name (symbol)` when the trade has a symbol for the name, else the name.
+fn axis_name(name: &str) -> String {
+    let s = symbol(name);
+    if s == name {
+        name.to_string()
+    } else {
+        format!("{name} ({s})")
+    }
+}
+
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut line = String::new();
+    for word in text.split_whitespace() {
+        if !line.is_empty() && line.chars().count() + 1 + word.chars().count() > width {
+            lines.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    if !line.is_empty() {
+        lines.push(line);
+    }
+    lines
+}
+
+fn escape_xml(s: &str) -> String {
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+}
+
+// ---------------------------------------------------------------------------------------------
+// Drawing a scene.
+
+type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+fn err<E: std::fmt::Display>(e: E) -> String {
+    e.to_string()
+}
+
+/// A padded axis range covering `values`, never empty or degenerate.
+fn range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
+    let (lo, hi) = values
+        .filter(|v| v.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+            (lo.min(v), hi.max(v))
+        });
+    if !(lo.is_finite() && hi.is_finite()) {
+        return None;
+    }
+    let span = hi - lo;
+    let pad = if span > 0.0 {
+        0.06 * span
+    } else if lo != 0.0 {
+        0.05 * lo.abs()
+    } else {
+        1.0
+    };
+    let (a, b) = (lo - pad, hi + pad);
+    (a.is_finite() && b.is_finite() && b > a).then_some((a, b))
+}
+
+fn scene_ranges(s: &Scene) -> Option<((f64, f64), (f64, f64))> {
+    let mut xs = s.include_x.clone();
+    let mut ys = Vec::new();
+    for l in &s.layers {
+        for it in &l.items {
+            match it {
+                Item::Line(p, _) | Item::Markers(p, ..) => {
+                    for q in p.iter().filter(|q| finite(q)) {
+                        xs.push(q.0);
+                        ys.push(q.1);
+                    }
+                }
+                Item::Band(u, w, _) => {
+                    for q in u.iter().chain(w).filter(|q| finite(q)) {
+                        xs.push(q.0);
+                        ys.push(q.1);
+                    }
+                }
+                Item::BarY(x, lo, hi, _) => {
+                    xs.push(*x);
+                    ys.extend([*lo, *hi]);
+                }
+                Item::BarX(y, lo, hi, _) => {
+                    ys.push(*y);
+                    xs.extend([*lo, *hi]);
+                }
+            }
+        }
+    }
+    Some((range(xs.into_iter())?, range(ys.into_iter())?))
+}
+
+fn closed(pts: Vec<(i32, i32)>) -> Vec<(i32, i32)> {
+    let mut v = pts.clone();
+    if let Some(first) = pts.first() {
+        v.push(*first);
+    }
+    v
+}
+
+/// Builds a marker centred on `at` (any coordinate system) and evaluates `$body` with it bound
+/// to `$e`; each shape is its own element type, so the body is expanded once per shape.
+macro_rules! with_marker {
+    ($at:expr, $m:expr, $colour:expr, $s:expr, |$e:ident| $body:expr) => {{
+        let (at, colour, s): (_, RGBColor, i32) = ($at, $colour, $s);
+        let open = colour.stroke_width(2);
+        let base = EmptyElement::at(at);
+        match $m {
+            Marker::Disc => {
+                let $e = base + Circle::new((0, 0), s, colour.filled());
+                $body
+            }
+            Marker::Ring => {
+                let $e = base + Circle::new((0, 0), s, open);
+                $body
+            }
+            Marker::Square => {
+                let $e = base + Rectangle::new([(-s + 1, -s + 1), (s - 1, s - 1)], colour.filled());
+                $body
+            }
+            Marker::Triangle => {
+                let h = s + 1;
+                let $e =
+                    base + PathElement::new(closed(vec![(0, -h), (h, h - 1), (-h, h - 1)]), open);
+                $body
+            }
+            Marker::Diamond => {
+                let h = s + 1;
+                let $e =
+                    base + PathElement::new(closed(vec![(0, -h), (h, 0), (0, h), (-h, 0)]), open);
+                $body
+            }
+            Marker::Cross => {
+                let $e = base
+                    + PathElement::new(vec![(-s, -s), (s, s)], open)
+                    + PathElement::new(vec![(-s, s), (s, -s)], open);
+                $body
+            }
+            Marker::Plus => {
+                let bold = colour.stroke_width(3);
+                let $e = base
+                    + PathElement::new(vec![(-s, 0), (s, 0)], bold)
+                    + PathElement::new(vec![(0, -s), (0, s)], bold);
+                $body
+            }
+            Marker::Target => {
+                let r = s + 2;
+                let thin = colour.stroke_width(1);
+                let $e = base
+                    + Circle::new((0, 0), r, open)
+                    + PathElement::new(vec![(-r - 3, 0), (r + 3, 0)], thin)
+                    + PathElement::new(vec![(0, -r - 3), (0, r + 3)], thin);
+                $body
+            }
+        }
+    }};
+}
+
+fn draw_item(chart: &mut Chart<'_, '_>, item: &Item) -> Result<(), String> {
+    match item {
+        Item::Line(pts, pen) => {
+            let pts: Vec<(f64, f64)> = pts.iter().copied().filter(finite).collect();
+            if pts.len() < 2 {
+                return Ok(());
+            }
+            let style = pen.colour.stroke_width(pen.width);
+            match pen.dash {
+                Dash::Solid => chart
+                    .draw_series(LineSeries::new(pts, style))
+                    .map(|_| ())
+                    .map_err(err),
+                Dash::Dashed(d, g) => chart
+                    .draw_series(DashedLineSeries::new(pts, d, g, style))
+                    .map(|_| ())
+                    .map_err(err),
+            }
+        }
+        Item::Markers(pts, m, c, s) => {
+            for p in pts.iter().copied().filter(finite) {
+                with_marker!(p, *m, *c, *s, |e| chart
+                    .draw_series(std::iter::once(e))
+                    .map_err(err)?);
+            }
+            Ok(())
+        }
+        Item::Band(upper, lower, fill) => {
+            let mut poly: Vec<(f64, f64)> = upper.iter().copied().filter(finite).collect();
+            poly.extend(lower.iter().rev().copied().filter(finite));
+            if poly.len() < 3 {
+                return Ok(());
+            }
+            chart
+                .draw_series(std::iter::once(Polygon::new(poly, fill.filled())))
+                .map(|_| ())
+                .map_err(err)
+        }
+        Item::BarY(x, lo, hi, c) => {
+            if !(x.is_finite() && lo.is_finite() && hi.is_finite()) {
+                return Ok(());
+            }
+            let st = c.stroke_width(2);
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    vec![(*x, *lo), (*x, *hi)],
+                    st,
+                )))
+                .map_err(err)?;
+            chart
+                .draw_series([*lo, *hi].into_iter().map(|y| {
+                    EmptyElement::at((*x, y)) + PathElement::new(vec![(-7, 0), (7, 0)], st)
+                }))
+                .map(|_| ())
+                .map_err(err)
+        }
+        Item::BarX(y, lo, hi, c) => {
+            if !(y.is_finite() && lo.is_finite() && hi.is_finite()) {
+                return Ok(());
+            }
+            let st = c.stroke_width(2);
+            chart
+                .draw_series(std::iter::once(PathElement::new(
+                    vec![(*lo, *y), (*hi, *y)],
+                    st,
+                )))
+                .map_err(err)?;
+            chart
+                .draw_series([*lo, *hi].into_iter().map(|x| {
+                    EmptyElement::at((x, *y)) + PathElement::new(vec![(0, -7), (0, 7)], st)
+                }))
+                .map(|_| ())
+                .map_err(err)
+        }
+    }
+}
+
+fn draw_sample(
+    area: &DrawingArea<SVGBackend<'_>, Shift>,
+    y: i32,
+    sample: &Sample,
+) -> Result<(), String> {
+    let (x0, x1, xm) = (10, 46, 28);
+    match sample {
+        Sample::Line(pen, marker) => {
+            let st = pen.colour.stroke_width(pen.width);
+            match pen.dash {
+                Dash::Solid => area
+                    .draw(&PathElement::new(vec![(x0, y), (x1, y)], st))
+                    .map_err(err)?,
+                Dash::Dashed(d, g) => area
+                    .draw(&DashedPathElement::new(vec![(x0, y), (x1, y)], d, g, st))
+                    .map_err(err)?,
+            }
+            if let Some((m, c, s)) = marker {
+                with_marker!((xm, y), *m, *c, *s, |e| area.draw(&e).map_err(err)?);
+            }
+            Ok(())
+        }
+        Sample::Marker(m, c, s) => {
+            with_marker!((xm, y), *m, *c, *s, |e| area.draw(&e).map_err(err)?);
+            Ok(())
+        }
+        Sample::Swatch(c) => area
+            .draw(&Rectangle::new([(x0, y - 7), (x1, y + 7)], c.filled()))
+            .map_err(err),
+        Sample::BarY(c) => {
+            let st = c.stroke_width(2);
+            area.draw(&PathElement::new(vec![(xm, y - 9), (xm, y + 9)], st))
+                .map_err(err)?;
+            for yy in [y - 9, y + 9] {
+                area.draw(&PathElement::new(vec![(xm - 6, yy), (xm + 6, yy)], st))
+                    .map_err(err)?;
+            }
+            Ok(())
+        }
+        Sample::BarX(c) => {
+            let st = c.stroke_width(2);
+            area.draw(&PathElement::new(vec![(x0 + 2, y), (x1 - 2, y)], st))
+                .map_err(err)?;
+            for xx in [x0 + 2, x1 - 2] {
+                area.draw(&PathElement::new(vec![(xx, y - 6), (xx, y + 6)], st))
+                    .map_err(err)?;
+            }
+            Ok(())
+        }
+    }
+}
+
+fn draw_legend(area: &DrawingArea<SVGBackend<'_>, Shift>, s: &Scene) -> Result<(), String> {
+    let label = TextStyle::from((FONT, 13).into_font())
+        .color(&INK)
+        .pos(Pos::new(HPos::Left, VPos::Center));
+    let note = TextStyle::from((FONT, 12).into_font())
+        .color(&GREY_TEXT)
+        .pos(Pos::new(HPos::Left, VPos::Center));
+    let mut y = TOP as i32 + 8;
+    for (text, sample) in &s.legend {
+        draw_sample(area, y, sample)?;
+        for (k, line) in wrap(text, 27).iter().enumerate() {
+            if k > 0 {
+                y += 16;
+            }
+            area.draw(&Text::new(line.clone(), (54, y), label.clone()))
+                .map_err(err)?;
+        }
+        y += 26;
+    }
+    y += 6;
+    for n in &s.notes {
+        for line in wrap(n, 36) {
+            area.draw(&Text::new(line, (10, y), note.clone()))
+                .map_err(err)?;
+            y += 15;
+        }
+        y += 6;
+    }
+    Ok(())
+}
+
+/// A tick label: rounded to ten significant digits, then shown as briefly as it reads.
+fn tick(v: f64, zero: f64) -> String {
+    if v.abs() <= zero {
+        return "0".into();
+    }
+    let r: f64 = format!("{v:.9e}").parse().unwrap_or(v);
+    num(r, 6)
+}
+
+#[derive(Clone, Copy)]
+enum Part {
+    Frame,
+    Layer(usize),
+    Legend,
+}
+
+/// Draws one part of a scene into its own SVG document.
+fn draw_part(s: &Scene, x: (f64, f64), y: (f64, f64), part: Part) -> Result<String, String> {
+    let mut buf = String::new();
+    {
+        let root = SVGBackend::with_string(&mut buf, (WIDTH, HEIGHT)).into_drawing_area();
+        let (plot, legend) = root.split_horizontally(WIDTH - LEGEND);
+        let mut chart = ChartBuilder::on(&plot)
+            .margin_top(TOP)
+            .margin_left(14)
+            .margin_right(18)
+            .margin_bottom(12)
+            .x_label_area_size(54)
+            .y_label_area_size(86)
+            .build_cartesian_2d(x.0..x.1, y.0..y.1)
+            .map_err(err)?;
+        match part {
+            Part::Frame => {
+                root.fill(&WHITE).map_err(err)?;
+                let title = TextStyle::from((FONT, 20).into_font().style(FontStyle::Bold))
+                    .color(&INK)
+                    .pos(Pos::new(HPos::Left, VPos::Top));
+                root.draw(&Text::new(s.title.clone(), (16, 12), title))
+                    .map_err(err)?;
+                let sub = TextStyle::from((FONT, 13).into_font())
+                    .color(&GREY_TEXT)
+                    .pos(Pos::new(HPos::Left, VPos::Top));
+                for (i, line) in s.subtitle.iter().enumerate() {
+                    root.draw(&Text::new(
+                        line.clone(),
+                        (16, 38 + 17 * i as i32),
+                        sub.clone(),
+                    ))
+                    .map_err(err)?;
+                }
+                let (zx, zy) = ((x.1 - x.0) * 1e-9, (y.1 - y.0) * 1e-9);
+                let fx = move |v: &f64| tick(*v, zx);
+                let fy = move |v: &f64| tick(*v, zy);
+                chart
+                    .configure_mesh()
+                    .x_desc(s.x_desc.clone())
+                    .y_desc(s.y_desc.clone())
+                    .x_labels(8)
+                    .y_labels(8)
+                    .max_light_lines(3)
+                    .light_line_style(GRID_LIGHT)
+                    .bold_line_style(GRID_BOLD)
+                    .axis_style(INK)
+                    .label_style((FONT, 12))
+                    .axis_desc_style((FONT, 14))
+                    .x_label_formatter(&fx)
+                    .y_label_formatter(&fy)
+                    .draw()
+                    .map_err(err)?;
+            }
+            Part::Layer(i) => {
+                if let Some(l) = s.layers.get(i) {
+                    for it in &l.items {
+                        draw_item(&mut chart, it)?;
+                    }
+                }
+            }
+            Part::Legend => draw_legend(&legend, s)?,
+        }
+        root.present().map_err(err)?;
+    }
+    Ok(buf)
+}
+
+/// Splits plotters' SVG document into its opening `<svg …>` tag and its content.
+fn split_svg(doc: &str) -> Option<(&str, &str)> {
+    let start = doc.find("<svg")?;
+    let open_end = start + doc[start..].find('>')? + 1;
+    let close = doc.rfind("</svg>")?;
+    (close >= open_end).then(|| (&doc[start..open_end], doc[open_end..close].trim_start()))
+}
+
+/// Draws a scene as one SVG document, or `None` when there is nothing finite to draw.
+pub fn render(s: &Scene) -> Option<String> {
+    let (x, y) = scene_ranges(s)?;
+    let frame = draw_part(s, x, y, Part::Frame).ok()?;
+    let (open, inner) = split_svg(&frame)?;
+    let mut out = format!("{open}\n<title>{}</title>\n", escape_xml(&s.title));
+    if !s.subtitle.is_empty() {
+        out.push_str(&format!(
+            "<desc>{}</desc>\n",
+            escape_xml(&s.subtitle.join("; "))
+        ));
+    }
+    out.push_str(&format!("<g class=\"frame\">\n{inner}</g>\n"));
+    for (i, l) in s.layers.iter().enumerate() {
+        let doc = draw_part(s, x, y, Part::Layer(i)).ok()?;
+        let (_, inner) = split_svg(&doc)?;
+        let mesh = l.mesh.as_deref().map_or(String::new(), |m| {
+            format!(" data-mesh=\"{}\"", escape_xml(m))
+        });
+        out.push_str(&format!("<g class=\"{}\"{mesh}>\n{inner}</g>\n", l.class));
+    }
+    let doc = draw_part(s, x, y, Part::Legend).ok()?;
+    let (_, inner) = split_svg(&doc)?;
+    out.push_str(&format!("<g class=\"legend\">\n{inner}</g>\n</svg>\n"));
+    Some(out)
+}
+
+// ---------------------------------------------------------------------------------------------
+// Convergence plot.
+
+/// The meshes of a quantity, aligned with its values (finest first): the least-squares or
+/// three-mesh meshes when it has those estimates, else the sweep's meshes for a sweep quantity
+/// (`<sweep>.…`), else the study's meshes.
+fn quantity_meshes<'a>(a: &'a Assessment, q: &QuantityResult) -> Option<Vec<&'a Mesh>> {
+    let names: Vec<String> = if let Some(ls) = &q.least_squares {
+        ls.per_mesh.iter().map(|m| m.mesh.clone()).collect()
+    } else if let Some(tg) = &q.three_grid {
+        tg.meshes.clone()
+    } else if let Some(s) = a
+        .sweeps
+        .iter()
+        .find(|s| q.name.starts_with(&format!("{}.", s.name)))
+    {
+        s.meshes.clone()
+    } else {
+        a.meshes.iter().map(|m| m.name.clone()).collect()
+    };
+    names
+        .iter()
+        .map(|n| a.meshes.iter().find(|m| &m.name == n))
+        .collect()
+}
+
+/// A fitted curve to draw, with the extrapolated value it reaches at h = 0.
+struct FitCurve {
+    curve: Vec<(f64, f64)>,
+    label: String,
+    ext: f64,
+    name: &'static str,
+}
+
+/// The scene of [`convergence_plot`].
+pub fn convergence_scene(a: &Assessment, q: &QuantityResult) -> Option<Scene> {
+    let meshes = quantity_meshes(a, q)?;
+    let h1 = meshes.first()?.size;
+    if !(h1.is_finite() && h1 > 0.0) {
+        return None;
+    }
+    let u = q.uncertainty.as_ref();
+    let ls_governs = u.map(|u| u.method) == Some(Method::LeastSquares);
+    let estimate = "three-mesh estimate";
+    // The abscissa's order: with the least-squares fit governing, the order of the selected
+    // fit (so that a first- or second-order fit draws straight); else the observed order.
+    let selected = q
+        .least_squares
+        .as_ref()
+        .filter(|_| ls_governs)
+        .and_then(|ls| ls.selected_fit());
+    let order = match selected {
+        Some(f) => f.order,
+        None => governing_order(q),
+    };
+    let (p, p_note) = match (order, selected) {
+        (Some(p), Some(f)) if p.is_finite() && p > 0.0 => (
+            p,
+            format!(
+                "p = {}, the order of the selected least-squares fit ({})",
+                sig(p, 4),
+                f.kind.label()
+            ),
+        ),
+        (Some(p), None) if p.is_finite() && p > 0.0 => (
+            p,
+            format!("p = {}, the observed order of the {estimate}", sig(p, 4)),
+        ),
+        _ => (
+            2.0,
+            "p = 2, the formal order assumed (no single positive order)".to_string(),
+        ),
+    };
+    let pts: Vec<(usize, &Mesh, (f64, f64))> = meshes
+        .iter()
+        .zip(&q.values)
+        .enumerate()
+        .map(|(i, (m, v))| (i, *m, ((m.size / h1).powf(p), *v)))
+        .filter(|(_, _, pt)| finite(pt))
+        .collect();
+    if pts.is_empty() {
+        return None;
+    }
+    let x_max = pts.iter().fold(0.0_f64, |m, (_, _, pt)| m.max(pt.0));
+    let unit = q
+        .unit
+        .as_deref()
+        .map_or(String::new(), |u| format!(" [{u}]"));
+    let mut layers = Vec::new();
+    let mut legend = Vec::new();
+    let mut notes = Vec::new();
+
+    // The fitted curve and the extrapolated value, drawn from the figures the estimate holds.
+    let mut fit: Option<FitCurve> = None;
+    if ls_governs {
+        if let Some((ls, f)) = q
+            .least_squares
+            .as_ref()
+            .and_then(|ls| ls.selected_fit().map(|f| (ls, f)))
+        {
+            let n = 64;
+            let curve: Vec<(f64, f64)> = (0..=n)
+                .map(|k| {
+                    let x = x_max * k as f64 / n as f64;
+                    (x, f.value_at(h1 * x.powf(1.0 / p)))
+                })
+                .filter(finite)
+                .collect();
+            let label = format!(
+                "least-squares fit ({}, {})",
+                ls.selected.kind.label(),
+                if ls.selected.weighted {
+                    "weighted"
+                } else {
+                    "unweighted"
+                }
+            );
+            fit = Some(FitCurve {
+                curve,
+                label,
+                ext: f.phi0,
+                name: "φ0",
+            });
+        }
+    } else if u.map(|u| u.method) == Some(Method::ThreeGrid) {
+        if let (Some(tg), Some(phi1)) = (&q.three_grid, q.values.first()) {
+            if let (Some(ext), Some(_)) = (tg.estimate.extrapolated, tg.estimate.observed_order) {
+                // φ(h) = φ_ext + (φ1 − φ_ext)(h/h1)^p: a straight line against (h/h1)^p.
+                let line = vec![(0.0, ext), (x_max, ext + (phi1 - ext) * x_max)];
+                fit = Some(FitCurve {
+                    curve: line,
+                    label: "Richardson line".into(),
+                    ext,
+                    name: "φ_ext",
+                });
+            }
+        }
+    }
+    match &fit {
+        Some(FitCurve {
+            curve,
+            label,
+            ext,
+            name,
+        }) if ext.is_finite() => {
+            let pen = Pen {
+                colour: FIT,
+                width: 2,
+                dash: Dash::Dashed(12, 6),
+            };
+            layers.push(Layer {
+                class: "fit",
+                mesh: None,
+                items: vec![Item::Line(curve.clone(), pen)],
+            });
+            legend.push((label.clone(), Sample::Line(pen, None)));
+            layers.push(Layer {
+                class: "extrapolated",
+                mesh: None,
+                items: vec![Item::Markers(vec![(0.0, *ext)], Marker::Target, INK, 5)],
+            });
+            legend.push((
+                format!("{name} at h = 0: {}", sig(*ext, 7)),
+                Sample::Marker(Marker::Target, INK, 5),
+            ));
+        }
+        _ => notes.push(match q.convergence {
+            Some(crate::estimate::Convergence::Oscillatory) => {
+                "Oscillatory: U is half the range of the values; no curve is fitted.".to_string()
+            }
+            Some(crate::estimate::Convergence::Divergent) | None => {
+                "No fitted curve: no discretisation uncertainty can be claimed.".to_string()
+            }
+            Some(_) => "No fitted curve.".to_string(),
+        }),
+    }
+    for (i, m, pt) in &pts {
+        let (colour, marker, _) = mesh_style(*i);
+        layers.push(Layer {
+            class: "mesh",
+            mesh: Some(m.name.clone()),
+            items: vec![Item::Markers(vec![*pt], marker, colour, 5)],
+        });
+        legend.push((
+            format!("{} (h = {})", m.name, num(m.size, 4)),
+            Sample::Marker(marker, colour, 5),
+        ));
+    }
+    if let Some(u) = u.filter(|u| u.absolute > 0.0 && u.absolute.is_finite()) {
+        let finest = pts.first().map(|(_, m, _)| m.name.as_str()).unwrap_or("");
+        layers.push(Layer {
+            class: "uncertainty",
+            mesh: None,
+            items: vec![Item::BarY(1.0, u.lower, u.upper, INK)],
+        });
+        legend.push((
+            format!("{finest} ± U ({})", method_label(u.method)),
+            Sample::BarY(INK),
+        ));
+    }
+    Some(Scene {
+        title: format!("{}: value against mesh size", q.name),
+        subtitle: vec![
+            statement(q),
+            format!("abscissa (h/h1)^p with {p_note}; h1 is the finest mesh"),
+        ],
+        x_desc: "(h/h1)^p, relative to the finest mesh".into(),
+        y_desc: format!("{}{unit}", q.name),
+        include_x: vec![0.0, 1.0],
+        layers,
+        legend,
+        notes,
+    })
+}
+
+/// The convergence plot of a quantity: each mesh's value against (h/h1)^p (p the governing
+/// observed order, or the formal order 2 when there is none — the figure says which), the
+/// fitted curve down to h = 0 with the extrapolated value there, and the finest mesh's value
+/// ± U. `None` when the quantity has no finite value to show or its meshes are unknown.
+pub fn convergence_plot(a: &Assessment, q: &QuantityResult) -> Option<String> {
+    render(&convergence_scene(a, q)?)
+}
+
+// ---------------------------------------------------------------------------------------------
+// Sweep plot.
+
+/// The scene of [`response_plot`].
+pub fn response_scene(
+    a: &Assessment,
+    s: &SweepResult,
+    response: &str,
+    measured: &[MeasuredPoint],
+) -> Option<Scene> {
+    let r = s.responses.iter().position(|x| x == response)?;
+    let mesh_index = |name: &str| s.meshes.iter().position(|m| m == name).unwrap_or(0);
+    let mut layers = Vec::new();
+    let mut legend = Vec::new();
+    let mut notes = Vec::new();
+    let finest = s.meshes.first().map_or("finest mesh", String::as_str);
+
+    if let Some(band) = s.band.as_ref().filter(|b| b.response == response) {
+        // One shaded polygon per run of points that have both bounds.
+        let mut items = Vec::new();
+        let (mut up, mut lo) = (Vec::new(), Vec::new());
+        for p in &band.points {
+            match (p.lower, p.upper) {
+                (Some(l), Some(u)) if finite(&(p.x, l)) && u.is_finite() => {
+                    lo.push((p.x, l));
+                    up.push((p.x, u));
+                }
+                _ => {
+                    if up.len() >= 2 {
+                        items.push(Item::Band(
+                            std::mem::take(&mut up),
+                            std::mem::take(&mut lo),
+                            BAND,
+                        ));
+                    }
+                    up.clear();
+                    lo.clear();
+                }
+            }
+        }
+        if up.len() >= 2 {
+            items.push(Item::Band(up, lo, BAND));
+        }
+        if !items.is_empty() {
+            layers.push(Layer {
+                class: "band",
+                mesh: s.meshes.first().cloned(),
+                items,
+            });
+            legend.push((format!("{finest} ± U (band)"), Sample::Swatch(BAND)));
+        }
+    }
+    let mut any = false;
+    let mut mesh_layers = Vec::new();
+    for (i, c) in s.curves.iter().enumerate() {
+        let Some(ys) = c.responses.get(r) else {
+            continue;
+        };
+        let pts: Vec<(f64, f64)> =
+            c.x.iter()
+                .copied()
+                .zip(ys.iter().copied())
+                .filter(finite)
+                .collect();
+        if pts.is_empty() {
+            continue;
+        }
+        any = true;
+        let (colour, marker, pen) = mesh_style(i);
+        mesh_layers.push(Layer {
+            class: "mesh",
+            mesh: Some(c.mesh.clone()),
+            items: vec![
+                Item::Line(pts.clone(), pen),
+                Item::Markers(pts, marker, colour, 3),
+            ],
+        });
+        let cells = a
+            .meshes
+            .iter()
+            .find(|m| m.name == c.mesh)
+            .and_then(|m| m.cells)
+            .map_or(String::new(), |n| format!(" ({} cells)", num(n, 8)));
+        legend.push((
+            format!("{}{cells}", c.mesh),
+            Sample::Line(pen, Some((marker, colour, 3))),
+        ));
+    }
+    if !any {
+        return None;
+    }
+    // Coarsest first, so that the finest mesh is drawn on top.
+    layers.extend(mesh_layers.into_iter().rev());
+
+    let mut breakdown_legend = false;
+    for b in s.breakdown.iter().filter(|b| b.response == response) {
+        for m in &b.per_mesh {
+            let (colour, marker, _) = mesh_style(mesh_index(&m.mesh));
+            layers.push(Layer {
+                class: "breakdown",
+                mesh: Some(m.mesh.clone()),
+                items: vec![Item::Markers(vec![(m.x, m.threshold)], marker, colour, 7)],
+            });
+        }
+        if !breakdown_legend {
+            legend.push((
+                "breakdown of each mesh (large markers)".into(),
+                Sample::Marker(Marker::Ring, GREY_TEXT, 7),
+            ));
+            breakdown_legend = true;
+        }
+        if let (Some(u), Some(m)) = (b.x_estimate.uncertainty.as_ref(), b.per_mesh.first()) {
+            layers.push(Layer {
+                class: "breakdown-uncertainty",
+                mesh: Some(m.mesh.clone()),
+                items: vec![Item::BarX(m.threshold, u.lower, u.upper, INK)],
+            });
+        }
+        notes.push(format!(
+            "Breakdown: {}. {}_b = {}.",
+            breakdown_rule(b, &s.x),
+            symbol(&s.x),
+            statement(&b.x_estimate)
+        ));
+    }
+    if layers.iter().any(|l| l.class == "breakdown-uncertainty") {
+        legend.push((format!("breakdown of {finest} ± U"), Sample::BarX(INK)));
+    }
+    let measured: Vec<&MeasuredPoint> = measured.iter().filter(|p| finite(&(p.x, p.y))).collect();
+    if !measured.is_empty() {
+        let mut items = vec![Item::Markers(
+            measured.iter().map(|p| (p.x, p.y)).collect(),
+            Marker::Plus,
+            INK,
+            6,
+        )];
+        for p in measured.iter().filter(|p| p.u.is_finite() && p.u > 0.0) {
+            items.push(Item::BarY(p.x, p.y - p.u, p.y + p.u, INK));
+        }
+        layers.push(Layer {
+            class: "measured",
+            mesh: None,
+            items,
+        });
+        legend.push(("measured ± u".into(), Sample::Marker(Marker::Plus, INK, 6)));
+    }
+    let band_note = s
+        .band
+        .as_ref()
+        .filter(|b| b.response == response)
+        .map_or(String::new(), |b| {
+            format!("; band of {finest} at {} points", b.points.len())
+        });
+    Some(Scene {
+        title: format!("{}: {} along {}", s.name, response, s.x),
+        subtitle: vec![format!(
+            "meshes {}; {} interpolation{band_note}",
+            s.meshes.join(", "),
+            s.interpolation.label()
+        )],
+        x_desc: axis_name(&s.x),
+        y_desc: axis_name(response),
+        include_x: Vec::new(),
+        layers,
+        legend,
+        notes,
+    })
+}
+
+/// A sweep's curves of one response: every mesh's curve, the finest mesh's band when the band
+/// is on this response, every mesh's breakdown of this response with the finest mesh's
+/// breakdown ± U, and `measured` points with their uncertainty (may be empty). `None` when the
+/// sweep has no such response or no finite point of it.
+pub fn response_plot(
+    a: &Assessment,
+    s: &SweepResult,
+    response: &str,
+    measured: &[MeasuredPoint],
+) -> Option<String> {
+    render(&response_scene(a, s, response, measured)?)
+}
+
+/// The sweep plot: [`response_plot`] of the band's response, or of the first response when
+/// the sweep has no band.
+pub fn sweep_plot(a: &Assessment, s: &SweepResult, measured: &[MeasuredPoint]) -> Option<String> {
+    let response = s
+        .band
+        .as_ref()
+        .map(|b| b.response.as_str())
+        .or(s.responses.first().map(String::as_str))?;
+    response_plot(a, s, response, measured)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::markup::fixture;
+
+    /// Checks that tags nest and close (a small XML-ish reader: enough for plotters' output).
+    fn balanced(svg: &str) -> Result<(), String> {
+        let mut stack: Vec<String> = Vec::new();
+        let mut rest = svg;
+        while let Some(i) = rest.find('<') {
+            let j = rest[i..].find('>').ok_or("unclosed tag")? + i;
+            let tag = &rest[i + 1..j];
+            rest = &rest[j + 1..];
+            if let Some(name) = tag.strip_prefix('/') {
+                let open = stack.pop().ok_or(format!("stray </{name}>"))?;
+                if open != name.trim() {
+                    return Err(format!("<{open}> closed by </{name}>"));
+                }
+            } else if !tag.ends_with('/') && !tag.starts_with('?') && !tag.starts_with('!') {
+                let name = tag.split_whitespace().next().unwrap_or("").to_string();
+                stack.push(name);
+            }
+        }
+        if stack.is_empty() {
+            Ok(())
+        } else {
+            Err(format!("unclosed {stack:?}"))
+        }
+    }
+
+    fn check_svg(svg: &str) {
+        assert!(svg.starts_with("<svg"), "{}", &svg[..svg.len().min(80)]);
+        balanced(svg).unwrap();
+        assert!(svg.trim_end().ends_with("</svg>"));
+        let words: Vec<&str> = svg
+            .split(|c: char| !c.is_ascii_alphanumeric())
+            .filter(|w| matches!(*w, "NaN" | "nan" | "inf" | "infinite" | "Infinity"))
+            .collect();
+        assert!(words.is_empty(), "non-finite numbers in the SVG: {words:?}");
+        assert!(!svg.contains("not a number"));
+    }
+
+    #[test]
+    fn convergence_plot_of_a_three_mesh_quantity() {
+        let a = fixture::assess(fixture::DEMO);
+        let q = &a.quantities[0];
+        let svg = convergence_plot(&a, q).expect("a plot");
+        check_svg(&svg);
+        assert!(svg.contains("(h/h1)^p, relative to the finest mesh"));
+        assert!(svg.contains("efficiency [-]"));
+        assert_eq!(svg.matches("<g class=\"mesh\"").count(), 3);
+        for m in ["M_fine", "M_mid", "M_coarse"] {
+            assert!(svg.contains(&format!("data-mesh=\"{m}\"")), "{m}");
+        }
+        assert!(svg.contains("<g class=\"fit\">"));
+        assert!(svg.contains("<g class=\"uncertainty\">"));
+        assert!(svg.contains("Richardson line"));
+        assert!(svg.contains("the observed order of the three-mesh estimate"));
+    }
+
+    #[test]
+    fn divergent_quantity_gives_a_plot_without_a_fit() {
+        let a = fixture::assess(fixture::DEMO);
+        let q = a.quantities.iter().find(|q| q.name == "torque").unwrap();
+        let svg = convergence_plot(&a, q).expect("points are still shown");
+        check_svg(&svg);
+        assert!(!svg.contains("class=\"fit\""));
+        assert!(!svg.contains("class=\"uncertainty\""));
+        assert!(svg.contains("formal order assumed"));
+        assert_eq!(svg.matches("<g class=\"mesh\"").count(), 3);
+    }
+
+    #[test]
+    fn least_squares_fit_is_drawn_from_the_selected_fit() {
+        let a = fixture::assess(fixture::FIVE);
+        let q = &a.quantities[0];
+        let scene = convergence_scene(&a, q).expect("scene");
+        let fit = scene
+            .layers
+            .iter()
+            .find(|l| l.class == "fit")
+            .expect("a fit layer");
+        let ls = q.least_squares.as_ref().unwrap();
+        let f = ls.selected_fit().unwrap();
+        // The curve starts at φ0 of the selected fit (h = 0) and passes through the fit's
+        // value at the finest mesh, x = 1 (the assessment's own figures).
+        let Item::Line(pts, _) = &fit.items[0] else {
+            panic!("a line")
+        };
+        approx::assert_relative_eq!(pts[0].1, f.phi0, max_relative = 1e-12);
+        assert!(scene
+            .legend
+            .iter()
+            .any(|(l, _)| l.starts_with("least-squares fit")));
+        let svg = render(&scene).unwrap();
+        check_svg(&svg);
+        assert_eq!(svg.matches("<g class=\"mesh\"").count(), 5);
+    }
+
+    #[test]
+    fn quantity_without_values_gives_none() {
+        let a = fixture::assess(fixture::DEMO);
+        let mut q = a.quantities[0].clone();
+        q.values = vec![f64::NAN, f64::NAN, f64::NAN];
+        assert!(convergence_plot(&a, &q).is_none());
+        // One missing value: that mesh is left out, the others are drawn, no NaN is written.
+        q.values = vec![0.912, f64::NAN, 0.893];
+        let svg = convergence_plot(&a, &q).expect("two points remain");
+        check_svg(&svg);
+        assert_eq!(svg.matches("<g class=\"mesh\"").count(), 2);
+        assert!(!svg.contains("data-mesh=\"M_mid\""));
+        q.values.clear();
+        assert!(convergence_plot(&a, &q).is_none());
+    }
+
+    #[test]
+    fn sweep_plot_has_curves_band_breakdowns_and_measurements() {
+        let a = fixture::assess(fixture::DEMO);
+        let s = &a.sweeps[0];
+        let svg = sweep_plot(&a, s, &[]).expect("a plot");
+        check_svg(&svg);
+        assert!(svg.contains("sigma (σ)"));
+        assert!(svg.contains("efficiency (η)"));
+        assert_eq!(svg.matches("<g class=\"mesh\"").count(), 3);
+        assert_eq!(svg.matches("<g class=\"breakdown\"").count(), 3);
+        assert!(svg.contains("<g class=\"band\""));
+        assert!(svg.contains("<g class=\"breakdown-uncertainty\""));
+        assert!(!svg.contains("class=\"measured\""));
+        let measured = [
+            MeasuredPoint {
+                x: 0.3,
+                y: 0.9,
+                u: 0.004,
+            },
+            MeasuredPoint {
+                x: f64::NAN,
+                y: 0.9,
+                u: 0.004,
+            },
+        ];
+        let svg = sweep_plot(&a, s, &measured).unwrap();
+        check_svg(&svg);
+        assert!(svg.contains("<g class=\"measured\">"));
+        assert!(response_plot(&a, s, "no such response", &[]).is_none());
+    }
+
+    #[test]
+    fn ranges_never_degenerate() {
+        assert_eq!(range([2.0, 2.0].into_iter()), Some((1.9, 2.1)));
+        assert_eq!(range([0.0].into_iter()), Some((-1.0, 1.0)));
+        assert_eq!(range([f64::NAN].into_iter()), None);
+        assert_eq!(range(std::iter::empty()), None);
+    }
+
+    #[test]
+    fn tick_labels_are_short() {
+        assert_eq!(tick(0.30000000000000004, 1e-12), "0.3");
+        assert_eq!(tick(1e-17, 1e-12), "0");
+        assert_eq!(tick(0.905, 1e-12), "0.905");
+    }
+}

@@ -1,0 +1,113 @@
+//! The Markdown, LaTeX and CSV exports of the demo cavitation study through the real binary,
+//! pinned by golden files (regenerate with `MESHBOUND_BLESS=1`, then review the diff).
+
+mod common;
+
+use approx::assert_relative_eq;
+use common::*;
+
+/// Whether the text shows a non-finite number: a word `NaN`, `nan`, `inf` or `infinite`
+/// (as Rust or our display helpers would print one), or "not a number".
+fn non_finite(text: &str) -> bool {
+    text.contains("not a number")
+        || text
+            .split(|c: char| !c.is_ascii_alphanumeric())
+            .any(|w| matches!(w, "NaN" | "nan" | "inf" | "infinite" | "Infinity"))
+}
+
+const STUDY: &str = "studies/pump-turbine-cavitation.yaml";
+
+/// Runs `assess STUDY --format FORMAT` and compares stdout with `tests/golden/NAME`.
+fn golden(format: &str, name: &str) -> String {
+    let o = run(&["assess", STUDY, "--format", format]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let got = String::from_utf8(o.stdout.clone()).expect("UTF-8 output");
+    let path = root().join("tests/golden").join(name);
+    if std::env::var_os("MESHBOUND_BLESS").is_some() {
+        std::fs::write(&path, &got).unwrap();
+    }
+    let want = std::fs::read_to_string(&path)
+        .unwrap_or_else(|e| panic!("golden file {}: {e}", path.display()));
+    assert!(
+        got == want,
+        "{format} output differs from {}; run with MESHBOUND_BLESS=1 to regenerate and review the diff\n--- got\n{got}",
+        path.display()
+    );
+    got
+}
+
+#[test]
+fn markdown_matches_the_golden_file() {
+    let text = golden("markdown", "pump-turbine-cavitation.md");
+    assert!(text.contains("> **Caution.**"));
+}
+
+#[test]
+fn latex_matches_the_golden_file() {
+    let text = golden("latex", "pump-turbine-cavitation.tex");
+    assert_eq!(
+        text.matches("\\begin{tabular}").count(),
+        text.matches("\\bottomrule").count()
+    );
+}
+
+#[test]
+fn csv_matches_the_golden_file_and_the_json_figures() {
+    let text = golden("csv", "pump-turbine-cavitation.csv");
+    let mut r = csv::Reader::from_reader(text.as_bytes());
+    let head = r.headers().unwrap().clone();
+    let rows: Vec<csv::StringRecord> = r.records().map(|x| x.unwrap()).collect();
+    for row in &rows {
+        assert_eq!(row.len(), head.len());
+    }
+    let v = json(&["assess", STUDY, "--format", "json"]);
+    let col = |n: &str| head.iter().position(|h| h == n).unwrap();
+    // one quantity row per scalar quantity and two per breakdown; one row per band point
+    let n_quantities = v["quantities"].as_array().unwrap().len()
+        + 2 * v["sweeps"][0]["breakdown"].as_array().unwrap().len();
+    let n_points = v["sweeps"][0]["band"]["points"].as_array().unwrap().len();
+    assert_eq!(
+        rows.iter().filter(|r| &r[0] == "quantity").count(),
+        n_quantities
+    );
+    assert_eq!(
+        rows.iter().filter(|r| &r[0] == "band_point").count(),
+        n_points
+    );
+    let head_b = rows
+        .iter()
+        .find(|r| &r[col("name")] == "cavitation.breakdown.head")
+        .unwrap();
+    let want = v["sweeps"][0]["breakdown"][1]["x_estimate"]["uncertainty"]["absolute"]
+        .as_f64()
+        .unwrap();
+    let got: f64 = head_b[col("absolute")].parse().unwrap();
+    // Full precision: the very double of the JSON result.
+    assert_relative_eq!(got, want, epsilon = 0.0, max_relative = 0.0);
+}
+
+#[test]
+fn every_example_study_exports_in_every_new_format() {
+    for entry in std::fs::read_dir(root().join("studies")).unwrap() {
+        let p = entry.unwrap().path();
+        if p.extension().and_then(|e| e.to_str()) != Some("yaml") {
+            continue;
+        }
+        let rel = format!("studies/{}", p.file_name().unwrap().to_string_lossy());
+        for f in ["markdown", "latex", "csv"] {
+            let o = run(&["assess", &rel, "--format", f]);
+            assert_eq!(o.status.code(), Some(0), "{rel} {f}\n{}", show(&o));
+            let text = String::from_utf8_lossy(&o.stdout);
+            assert!(
+                !non_finite(&text),
+                "{rel} {f}: a non-finite number was printed"
+            );
+            if f != "csv" {
+                assert!(
+                    text.contains("Caution."),
+                    "{rel} {f}: the caution is missing"
+                );
+            }
+        }
+    }
+}
