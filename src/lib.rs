@@ -12,6 +12,7 @@
 
 pub mod assess;
 pub mod cli;
+pub mod compare;
 pub mod estimate;
 pub mod gate;
 pub mod grid;

@@ -12,6 +12,7 @@ use crate::study::{Quantity, Study};
 use crate::warning::Warning;
 use serde::Serialize;
 
+pub mod compare;
 pub mod sweep;
 
 /// The caution carried by every report.
@@ -36,6 +37,8 @@ pub struct Assessment {
     pub quantities: Vec<QuantityResult>,
     /// Sweeps (curves per mesh).
     pub sweeps: Vec<sweep::SweepResult>,
+    /// Comparisons with measurements (ASME V&V 20).
+    pub comparisons: Vec<compare::ComparisonResult>,
     /// Warnings, each with a stable code.
     pub warnings: Vec<Warning>,
     /// The caution every report carries.
@@ -328,7 +331,14 @@ pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
                 &mut warnings,
             )
         })
-        .collect();
+        .collect::<Vec<_>>();
+    let comparisons = compare::run(study, &quantities, &settings)?;
+    if comparisons.iter().any(|c| c.comparison.normalised) {
+        warnings.push(Warning::new(
+            "comparison_normalised",
+            "a comparison with measurements divides each data set by its own peak (common practice, no source): it compares shapes, not levels",
+        ));
+    }
     let mut sweeps = Vec::new();
     for s in &study.sweeps {
         sweeps.push(sweep::assess_sweep(
@@ -347,6 +357,7 @@ pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
         meshes: study.meshes.clone(),
         quantities,
         sweeps,
+        comparisons,
         warnings,
         caution: CAUTION.to_string(),
         files_read: study

@@ -325,6 +325,74 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
     }
 }
 
+fn comparison_block(
+    a: &Assessment,
+    c: &crate::assess::compare::ComparisonResult,
+    out: &mut String,
+) {
+    let cm = &c.comparison;
+    let x = a
+        .sweeps
+        .iter()
+        .find(|s| s.name == c.name)
+        .map_or("x".to_string(), |s| s.x.clone());
+    out.push_str(&format!(
+        "\ncomparison with measurements: {}{} (ASME V&V 20; k = {}, u_num = U/{}){}\n",
+        c.name,
+        c.response
+            .as_ref()
+            .map_or(String::new(), |r| format!(", {r} along {x}")),
+        num(cm.coverage_factor, 4),
+        num(cm.divisor, 4),
+        if cm.normalised {
+            "; each data set divided by its own peak — a comparison of shapes, not levels"
+        } else {
+            ""
+        }
+    ));
+    let mut t = grid(&[
+        x.as_str(),
+        "S",
+        "D",
+        "E = S − D",
+        "u_num",
+        "u_D",
+        "u_val",
+        "|E| ≤ k u_val",
+    ]);
+    for p in &cm.points {
+        t.add_row(vec![
+            if c.kind == "sweep" {
+                num(p.x, 6)
+            } else {
+                "–".into()
+            },
+            sig(p.simulation, 6),
+            sig(p.measured, 6),
+            sig(p.error, 3),
+            opt(p.u_num, 3),
+            sig(p.u_measured, 3),
+            opt(p.u_val, 3),
+            p.within
+                .map_or("undecided (no u_num)", |w| if w { "yes" } else { "no" })
+                .to_string(),
+        ]);
+    }
+    out.push_str(&format!("{t}\n"));
+    out.push_str(&format!(
+        "  {} of {} points with |E| ≤ k·u_val; largest |E| {}{}; mean E {}\n",
+        cm.summary.within,
+        cm.summary.points,
+        sig(cm.summary.max_abs_error, 3),
+        if c.kind == "sweep" {
+            format!(" at {x} = {}", num(cm.summary.max_abs_error_at, 6))
+        } else {
+            String::new()
+        },
+        sig(cm.summary.mean_error, 3)
+    ));
+}
+
 impl Exporter for Table {
     fn export(&self, a: &Assessment) -> Vec<u8> {
         let mut out = String::new();
@@ -349,6 +417,9 @@ impl Exporter for Table {
         }
         for s in &a.sweeps {
             sweep_block(s, &mut out);
+        }
+        for c in &a.comparisons {
+            comparison_block(a, c, &mut out);
         }
         if !a.warnings.is_empty() {
             out.push_str("\nwarnings\n");

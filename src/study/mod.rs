@@ -7,6 +7,7 @@
 
 pub mod num;
 pub mod raw;
+pub mod reference;
 pub mod sweep;
 
 use crate::grid::{self, GridError, Mesh, MeshSpec, SizeBasis};
@@ -73,6 +74,10 @@ pub struct Settings {
     pub estimator: EstimatorChoice,
     /// Gravity for machine quantities, m/s².
     pub gravity: f64,
+    /// Divisor of U for u_num in comparisons.
+    pub validation_divisor: f64,
+    /// Coverage factor k.
+    pub coverage_factor: f64,
 }
 
 /// A checked study.
@@ -100,6 +105,8 @@ pub struct Study {
     pub files_read: Vec<PathBuf>,
     /// Acceptance limits for `gate`.
     pub acceptance: Vec<raw::RawAcceptance>,
+    /// Measurements to compare with.
+    pub references: Vec<reference::Reference>,
     /// Per mesh (same order as `meshes`): mean wall y+, when given.
     pub y_plus: Vec<Option<f64>>,
     /// Per mesh (same order as `meshes`): iterative uncertainty, absolute, when given.
@@ -407,6 +414,13 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         text,
         &mut files_read,
     )?;
+    let references = reference::check(
+        &raw.reference_data,
+        &quantities,
+        &sweeps,
+        path,
+        &mut files_read,
+    )?;
     let title = raw.title.clone().unwrap_or_else(|| {
         path.file_stem()
             .map(|s| s.to_string_lossy().into_owned())
@@ -425,7 +439,10 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
             order_max: raw.settings.order_max.map_or(20.0, |v| v.0),
             estimator: raw.settings.estimator.unwrap_or_default(),
             gravity,
+            validation_divisor: raw.settings.validation_divisor.map_or(1.15, |v| v.0),
+            coverage_factor: raw.settings.coverage_factor.map_or(2.0, |v| v.0),
         },
+        references,
         sweeps,
         files_read,
         acceptance: raw.acceptance.clone(),

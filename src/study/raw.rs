@@ -34,6 +34,9 @@ pub struct RawStudy {
     /// Acceptance limits that `gate` checks.
     #[serde(default)]
     pub acceptance: Vec<RawAcceptance>,
+    /// Measurements to compare with, named like the sweep or quantity.
+    #[serde(default)]
+    pub reference_data: IndexMap<String, super::reference::RawReference>,
 }
 
 /// One acceptance limit as written.
@@ -175,4 +178,10 @@ pub struct RawSettings {
     /// Gravity for machine quantities, m/s² (default standard gravity 9.80665).
     #[serde(default)]
     pub gravity: Option<Positive>,
+    /// u_num = U / divisor in comparisons with measurements (default 1.15).
+    #[serde(default)]
+    pub validation_divisor: Option<Positive>,
+    /// Coverage factor k of the validation interval E ± k u_val (default 2).
+    #[serde(default)]
+    pub coverage_factor: Option<Positive>,
 }

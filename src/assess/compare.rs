@@ -1,0 +1,139 @@
+//! Comparisons with measurements: the simulation value and its discretisation uncertainty at
+//! every measured point, then the V&V 20 comparison of [`crate::compare`].
+
+use super::{quantity, QuantityResult};
+use crate::compare::{compare, CompareSettings, Comparison, Measured, Simulated};
+use crate::estimate::three_grid::ThreeGridSettings;
+use crate::study::reference::{AbsOrPercent, Reference, ReferenceTarget};
+use crate::study::{Study, StudyError};
+use crate::sweep::Interpolant;
+use serde::Serialize;
+
+/// One comparison with its name and what it compares.
+#[derive(Debug, Clone, Serialize)]
+pub struct ComparisonResult {
+    /// Name (the sweep or quantity compared with).
+    pub name: String,
+    /// `quantity` or `sweep`.
+    pub kind: &'static str,
+    /// The response compared, for a sweep.
+    pub response: Option<String>,
+    /// The comparison.
+    #[serde(flatten)]
+    pub comparison: Comparison,
+}
+
+fn fail(study: &Study, r: &Reference, message: String) -> StudyError {
+    StudyError {
+        file: study.path.clone(),
+        key: format!("reference_data.{}", r.name),
+        line: None,
+        column: None,
+        message,
+    }
+}
+
+/// Runs every comparison of a study. `quantities` are the assessed quantities, in study order.
+pub fn run(
+    study: &Study,
+    quantities: &[QuantityResult],
+    settings: &ThreeGridSettings,
+) -> Result<Vec<ComparisonResult>, StudyError> {
+    let mut out = Vec::new();
+    for r in &study.references {
+        let (u_abs, u_rel) = match r.u_input {
+            Some(AbsOrPercent::Absolute(u)) => (u, 0.0),
+            Some(AbsOrPercent::Relative(f)) => (0.0, f),
+            None => (0.0, 0.0),
+        };
+        let cs = CompareSettings {
+            divisor: study.settings.validation_divisor,
+            coverage: study.settings.coverage_factor,
+            u_input: u_abs,
+            u_input_relative: u_rel,
+            normalise: r.normalise,
+        };
+        let meas: Vec<Measured> = r
+            .points
+            .iter()
+            .map(|&(x, value, u)| Measured { x, value, u })
+            .collect();
+        match r.target {
+            ReferenceTarget::Quantity(qi) => {
+                let q = &quantities[qi];
+                let s = q.values[0];
+                let sim = [Simulated {
+                    x: 0.0,
+                    value: s,
+                    uncertainty: q.uncertainty.as_ref().map(|u| u.absolute),
+                }];
+                let c = compare(&sim, &meas, s, &cs).map_err(|e| fail(study, r, e))?;
+                out.push(ComparisonResult {
+                    name: r.name.clone(),
+                    kind: "quantity",
+                    response: None,
+                    comparison: c,
+                });
+            }
+            ReferenceTarget::Sweep(si, ri) => {
+                let sw = &study.sweeps[si];
+                let meshes: Vec<_> = sw
+                    .mesh_indices
+                    .iter()
+                    .map(|&i| study.meshes[i].clone())
+                    .collect();
+                let kind = sw
+                    .band
+                    .as_ref()
+                    .map_or(sw.interpolation, |b| b.interpolation);
+                let interps: Vec<Interpolant> = sw
+                    .curves
+                    .iter()
+                    .map(|c| Interpolant::new(&c.x, &c.responses[ri], kind))
+                    .collect::<Result<_, _>>()
+                    .map_err(|e| fail(study, r, e.to_string()))?;
+                let mut sim = Vec::with_capacity(meas.len());
+                for m in &meas {
+                    let values: Option<Vec<f64>> = interps.iter().map(|f| f.eval(m.x)).collect();
+                    let values = values.ok_or_else(|| {
+                        fail(
+                            study,
+                            r,
+                            format!(
+                                "the measured point at {} = {} lies outside the range common to all meshes: the simulation cannot be compared there",
+                                sw.x, m.x
+                            ),
+                        )
+                    })?;
+                    let mut ignored = Vec::new();
+                    let q = quantity(
+                        "",
+                        None,
+                        &meshes,
+                        &values,
+                        settings,
+                        study.settings.estimator,
+                        &mut ignored,
+                    );
+                    sim.push(Simulated {
+                        x: m.x,
+                        value: values[0],
+                        uncertainty: q.uncertainty.map(|u| u.absolute),
+                    });
+                }
+                let peak = sw.curves[0].responses[ri]
+                    .iter()
+                    .copied()
+                    .fold(f64::NEG_INFINITY, f64::max);
+                let c = compare(&sim, &meas, peak, &cs).map_err(|e| fail(study, r, e))?;
+                out.push(ComparisonResult {
+                    name: r.name.clone(),
+                    kind: "sweep",
+                    response: Some(sw.responses[ri].clone()),
+                    comparison: c,
+                });
+            }
+        }
+    }
+    Ok(out)
+}

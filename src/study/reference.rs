@@ -1,0 +1,311 @@
+//! Measurements to compare with (`reference_data`), named like the sweep or the quantity they
+//! compare with.
+
+use super::num::Finite;
+use super::StudyError;
+use indexmap::IndexMap;
+use serde::de::{self, Deserializer};
+use serde::Deserialize;
+use std::path::{Path, PathBuf};
+
+/// An uncertainty written absolute (`0.002`) or relative to the value (`0.3%`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum AbsOrPercent {
+    /// In the unit of the value.
+    Absolute(f64),
+    /// A fraction of |value|.
+    Relative(f64),
+}
+
+impl AbsOrPercent {
+    /// The absolute uncertainty for a value.
+    pub fn of(self, value: f64) -> f64 {
+        match self {
+            AbsOrPercent::Absolute(u) => u,
+            AbsOrPercent::Relative(f) => f * value.abs(),
+        }
+    }
+}
+
+impl<'de> Deserialize<'de> for AbsOrPercent {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl de::Visitor<'_> for V {
+            type Value = AbsOrPercent;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("an absolute uncertainty ≥ 0 or a percentage such as `0.5%`")
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<AbsOrPercent, E> {
+                if v.is_finite() && v >= 0.0 {
+                    Ok(AbsOrPercent::Absolute(v))
+                } else {
+                    Err(E::custom(format!(
+                        "expected an uncertainty ≥ 0, found {}",
+                        super::num::show(v)
+                    )))
+                }
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<AbsOrPercent, E> {
+                self.visit_f64(v as f64)
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<AbsOrPercent, E> {
+                self.visit_f64(v as f64)
+            }
+            fn visit_str<E: de::Error>(self, s: &str) -> Result<AbsOrPercent, E> {
+                match s.trim().strip_suffix('%').map(|n| n.trim().parse::<f64>()) {
+                    Some(Ok(p)) if p.is_finite() && p >= 0.0 => {
+                        Ok(AbsOrPercent::Relative(p / 100.0))
+                    }
+                    _ => Err(E::custom(format!(
+                        "expected a number or a percentage such as `0.5%`, found `{s}`"
+                    ))),
+                }
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+impl schemars::JsonSchema for AbsOrPercent {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "AbsoluteOrPercent".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({"anyOf": [{"type": "number", "minimum": 0}, {"type": "string", "pattern": "%\\s*$"}]})
+    }
+}
+
+/// One measured point as written.
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawMeasuredPoint {
+    /// Abscissa.
+    pub x: Finite,
+    /// Measured value D.
+    pub value: Finite,
+    /// Standard uncertainty u_D of this point (overrides `u_measured`).
+    #[serde(default)]
+    pub u: Option<AbsOrPercent>,
+}
+
+/// Measurements as written.
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawReference {
+    /// The sweep response compared (a sweep target; default the band's or the first response).
+    #[serde(default)]
+    pub response: Option<String>,
+    /// Standard uncertainty u_D of every point, absolute or `%` of the value.
+    #[serde(default)]
+    pub u_measured: Option<AbsOrPercent>,
+    /// Standard uncertainty from the simulation's inputs, absolute or `%` of the value.
+    #[serde(default)]
+    pub u_input: Option<AbsOrPercent>,
+    /// Divide each data set by its own peak before comparing (common practice, no source).
+    #[serde(default)]
+    pub normalise: bool,
+    /// Measured points of a sweep.
+    #[serde(default)]
+    pub points: Vec<RawMeasuredPoint>,
+    /// Or a CSV file with columns `x`, `value` and optionally `u` (relative to the study).
+    #[serde(default)]
+    pub file: Option<String>,
+    /// The measured value of a scalar quantity.
+    #[serde(default)]
+    pub value: Option<Finite>,
+}
+
+/// What a reference compares with.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ReferenceTarget {
+    /// A scalar quantity (index into the study's quantities).
+    Quantity(usize),
+    /// A sweep response (sweep index, response index).
+    Sweep(usize, usize),
+}
+
+/// Checked measurements.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Reference {
+    /// Name (the key; the sweep or quantity compared with).
+    pub name: String,
+    /// What it compares with.
+    pub target: ReferenceTarget,
+    /// Points (x, D, u_D absolute); x = 0 for a quantity.
+    pub points: Vec<(f64, f64, f64)>,
+    /// Input uncertainty (absolute or relative to the simulated value).
+    pub u_input: Option<AbsOrPercent>,
+    /// Normalise by own peaks.
+    pub normalise: bool,
+}
+
+fn read_points_csv(
+    path: &Path,
+    key: &str,
+    study: &Path,
+) -> Result<Vec<(f64, f64, Option<f64>)>, StudyError> {
+    let e = |line: Option<usize>, m: String| StudyError {
+        file: path.to_path_buf(),
+        key: String::new(),
+        line,
+        column: None,
+        message: format!("{m} (named by {} at {key})", study.display()),
+    };
+    let mut rdr = csv::ReaderBuilder::new()
+        .trim(csv::Trim::All)
+        .comment(Some(b'#'))
+        .from_path(path)
+        .map_err(|er| e(None, format!("cannot read the CSV file: {er}")))?;
+    let h = rdr
+        .headers()
+        .map_err(|er| e(Some(1), format!("cannot read the header row: {er}")))?
+        .clone();
+    let col = |n: &str| h.iter().position(|c| c == n);
+    let (xi, vi) = match (col("x"), col("value")) {
+        (Some(a), Some(b)) => (a, b),
+        _ => {
+            return Err(e(
+                Some(1),
+                "needs the columns `x` and `value` (and optionally `u`)".into(),
+            ))
+        }
+    };
+    let ui = col("u");
+    let mut out = Vec::new();
+    for r in rdr.records() {
+        let r = r.map_err(|er| {
+            e(
+                er.position().map(|p| p.line() as usize),
+                format!("unreadable CSV: {er}"),
+            )
+        })?;
+        let line = r.position().map(|p| p.line() as usize);
+        let num = |i: usize, name: &str| -> Result<f64, StudyError> {
+            let f = r.get(i).unwrap_or("");
+            match f.parse::<f64>() {
+                Ok(v) if v.is_finite() => Ok(v),
+                _ => Err(e(
+                    line,
+                    format!("column `{name}`: `{f}` is not a finite number"),
+                )),
+            }
+        };
+        out.push((
+            num(xi, "x")?,
+            num(vi, "value")?,
+            ui.map(|i| num(i, "u")).transpose()?,
+        ));
+        if out.len() > 1_000_000 {
+            return Err(e(
+                line,
+                "more than 1000000 measured points are refused".into(),
+            ));
+        }
+    }
+    Ok(out)
+}
+
+/// Checks the measurements against the study's quantities and sweeps.
+pub fn check(
+    raw: &IndexMap<String, RawReference>,
+    quantities: &[super::Quantity],
+    sweeps: &[super::sweep::Sweep],
+    file: &Path,
+    files_read: &mut Vec<PathBuf>,
+) -> Result<Vec<Reference>, StudyError> {
+    let err = |key: String, message: String| StudyError {
+        file: file.to_path_buf(),
+        key,
+        line: None,
+        column: None,
+        message,
+    };
+    let base = file.parent().unwrap_or(Path::new(""));
+    let mut out = Vec::new();
+    for (name, r) in raw {
+        let key = format!("reference_data.{name}");
+        let target = if let Some(qi) = quantities.iter().position(|q| &q.name == name) {
+            ReferenceTarget::Quantity(qi)
+        } else if let Some(si) = sweeps.iter().position(|s| &s.name == name) {
+            let s = &sweeps[si];
+            let resp = r
+                .response
+                .clone()
+                .or_else(|| s.band.as_ref().map(|b| b.response.clone()))
+                .unwrap_or_else(|| s.responses[0].clone());
+            let ri = s.responses.iter().position(|x| *x == resp).ok_or_else(|| {
+                err(
+                    format!("{key}.response"),
+                    format!(
+                        "`{resp}` is not one of the sweep's responses ({})",
+                        s.responses.join(", ")
+                    ),
+                )
+            })?;
+            ReferenceTarget::Sweep(si, ri)
+        } else {
+            return Err(err(
+                key,
+                format!("`{name}` names neither a quantity nor a sweep of the study"),
+            ));
+        };
+        let mut pts: Vec<(f64, f64, Option<AbsOrPercent>)> = Vec::new();
+        match &target {
+            ReferenceTarget::Quantity(_) => {
+                let v = r.value.ok_or_else(|| {
+                    err(
+                        format!("{key}.value"),
+                        "a quantity's measurement needs `value`".into(),
+                    )
+                })?;
+                if !r.points.is_empty() || r.file.is_some() {
+                    return Err(err(
+                        key.clone(),
+                        "a quantity takes one `value`, not `points` or `file`".into(),
+                    ));
+                }
+                pts.push((0.0, v.0, None));
+            }
+            ReferenceTarget::Sweep(..) => {
+                if r.value.is_some() {
+                    return Err(err(
+                        format!("{key}.value"),
+                        "a sweep's measurements are `points` or a `file`, not one `value`".into(),
+                    ));
+                }
+                for p in &r.points {
+                    pts.push((p.x.0, p.value.0, p.u));
+                }
+                if let Some(f) = &r.file {
+                    let p = base.join(f);
+                    for (x, v, u) in read_points_csv(&p, &format!("{key}.file"), file)? {
+                        pts.push((x, v, u.map(AbsOrPercent::Absolute)));
+                    }
+                    files_read.push(p);
+                }
+                if pts.is_empty() {
+                    return Err(err(key.clone(), "gives no measured points".into()));
+                }
+            }
+        }
+        let mut points = Vec::new();
+        for (i, (x, v, u)) in pts.into_iter().enumerate() {
+            let u = u.or(r.u_measured).ok_or_else(|| {
+                err(
+                    format!("{key}.points[{i}]"),
+                    "has no uncertainty: give `u` or `u_measured` (standard uncertainty u_D)"
+                        .into(),
+                )
+            })?;
+            points.push((x, v, u.of(v)));
+        }
+        out.push(Reference {
+            name: name.clone(),
+            target,
+            points,
+            u_input: r.u_input,
+            normalise: r.normalise,
+        });
+    }
+    Ok(out)
+}
