@@ -239,3 +239,45 @@ fn unwritable_output_exits_3_and_leaves_nothing() {
     assert!(String::from_utf8_lossy(&o.stderr).contains("cannot write"));
     assert!(w.files().is_empty());
 }
+
+#[test]
+fn hostile_inputs_are_refused_quickly() {
+    let w = Workdir::new();
+    // A hundred thousand nested flow collections.
+    w.write(
+        "deep.yaml",
+        &format!(
+            "format: 1\nmeshes: {}{}\n",
+            "[".repeat(100_000),
+            "]".repeat(100_000)
+        ),
+    );
+    let t = std::time::Instant::now();
+    let o = run_in(w.path(), &["assess", "deep.yaml"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("nested more than 64 deep"));
+    eprintln!("deep nesting refused in {:?}", t.elapsed());
+    // A file larger than the study limit.
+    let big = format!("format: 1\n# {}\n", "x".repeat(17 * 1024 * 1024));
+    w.write("big.yaml", &big);
+    let o = run_in(w.path(), &["assess", "big.yaml"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("larger than"));
+    // An alias-expansion bomb (billion laughs).
+    let mut s = String::from("format: 1\nmeshes:\n  - name: a\n    cells: 1\nsweeps:\n  s:\n    x: sigma\n    responses: &r0 [a, a, a, a, a, a, a, a, a, a]\n");
+    s.push_str("    data: {}\n");
+    for i in 1..9 {
+        s.push_str(&format!(
+            "x{i}: &r{i} [{}]\n",
+            vec![format!("*r{}", i - 1); 10].join(", ")
+        ));
+    }
+    w.write("bomb.yaml", &s);
+    let o = run_in(w.path(), &["assess", "bomb.yaml"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    // Not UTF-8.
+    std::fs::write(w.path().join("bin.yaml"), [0xff, 0xfe, 0x00, 0x41]).unwrap();
+    let o = run_in(w.path(), &["assess", "bin.yaml"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("not UTF-8"));
+}

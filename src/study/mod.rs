@@ -168,6 +168,58 @@ fn split_yaml_message(msg: &str) -> (String, String) {
     (String::new(), msg.to_string())
 }
 
+/// Deepest nesting of flow collections (`[` and `{`) accepted; a study needs a handful.
+pub const MAX_NESTING: usize = 64;
+
+/// Refuses pathological nesting before the YAML parser sees it (a parser would spend a long
+/// time on a hundred thousand nested brackets). Quoted text and comments are skipped.
+pub fn check_nesting(text: &str, path: &Path) -> Result<(), StudyError> {
+    let mut depth = 0usize;
+    for (li, line) in text.lines().enumerate() {
+        let mut quote: Option<char> = None;
+        let mut prev = ' ';
+        for (ci, c) in line.chars().enumerate() {
+            match quote {
+                Some(q) => {
+                    if c == q {
+                        quote = None;
+                    }
+                }
+                None => match c {
+                    '"' | '\''
+                        if prev == ' '
+                            || prev == '['
+                            || prev == '{'
+                            || prev == ','
+                            || prev == ':' =>
+                    {
+                        quote = Some(c)
+                    }
+                    '#' if prev == ' ' || ci == 0 => break,
+                    '[' | '{' => {
+                        depth += 1;
+                        if depth > MAX_NESTING {
+                            return Err(StudyError {
+                                file: path.to_path_buf(),
+                                key: String::new(),
+                                line: Some(li + 1),
+                                column: Some(ci + 1),
+                                message: format!(
+                                    "collections are nested more than {MAX_NESTING} deep: a study file needs only a few levels, so this file is refused"
+                                ),
+                            });
+                        }
+                    }
+                    ']' | '}' => depth = depth.saturating_sub(1),
+                    _ => {}
+                },
+            }
+            prev = c;
+        }
+    }
+    Ok(())
+}
+
 /// Deserializes YAML text into `T`, turning any failure into a [`StudyError`] with the exact
 /// key path (serde_path_to_error) and the best line and column available: serde_yaml points
 /// at the enclosing mapping for values refused after reading, so the key is looked up from
@@ -235,6 +287,7 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         column: None,
         message,
     };
+    check_nesting(text, path)?;
     let raw: RawStudy = read_yaml(text, path)?;
     let meshes_line = find_line(text, 1, |l| l.trim_start().starts_with("meshes:"));
     // The line of the i-th mesh entry: the i-th `name:` key after `meshes:`.
