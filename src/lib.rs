@@ -13,6 +13,7 @@
 pub mod assess;
 pub mod cli;
 pub mod estimate;
+pub mod field;
 pub mod grid;
 pub mod machine;
 pub mod output;
