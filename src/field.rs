@@ -10,10 +10,12 @@
 //!
 //! # Pipeline
 //! One reader thread per file reads raw blocks of whole records (cut at the last line end
-//! outside double quotes) a few blocks ahead. The calling thread gathers a round of blocks,
-//! parses them in parallel (rayon), lines the three files up row by row, cuts the aligned rows
-//! into chunks, estimates and formats the chunks in parallel, and hands the formatted bytes in
-//! order to a writer thread. The writer writes into a temporary file beside the target, which
+//! outside double quotes) a few blocks ahead. The calling thread gathers a round of blocks and
+//! parses them in parallel (rayon; blocks without double quotes by a plain splitter, others by
+//! the csv crate) while the chunks lined up in the round before are estimated and formatted in
+//! parallel; it then hands the formatted bytes in order to a writer thread and lines the three
+//! files up row by row into the next chunks (shared blocks, no copying). Memory is bounded by
+//! the read-ahead, two rounds of rows and the write-ahead. The writer writes into a temporary file beside the target, which
 //! is renamed into place only when everything succeeded: on any error no file is left behind.
 //!
 //! # Fast observed order
@@ -21,19 +23,24 @@
 //! number ε32/ε21. With equal ratios it is `p = ln|ε32/ε21| / ln r` exactly. With unequal
 //! ratios the exact three-point fit of φ0 + α h^p gives
 //! `ε32/ε21 = r21^p (r32^p − s)/(r21^p − s)`, whose logarithm `Y(p)` increases strictly with p
-//! for both signs s; [`FastThreeGrid`] tabulates the inverse `p(Y)` once per field, reads a
-//! start from the table by cubic Hermite interpolation and polishes it with one Newton step
-//! kept inside the table cell. The decisions the general solver makes at the ends of its
-//! search range, and the rare oscillatory cases where its absolute-value form has a second
-//! root close to the first, are reproduced by evaluating its residual the same way, and fall
-//! back on [`three_grid::observed_order`] where in doubt. A property test checks the fast path
-//! against [`three_grid::estimate`].
+//! for both signs s; [`FastThreeGrid`] tabulates the inverse `p(Y)` once per field (4096
+//! cells), reads p from the table by cubic Hermite interpolation, and adds one Newton step, kept
+//! inside the cell, in the cells where the interpolant alone could be off by more than about
+//! 1e-13 relative (checked at every cell's middle when the table is built). The extrapolated
+//! value and the GCI use `r21^p − 1 = expm1(p ln r21)`, free of cancellation.
+//!
+//! The decisions the general solver makes at the ends of its search range, and the rare
+//! oscillatory cases where its absolute-value form has a second root close to the first, are
+//! reproduced by evaluating its residual the same way, and go to
+//! [`three_grid::observed_order`] where in doubt. A property test checks the fast path against
+//! [`three_grid::estimate`].
 //!
 //! # Per-point file (contract)
-//! Header `id`, then for each column `c`: `c` (finest-mesh value), `c_extrapolated`,
-//! `c_order`, `c_class`, `c_uncertainty` (absolute). Empty cells where a figure does not exist.
-//! Numbers are written in the shortest form that reads back to the same double (plain notation
-//! from 1e-5 to 1e16, scientific notation outside).
+//! Header `id`, then for each column `c`: `c` (the finest mesh's value, as its file gives it),
+//! `c_extrapolated`, `c_order`, `c_class`, `c_uncertainty` (absolute). Empty cells where a
+//! figure does not exist. Computed numbers are written in the shortest form that reads back to
+//! the same double (plain notation from 1e-5 to 1e16, scientific notation outside). Ids are
+//! written back trimmed, quoted where CSV needs it.
 //!
 //! # Summary (contract)
 //! Per column: the count of each convergence class; the mean and median observed order over the
@@ -58,6 +65,7 @@ use std::fs::File;
 use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
 use std::sync::mpsc::{sync_channel, Receiver, SyncSender};
+use std::sync::Arc;
 
 /// Rows per parallel chunk by default.
 pub const DEFAULT_CHUNK_ROWS: usize = 65_536;
@@ -80,7 +88,7 @@ const ROUNDOFF_ULPS: f64 = 16.0;
 const SCAN_LO: f64 = 1e-6;
 const SCAN_STEPS: usize = 400;
 /// Intervals of the inverse-order table.
-const TABLE_INTERVALS: usize = 1024;
+const TABLE_INTERVALS: usize = 4096;
 
 /// One field of probes to assess: the plain form the study reader fills in.
 #[derive(Debug, Clone, PartialEq)]
@@ -500,10 +508,12 @@ impl FastThreeGrid {
         };
         match order {
             Some(p) => {
-                let r21p = self.r21.powf(p);
+                // r21^p − 1 without cancellation; φ_ext = φ1 + (φ1 − φ2)/(r21^p − 1) is the
+                // published (r21^p φ1 − φ2)/(r21^p − 1) rearranged.
+                let d = (self.solver.a * p).exp_m1();
                 out.observed_order = Some(p);
-                out.extrapolated = Some((r21p * phi[0] - phi[1]) / (r21p - 1.0));
-                let u_gci = self.fs * e21.abs() / (r21p - 1.0);
+                out.extrapolated = Some(phi[0] - e21 / d);
+                let u_gci = self.fs * e21.abs() / d;
                 let half_range = 0.5
                     * (phi.iter().fold(f64::NEG_INFINITY, |m, v| m.max(*v))
                         - phi.iter().fold(f64::INFINITY, |m, v| m.min(*v)));
@@ -585,6 +595,8 @@ struct InverseTable {
     p: Vec<f64>,
     /// dy · dp/dY at each node.
     m: Vec<f64>,
+    /// Cells where the interpolant alone is not accurate enough and a Newton step follows.
+    polish: Vec<bool>,
 }
 
 impl InverseTable {
@@ -609,6 +621,25 @@ impl InverseTable {
             m.push(dy / d);
             prev = pj;
         }
+        // The cubic Hermite error peaks near the middle of a cell: where it exceeds about
+        // 1e-13 relative (with a margin of 2), the cell gets a Newton step.
+        let polish = (0..n)
+            .map(|j| {
+                let mid = 0.5 * (p[j] + p[j + 1]) + 0.125 * (m[j] - m[j + 1]);
+                let exact = solve_bracketed(
+                    a,
+                    b,
+                    same_sign,
+                    y0 + dy * (j as f64 + 0.5),
+                    p[j],
+                    p[j + 1],
+                    mid,
+                );
+                let err = 2.0 * (mid - exact).abs();
+                // A NaN error (never expected) also asks for the Newton step.
+                err.is_nan() || err > 2e-14 + 1e-13 * exact
+            })
+            .collect();
         InverseTable {
             same_sign,
             y0,
@@ -616,6 +647,7 @@ impl InverseTable {
             inv_dy: 1.0 / dy,
             p,
             m,
+            polish,
         }
     }
 
@@ -633,6 +665,9 @@ impl InverseTable {
             + (-2.0 * u3 + 3.0 * u2) * p1
             + (u3 - u2) * m1;
         let start = start.clamp(p0, p1);
+        if !self.polish[j] {
+            return start;
+        }
         let (yp, dy) = y_of_p(a, b, self.same_sign, start);
         let next = start - (yp - y) / dy;
         if next.is_finite() {
@@ -805,6 +840,8 @@ struct RawBlock {
     first_line: u64,
     /// Line ends in the block (an upper bound of its records).
     newlines: usize,
+    /// Whether the block holds a double quote (else the plain parser applies).
+    quoted: bool,
 }
 
 /// Reads one file in blocks cut at record boundaries.
@@ -876,6 +913,7 @@ impl BlockReader {
     fn make_block(&mut self, bytes: Vec<u8>) -> RawBlock {
         let newlines = count_byte(&bytes, b'\n');
         let block = RawBlock {
+            quoted: bytes.contains(&b'"'),
             bytes,
             first_line: self.next_line,
             newlines,
@@ -954,6 +992,7 @@ impl BlockReader {
         let rest = block.bytes[start..].to_vec();
         self.first = Some(RawBlock {
             newlines: count_byte(&rest, b'\n'),
+            quoted: rest.contains(&b'"'),
             first_line: after.line(),
             bytes: rest,
         });
@@ -984,6 +1023,8 @@ struct Layout {
     header: Vec<String>,
     id_idx: usize,
     col_idx: Vec<usize>,
+    /// Keep the values' text (the finest mesh's, written back as given).
+    keep_text: bool,
 }
 
 impl Layout {
@@ -1028,6 +1069,7 @@ impl Layout {
             header,
             id_idx,
             col_idx,
+            keep_text: false,
         })
     }
 }
@@ -1038,6 +1080,9 @@ struct Rows {
     ncols: usize,
     ids: Vec<u8>,
     id_end: Vec<usize>,
+    /// The values' trimmed text, when the layout keeps it (row-major like `values`).
+    texts: Vec<u8>,
+    text_end: Vec<usize>,
     values: Vec<f64>,
     lines: Vec<u64>,
 }
@@ -1048,6 +1093,8 @@ impl Rows {
             ncols,
             ids: Vec::with_capacity(rows * 8),
             id_end: Vec::with_capacity(rows),
+            texts: Vec::new(),
+            text_end: Vec::new(),
             values: Vec::with_capacity(rows * ncols),
             lines: Vec::with_capacity(rows),
         }
@@ -1066,17 +1113,12 @@ impl Rows {
         self.values[i * self.ncols + c]
     }
 
-    /// Appends rows `from..to` of `src`.
-    fn extend_from(&mut self, src: &Rows, from: usize, to: usize) {
-        let start = if from == 0 { 0 } else { src.id_end[from - 1] };
-        let end = if to == 0 { 0 } else { src.id_end[to - 1] };
-        let base = self.ids.len();
-        self.ids.extend_from_slice(&src.ids[start..end]);
-        self.id_end
-            .extend(src.id_end[from..to].iter().map(|e| e - start + base));
-        self.values
-            .extend_from_slice(&src.values[from * src.ncols..to * src.ncols]);
-        self.lines.extend_from_slice(&src.lines[from..to]);
+    /// The text of value `c` of row `i`, when kept.
+    fn text(&self, i: usize, c: usize) -> Option<&[u8]> {
+        let k = i * self.ncols + c;
+        let end = *self.text_end.get(k)?;
+        let start = if k == 0 { 0 } else { self.text_end[k - 1] };
+        Some(&self.texts[start..end])
     }
 }
 
@@ -1092,15 +1134,136 @@ fn shown(bytes: &[u8]) -> String {
     }
 }
 
+/// Checks one record's field count and appends its id and values; `field(i)` gives field i.
+fn push_row<'b>(
+    layout: &Layout,
+    rows: &mut Rows,
+    line: u64,
+    count: usize,
+    field: impl Fn(usize) -> &'b [u8],
+) -> Result<(), FieldError> {
+    let expected = layout.header.len();
+    if count != expected {
+        return Err(if count < expected {
+            FieldError::ShortRow {
+                path: layout.path.clone(),
+                line,
+                column: layout.header[count].clone(),
+                found: count,
+                expected,
+            }
+        } else {
+            FieldError::LongRow {
+                path: layout.path.clone(),
+                line,
+                column: layout.header[expected - 1].clone(),
+                found: count,
+                expected,
+            }
+        });
+    }
+    rows.ids
+        .extend_from_slice(field(layout.id_idx).trim_ascii());
+    rows.id_end.push(rows.ids.len());
+    rows.lines.push(line);
+    for &ci in &layout.col_idx {
+        let text = field(ci).trim_ascii();
+        let v = std::str::from_utf8(text)
+            .ok()
+            .and_then(|s| s.parse::<f64>().ok());
+        match v {
+            Some(v) if v.is_finite() => {
+                rows.values.push(v);
+                if layout.keep_text {
+                    rows.texts.extend_from_slice(text);
+                    rows.text_end.push(rows.texts.len());
+                }
+            }
+            Some(_) => {
+                return Err(FieldError::NotFinite {
+                    path: layout.path.clone(),
+                    line,
+                    column: layout.header[ci].clone(),
+                    text: shown(text),
+                })
+            }
+            None => {
+                return Err(FieldError::NotANumber {
+                    path: layout.path.clone(),
+                    line,
+                    column: layout.header[ci].clone(),
+                    text: shown(text),
+                })
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Parses a block without double quotes by splitting at commas and line ends, which is what
+/// CSV means for such text. Gives `None` when a lone carriage return (a record end to the CSV
+/// reader) makes the general path the safer one.
+fn parse_plain(layout: &Layout, block: &RawBlock) -> Result<Option<Rows>, FieldError> {
+    let bytes = &block.bytes[..];
+    let len = bytes.len();
+    let mut rows = Rows::new(layout.col_idx.len(), block.newlines + 1);
+    let mut fields: Vec<(usize, usize)> = Vec::with_capacity(layout.header.len() + 1);
+    let mut line = block.first_line;
+    let mut pos = 0;
+    while pos < len {
+        fields.clear();
+        let mut start = pos;
+        let mut i = pos;
+        let (end, next) = loop {
+            if i >= len {
+                break (len, len);
+            }
+            match bytes[i] {
+                b',' => {
+                    fields.push((start, i));
+                    start = i + 1;
+                }
+                b'\n' => break (i, i + 1),
+                b'\r' => {
+                    if i + 1 == len {
+                        break (i, len);
+                    }
+                    if bytes[i + 1] == b'\n' {
+                        break (i, i + 2);
+                    }
+                    return Ok(None);
+                }
+                _ => {}
+            }
+            i += 1;
+        };
+        let this_line = line;
+        line += 1;
+        pos = next;
+        if end == start && fields.is_empty() {
+            continue; // a blank line, skipped as the CSV reader skips it
+        }
+        fields.push((start, end));
+        push_row(layout, &mut rows, this_line, fields.len(), |k| {
+            let (a, b) = fields[k];
+            &bytes[a..b]
+        })?;
+    }
+    Ok(Some(rows))
+}
+
 fn parse_block(layout: &Layout, block: &RawBlock) -> Result<Rows, FieldError> {
-    let ncols = layout.col_idx.len();
-    let mut rows = Rows::new(ncols, block.newlines + 1);
+    if !block.quoted {
+        if let Some(rows) = parse_plain(layout, block)? {
+            return Ok(rows);
+        }
+    }
+    let mut rows = Rows::new(layout.col_idx.len(), block.newlines + 1);
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
         .from_reader(&block.bytes[..]);
     let mut rec = csv::ByteRecord::new();
-    let expected = layout.header.len();
     loop {
         match rdr.read_byte_record(&mut rec) {
             Ok(true) => {}
@@ -1129,62 +1292,20 @@ fn parse_block(layout: &Layout, block: &RawBlock) -> Result<Rows, FieldError> {
             }
             None => block.first_line,
         };
-        if rec.len() != expected {
-            return Err(if rec.len() < expected {
-                FieldError::ShortRow {
-                    path: layout.path.clone(),
-                    line,
-                    column: layout.header[rec.len()].clone(),
-                    found: rec.len(),
-                    expected,
-                }
-            } else {
-                FieldError::LongRow {
-                    path: layout.path.clone(),
-                    line,
-                    column: layout.header[expected - 1].clone(),
-                    found: rec.len(),
-                    expected,
-                }
-            });
-        }
-        let id = rec.get(layout.id_idx).unwrap_or_default().trim_ascii();
-        rows.ids.extend_from_slice(id);
-        rows.id_end.push(rows.ids.len());
-        rows.lines.push(line);
-        for &ci in &layout.col_idx {
-            let text = rec.get(ci).unwrap_or_default().trim_ascii();
-            let v = std::str::from_utf8(text)
-                .ok()
-                .and_then(|s| s.parse::<f64>().ok());
-            match v {
-                Some(v) if v.is_finite() => rows.values.push(v),
-                Some(_) => {
-                    return Err(FieldError::NotFinite {
-                        path: layout.path.clone(),
-                        line,
-                        column: layout.header[ci].clone(),
-                        text: shown(text),
-                    })
-                }
-                None => {
-                    return Err(FieldError::NotANumber {
-                        path: layout.path.clone(),
-                        line,
-                        column: layout.header[ci].clone(),
-                        text: shown(text),
-                    })
-                }
-            }
-        }
+        push_row(layout, &mut rows, line, rec.len(), |k| {
+            rec.get(k).unwrap_or_default()
+        })?;
     }
     Ok(rows)
 }
 
+/// Rows `start..end` of a parsed block, shared between the queue and the chunks.
+type Segment = (Arc<Rows>, usize, usize);
+
 /// Parsed rows of one file waiting to be lined up with the other files.
 #[derive(Default)]
 struct Queue {
-    blocks: VecDeque<Rows>,
+    blocks: VecDeque<Arc<Rows>>,
     /// Rows of the front block already taken.
     front: usize,
     pending: usize,
@@ -1198,7 +1319,7 @@ impl Queue {
     fn push(&mut self, rows: Rows) {
         if rows.len() > 0 {
             self.pending += rows.len();
-            self.blocks.push_back(rows);
+            self.blocks.push_back(Arc::new(rows));
         }
     }
 
@@ -1206,15 +1327,16 @@ impl Queue {
         self.blocks.front().map(|b| b.lines[self.front])
     }
 
-    fn take(&mut self, n: usize, ncols: usize) -> Rows {
-        let mut out = Rows::new(ncols, n);
+    /// The next `n` rows (fewer when the queue runs short), without copying.
+    fn take(&mut self, n: usize) -> Vec<Segment> {
+        let mut segs = Vec::new();
         let mut left = n;
         while left > 0 {
             let Some(front) = self.blocks.front() else {
                 break;
             };
             let k = left.min(front.len() - self.front);
-            out.extend_from(front, self.front, self.front + k);
+            segs.push((Arc::clone(front), self.front, self.front + k));
             self.front += k;
             left -= k;
             if self.front == front.len() {
@@ -1222,11 +1344,40 @@ impl Queue {
                 self.front = 0;
             }
         }
-        self.pending -= out.len();
-        if let Some(&l) = out.lines.last() {
-            self.last_line = l;
+        self.pending -= n - left;
+        if let Some((rows, _, end)) = segs.last() {
+            self.last_line = rows.lines[end - 1];
         }
-        out
+        segs
+    }
+}
+
+/// Walks the rows of a list of segments.
+struct Cursor<'a> {
+    segs: &'a [Segment],
+    seg: usize,
+    row: usize,
+}
+
+impl<'a> Cursor<'a> {
+    fn new(segs: &'a [Segment]) -> Self {
+        Cursor {
+            segs,
+            seg: 0,
+            row: segs.first().map_or(0, |s| s.1),
+        }
+    }
+
+    fn next_row(&mut self) -> Option<(&'a Rows, usize)> {
+        loop {
+            let s = self.segs.get(self.seg)?;
+            if self.row < s.2 {
+                self.row += 1;
+                return Some((&s.0, self.row - 1));
+            }
+            self.seg += 1;
+            self.row = self.segs.get(self.seg).map_or(0, |s| s.1);
+        }
     }
 }
 
@@ -1420,31 +1571,41 @@ struct Computed {
 fn compute_chunk(
     fast: &FastThreeGrid,
     layouts: &[Layout],
-    chunk: &[Rows; 3],
+    chunk: &[Vec<Segment>; 3],
+    ncols: usize,
     write: bool,
     bin_scale: f64,
 ) -> Result<Computed, FieldError> {
-    let ncols = chunk[0].ncols;
-    let n = chunk[0].len();
+    let n: usize = chunk[0].iter().map(|s| s.2 - s.1).sum();
     let mut accs = vec![ColumnAcc::default(); ncols];
     let mut buf = if write {
         Vec::with_capacity(n * (16 + 80 * ncols))
     } else {
         Vec::new()
     };
-    for i in 0..n {
-        let id = chunk[0].id(i);
-        for f in 1..3 {
-            if chunk[f].id(i) != id {
+    let mut cur = [
+        Cursor::new(&chunk[0]),
+        Cursor::new(&chunk[1]),
+        Cursor::new(&chunk[2]),
+    ];
+    for _ in 0..n {
+        let (Some((b0, i0)), Some((b1, i1)), Some((b2, i2))) =
+            (cur[0].next_row(), cur[1].next_row(), cur[2].next_row())
+        else {
+            break;
+        };
+        let id = b0.id(i0);
+        for (f, (b, i)) in [(1, (b1, i1)), (2, (b2, i2))] {
+            if b.id(i) != id {
                 let l = &layouts[f];
                 return Err(FieldError::IdMismatch(Box::new(IdMismatch {
                     path: l.path.clone(),
-                    line: chunk[f].lines[i],
+                    line: b.lines[i],
                     column: l.header[l.id_idx].clone(),
-                    found: shown(chunk[f].id(i)),
+                    found: shown(b.id(i)),
                     expected: shown(id),
                     expected_path: layouts[0].path.clone(),
-                    expected_line: chunk[0].lines[i],
+                    expected_line: b0.lines[i0],
                 })));
             }
         }
@@ -1452,16 +1613,15 @@ fn compute_chunk(
             push_field(&mut buf, id);
         }
         for (c, acc) in accs.iter_mut().enumerate() {
-            let phi = [
-                chunk[0].value(i, c),
-                chunk[1].value(i, c),
-                chunk[2].value(i, c),
-            ];
+            let phi = [b0.value(i0, c), b1.value(i1, c), b2.value(i2, c)];
             let e = fast.estimate(phi);
             acc.add(&e, phi[0], bin_scale);
             if write {
                 buf.push(b',');
-                push_num(&mut buf, phi[0]);
+                match b0.text(i0, c) {
+                    Some(t) => buf.extend_from_slice(t),
+                    None => push_num(&mut buf, phi[0]),
+                }
                 buf.push(b',');
                 push_opt(&mut buf, e.extrapolated);
                 buf.push(b',');
@@ -1558,7 +1718,10 @@ pub fn assess_field_with(
     for path in &spec.files {
         let mut r = BlockReader::open(path, opts.block_bytes)?;
         let header = r.read_header()?;
-        layouts.push(Layout::new(path, header, spec)?);
+        let mut layout = Layout::new(path, header, spec)?;
+        // The finest values are written back as given: the same numbers, no formatting cost.
+        layout.keep_text = layouts.is_empty() && spec.write.is_some();
+        layouts.push(layout);
         readers.push(r);
     }
     let tmp = match &spec.write {
@@ -1658,7 +1821,9 @@ pub fn assess_field_with(
     })
 }
 
-/// The calling thread's loop: gather, parse, line up, estimate, hand over for writing.
+/// The calling thread's loop: gather raw blocks, then parse them while the chunks lined up in
+/// the previous round are estimated, hand the results over for writing in order, and line up
+/// the next chunks.
 #[allow(clippy::too_many_arguments)]
 fn drive(
     rxs: &[Receiver<Result<RawBlock, FieldError>>],
@@ -1685,6 +1850,8 @@ fn drive(
         q.last_line = 1;
     }
     let mut taken: u64 = 0;
+    let mut chunks: Vec<[Vec<Segment>; 3]> = Vec::new();
+    let write = wtx.is_some();
     loop {
         // Gather raw blocks until each file has about a round of rows.
         let mut raw: Vec<(usize, RawBlock)> = Vec::new();
@@ -1701,15 +1868,34 @@ fn drive(
                 }
             }
         }
-        let parsed: Vec<Result<Rows, FieldError>> = raw
-            .par_iter()
-            .map(|(f, b)| parse_block(&layouts[*f], b))
-            .collect();
-        let owners: Vec<usize> = raw.iter().map(|(f, _)| *f).collect();
-        drop(raw);
-        for (f, rows) in owners.into_iter().zip(parsed) {
-            queues[f].push(rows?);
+        let (parsed, computed) = rayon::join(
+            || {
+                raw.par_iter()
+                    .map(|(f, b)| parse_block(&layouts[*f], b))
+                    .collect::<Vec<_>>()
+            },
+            || {
+                chunks
+                    .par_iter()
+                    .map(|c| compute_chunk(fast, layouts, c, ncols, write, bin_scale))
+                    .collect::<Vec<_>>()
+            },
+        );
+        chunks.clear();
+        // Earlier rows first: the estimates, then the newly parsed blocks.
+        for c in computed {
+            let c = c?;
+            for (acc, part) in accs.iter_mut().zip(&c.accs) {
+                acc.merge(part);
+            }
+            if let Some(tx) = wtx {
+                tx.send(c.bytes).map_err(|_| gone())?;
+            }
         }
+        for ((f, _), rows) in raw.iter().zip(parsed) {
+            queues[*f].push(rows?);
+        }
+        drop(raw);
 
         // Line the files up.
         let avail = queues.iter().map(|q| q.pending).min().unwrap_or(0);
@@ -1739,30 +1925,14 @@ fn drive(
                 _ => continue,
             }
         }
-        let mut chunks = Vec::with_capacity(take.div_ceil(chunk_rows));
         let mut left = take;
         while left > 0 {
             let n = left.min(chunk_rows);
             let [a, b, c] = &mut queues;
-            chunks.push([a.take(n, ncols), b.take(n, ncols), c.take(n, ncols)]);
+            chunks.push([a.take(n), b.take(n), c.take(n)]);
             left -= n;
         }
         taken += take as u64;
-        let write = wtx.is_some();
-        let computed: Vec<Result<Computed, FieldError>> = chunks
-            .par_iter()
-            .map(|chunk| compute_chunk(fast, layouts, chunk, write, bin_scale))
-            .collect();
-        drop(chunks);
-        for c in computed {
-            let c = c?;
-            for (acc, part) in accs.iter_mut().zip(&c.accs) {
-                acc.merge(part);
-            }
-            if let Some(tx) = wtx {
-                tx.send(c.bytes).map_err(|_| gone())?;
-            }
-        }
     }
     Ok(accs)
 }
@@ -2239,7 +2409,8 @@ mod tests {
         assess_field_with(&spec(files, Some(out.clone())), H, &set, &small()).unwrap();
         let t = read_rows(&out);
         assert_eq!(t.len(), 3);
-        assert_eq!(t[2], ["2", "2", "2", "", "no_change", "0"]);
+        // The finest value is written as its file gives it; computed figures in shortest form.
+        assert_eq!(t[2], ["2", "2.0", "2", "", "no_change", "0"]);
         let leftovers = std::fs::read_dir(dir.path())
             .unwrap()
             .filter(|e| {
@@ -2269,6 +2440,59 @@ mod tests {
             std::fs::read_to_string(&out).unwrap(),
             "id,cp,cp_extrapolated,cp_order,cp_class,cp_uncertainty\n"
         );
+    }
+
+    #[test]
+    fn plain_and_csv_parsers_agree() {
+        // The quote-free splitter must read exactly what the csv crate reads (RFC 4180 text
+        // without quotes), including CRLF, blank lines and a missing final line end.
+        let layout = Layout {
+            path: PathBuf::from("m.csv"),
+            header: vec!["id".into(), "x".into(), "cp".into()],
+            id_idx: 0,
+            col_idx: vec![2],
+            keep_text: false,
+        };
+        let text = b"a,0.1,1.5\r\n\nb , 2, -2e-3 \n\r\nc,3,4";
+        let block = |quoted| RawBlock {
+            bytes: text.to_vec(),
+            first_line: 7,
+            newlines: 4,
+            quoted,
+        };
+        let plain = parse_plain(&layout, &block(false)).unwrap().unwrap();
+        let general = parse_block(&layout, &block(true)).unwrap();
+        for r in [&plain, &general] {
+            assert_eq!(r.lines, [7, 9, 11]);
+            assert_eq!([r.id(0), r.id(1), r.id(2)], [&b"a"[..], b"b", b"c"]);
+            assert_eq!(
+                r.values.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
+                [1.5f64, -2e-3, 4.0].map(f64::to_bits)
+            );
+        }
+        // A lone carriage return ends a record for the csv reader: the plain path declines.
+        let lone = RawBlock {
+            bytes: b"a,1,2\rb,3,4\n".to_vec(),
+            first_line: 2,
+            newlines: 1,
+            quoted: false,
+        };
+        assert!(parse_plain(&layout, &lone).unwrap().is_none());
+        assert_eq!(parse_block(&layout, &lone).unwrap().len(), 2);
+        // Errors name the physical line in both paths.
+        let bad = |quoted| RawBlock {
+            bytes: b"a,1,2\n\nb,3\n".to_vec(),
+            first_line: 2,
+            newlines: 3,
+            quoted,
+        };
+        for q in [false, true] {
+            let e = parse_block(&layout, &bad(q)).unwrap_err().to_string();
+            assert_eq!(
+                e,
+                "m.csv, line 4, column `cp`: the row has 2 fields but the header has 3"
+            );
+        }
     }
 
     #[test]
