@@ -853,6 +853,8 @@ struct BlockReader {
     eof: bool,
     block_bytes: usize,
     first: Option<RawBlock>,
+    /// Buffers of parsed blocks, handed back for reuse.
+    pool: Arc<Pool>,
 }
 
 fn count_byte(bytes: &[u8], b: u8) -> usize {
@@ -861,10 +863,10 @@ fn count_byte(bytes: &[u8], b: u8) -> usize {
 
 /// Index of the last `\n` outside double quotes (the block starts outside quotes).
 fn last_record_end(buf: &[u8]) -> Option<usize> {
-    let mut quotes = count_byte(buf, b'"');
-    if quotes == 0 {
+    if !buf.contains(&b'"') {
         return buf.iter().rposition(|&c| c == b'\n');
     }
+    let mut quotes = count_byte(buf, b'"');
     for i in (0..buf.len()).rev() {
         match buf[i] {
             b'"' => quotes -= 1,
@@ -876,7 +878,7 @@ fn last_record_end(buf: &[u8]) -> Option<usize> {
 }
 
 impl BlockReader {
-    fn open(path: &Path, block_bytes: usize) -> Result<Self, FieldError> {
+    fn open(path: &Path, block_bytes: usize, pool: Arc<Pool>) -> Result<Self, FieldError> {
         let file = File::open(path).map_err(|source| FieldError::Read {
             path: path.to_path_buf(),
             source,
@@ -889,6 +891,7 @@ impl BlockReader {
             eof: false,
             block_bytes: block_bytes.max(1),
             first: None,
+            pool,
         })
     }
 
@@ -926,7 +929,7 @@ impl BlockReader {
         if let Some(b) = self.first.take() {
             return Ok(Some(b));
         }
-        let mut buf = Vec::with_capacity(self.block_bytes.max(self.carry.len()) + 256);
+        let mut buf = pooled(&self.pool, self.block_bytes.max(self.carry.len()) + 256);
         buf.append(&mut self.carry);
         let mut want = self.block_bytes.max(buf.len() + 1);
         loop {
@@ -1104,6 +1107,17 @@ impl Rows {
         self.lines.len()
     }
 
+    /// Empties the rows for reuse, keeping the allocations.
+    fn reset(&mut self, ncols: usize) {
+        self.ncols = ncols;
+        self.ids.clear();
+        self.id_end.clear();
+        self.texts.clear();
+        self.text_end.clear();
+        self.values.clear();
+        self.lines.clear();
+    }
+
     fn id(&self, i: usize) -> &[u8] {
         let start = if i == 0 { 0 } else { self.id_end[i - 1] };
         &self.ids[start..self.id_end[i]]
@@ -1200,13 +1214,27 @@ fn push_row<'b>(
     Ok(())
 }
 
+/// Bytes the plain splitter stops at: comma, line feed, carriage return.
+const SPECIAL: [bool; 256] = {
+    let mut t = [false; 256];
+    t[b',' as usize] = true;
+    t[b'\n' as usize] = true;
+    t[b'\r' as usize] = true;
+    t
+};
+
 /// Parses a block without double quotes by splitting at commas and line ends, which is what
 /// CSV means for such text. Gives `None` when a lone carriage return (a record end to the CSV
 /// reader) makes the general path the safer one.
-fn parse_plain(layout: &Layout, block: &RawBlock) -> Result<Option<Rows>, FieldError> {
+// Kept out of line so that profiles show parsing and estimating apart.
+#[inline(never)]
+fn parse_plain(
+    layout: &Layout,
+    block: &RawBlock,
+    mut rows: Rows,
+) -> Result<Option<Rows>, FieldError> {
     let bytes = &block.bytes[..];
     let len = bytes.len();
-    let mut rows = Rows::new(layout.col_idx.len(), block.newlines + 1);
     let mut fields: Vec<(usize, usize)> = Vec::with_capacity(layout.header.len() + 1);
     let mut line = block.first_line;
     let mut pos = 0;
@@ -1215,6 +1243,11 @@ fn parse_plain(layout: &Layout, block: &RawBlock) -> Result<Option<Rows>, FieldE
         let mut start = pos;
         let mut i = pos;
         let (end, next) = loop {
+            // Skip ordinary bytes with one table look-up each.
+            i += bytes[i..]
+                .iter()
+                .position(|&c| SPECIAL[c as usize])
+                .unwrap_or(len - i);
             if i >= len {
                 break (len, len);
             }
@@ -1252,13 +1285,15 @@ fn parse_plain(layout: &Layout, block: &RawBlock) -> Result<Option<Rows>, FieldE
     Ok(Some(rows))
 }
 
-fn parse_block(layout: &Layout, block: &RawBlock) -> Result<Rows, FieldError> {
+fn parse_block(layout: &Layout, block: &RawBlock, pool: &RowsPool) -> Result<Rows, FieldError> {
+    let ncols = layout.col_idx.len();
     if !block.quoted {
-        if let Some(rows) = parse_plain(layout, block)? {
+        let rows = pooled_rows(pool, ncols, block.newlines + 1);
+        if let Some(rows) = parse_plain(layout, block, rows)? {
             return Ok(rows);
         }
     }
-    let mut rows = Rows::new(layout.col_idx.len(), block.newlines + 1);
+    let mut rows = pooled_rows(pool, ncols, block.newlines + 1);
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
@@ -1297,6 +1332,42 @@ fn parse_block(layout: &Layout, block: &RawBlock) -> Result<Rows, FieldError> {
         })?;
     }
     Ok(rows)
+}
+
+/// Parsed-row buffers handed back for reuse.
+type RowsPool = std::sync::Mutex<Vec<Rows>>;
+
+/// Row buffers kept for reuse at most (about two rounds of blocks).
+const ROWS_POOL_MAX: usize = 6 * READ_AHEAD;
+
+/// Rows for a block of about `hint` records, from the pool when it has some.
+fn pooled_rows(pool: &RowsPool, ncols: usize, hint: usize) -> Rows {
+    match pool.lock().ok().and_then(|mut p| p.pop()) {
+        Some(mut r) => {
+            r.reset(ncols);
+            r
+        }
+        None => Rows::new(ncols, hint),
+    }
+}
+
+/// Hands the blocks of finished chunks back to the pool where no one else holds them.
+fn recycle(pool: &RowsPool, chunks: &mut Vec<[Vec<Segment>; 3]>) {
+    let Ok(mut p) = pool.lock() else {
+        chunks.clear();
+        return;
+    };
+    for chunk in chunks.drain(..) {
+        for segs in chunk {
+            for (rows, _, _) in segs {
+                if p.len() < ROWS_POOL_MAX {
+                    if let Ok(r) = Arc::try_unwrap(rows) {
+                        p.push(r);
+                    }
+                }
+            }
+        }
+    }
 }
 
 /// Rows `start..end` of a parsed block, shared between the queue and the chunks.
@@ -1568,21 +1639,23 @@ struct Computed {
     accs: Vec<ColumnAcc>,
 }
 
+// Kept out of line so that profiles show parsing and estimating apart.
+#[inline(never)]
 fn compute_chunk(
     fast: &FastThreeGrid,
     layouts: &[Layout],
     chunk: &[Vec<Segment>; 3],
     ncols: usize,
-    write: bool,
+    write: Option<&Pool>,
     bin_scale: f64,
 ) -> Result<Computed, FieldError> {
     let n: usize = chunk[0].iter().map(|s| s.2 - s.1).sum();
     let mut accs = vec![ColumnAcc::default(); ncols];
-    let mut buf = if write {
-        Vec::with_capacity(n * (16 + 80 * ncols))
-    } else {
-        Vec::new()
+    let mut buf = match write {
+        Some(pool) => pooled(pool, n * (16 + 80 * ncols)),
+        None => Vec::new(),
     };
+    let write = write.is_some();
     let mut cur = [
         Cursor::new(&chunk[0]),
         Cursor::new(&chunk[1]),
@@ -1639,12 +1712,43 @@ fn compute_chunk(
     Ok(Computed { bytes: buf, accs })
 }
 
+/// Output buffers handed back by the writer for reuse (fresh large buffers cost page faults).
+type Pool = std::sync::Mutex<Vec<Vec<u8>>>;
+
+/// Raw read buffers kept for reuse at most (the read-ahead of three files and a round).
+const RAW_POOL_MAX: usize = 3 * READ_AHEAD + 8;
+/// Output buffers kept for reuse at most (the write-ahead and a round of chunks).
+const OUT_POOL_MAX: usize = 2 * WRITE_AHEAD;
+
+/// Hands a buffer back to a pool holding fewer than `max`.
+fn give_back(pool: &Pool, buf: Vec<u8>, max: usize) {
+    if let Ok(mut p) = pool.lock() {
+        if p.len() < max {
+            p.push(buf);
+        }
+    }
+}
+
+fn pooled(pool: &Pool, capacity: usize) -> Vec<u8> {
+    let buf = pool.lock().ok().and_then(|mut p| p.pop());
+    match buf {
+        Some(mut b) => {
+            b.clear();
+            b.reserve(capacity);
+            b
+        }
+        None => Vec::with_capacity(capacity),
+    }
+}
+
 fn run_writer(
     mut tmp: tempfile::NamedTempFile,
     rx: Receiver<Vec<u8>>,
+    pool: &Pool,
 ) -> std::io::Result<tempfile::NamedTempFile> {
     for bytes in rx {
         tmp.as_file_mut().write_all(&bytes)?;
+        give_back(pool, bytes, OUT_POOL_MAX);
     }
     Ok(tmp)
 }
@@ -1715,8 +1819,9 @@ pub fn assess_field_with(
     })?;
     let mut readers = Vec::with_capacity(3);
     let mut layouts = Vec::with_capacity(3);
+    let raw_pool: Arc<Pool> = Arc::new(std::sync::Mutex::new(Vec::new()));
     for path in &spec.files {
-        let mut r = BlockReader::open(path, opts.block_bytes)?;
+        let mut r = BlockReader::open(path, opts.block_bytes, Arc::clone(&raw_pool))?;
         let header = r.read_header()?;
         let mut layout = Layout::new(path, header, spec)?;
         // The finest values are written back as given: the same numbers, no formatting cost.
@@ -1749,6 +1854,7 @@ pub fn assess_field_with(
     let chunk_rows = opts.chunk_rows;
     let round_rows = chunk_rows.saturating_mul(2 * rayon::current_num_threads().max(1));
 
+    let pool: Pool = std::sync::Mutex::new(Vec::new());
     let (result, written) = std::thread::scope(|scope| {
         let mut rxs = Vec::with_capacity(3);
         for r in readers {
@@ -1756,16 +1862,22 @@ pub fn assess_field_with(
             scope.spawn(move || run_reader(r, tx));
             rxs.push(rx);
         }
+        let pool = &pool;
         let (wtx, writer) = match tmp {
             Some(tmp) => {
                 let (tx, rx) = sync_channel::<Vec<u8>>(WRITE_AHEAD);
-                (Some(tx), Some(scope.spawn(move || run_writer(tmp, rx))))
+                (
+                    Some(tx),
+                    Some(scope.spawn(move || run_writer(tmp, rx, pool))),
+                )
             }
             None => (None, None),
         };
         let result = drive(
             &rxs,
             wtx.as_ref(),
+            pool,
+            &raw_pool,
             &layouts,
             &fast,
             spec,
@@ -1828,6 +1940,8 @@ pub fn assess_field_with(
 fn drive(
     rxs: &[Receiver<Result<RawBlock, FieldError>>],
     wtx: Option<&SyncSender<Vec<u8>>>,
+    pool: &Pool,
+    raw_pool: &Pool,
     layouts: &[Layout],
     fast: &FastThreeGrid,
     spec: &FieldSpec,
@@ -1851,7 +1965,8 @@ fn drive(
     }
     let mut taken: u64 = 0;
     let mut chunks: Vec<[Vec<Segment>; 3]> = Vec::new();
-    let write = wtx.is_some();
+    let rows_pool: RowsPool = std::sync::Mutex::new(Vec::new());
+    let write = wtx.map(|_| pool);
     loop {
         // Gather raw blocks until each file has about a round of rows.
         let mut raw: Vec<(usize, RawBlock)> = Vec::new();
@@ -1871,7 +1986,7 @@ fn drive(
         let (parsed, computed) = rayon::join(
             || {
                 raw.par_iter()
-                    .map(|(f, b)| parse_block(&layouts[*f], b))
+                    .map(|(f, b)| parse_block(&layouts[*f], b, &rows_pool))
                     .collect::<Vec<_>>()
             },
             || {
@@ -1881,7 +1996,7 @@ fn drive(
                     .collect::<Vec<_>>()
             },
         );
-        chunks.clear();
+        recycle(&rows_pool, &mut chunks);
         // Earlier rows first: the estimates, then the newly parsed blocks.
         for c in computed {
             let c = c?;
@@ -1895,7 +2010,9 @@ fn drive(
         for ((f, _), rows) in raw.iter().zip(parsed) {
             queues[*f].push(rows?);
         }
-        drop(raw);
+        for (_, b) in raw {
+            give_back(raw_pool, b.bytes, RAW_POOL_MAX);
+        }
 
         // Line the files up.
         let avail = queues.iter().map(|q| q.pending).min().unwrap_or(0);
@@ -2460,8 +2577,11 @@ mod tests {
             newlines: 4,
             quoted,
         };
-        let plain = parse_plain(&layout, &block(false)).unwrap().unwrap();
-        let general = parse_block(&layout, &block(true)).unwrap();
+        let pool = RowsPool::default();
+        let plain = parse_plain(&layout, &block(false), Rows::new(1, 4))
+            .unwrap()
+            .unwrap();
+        let general = parse_block(&layout, &block(true), &pool).unwrap();
         for r in [&plain, &general] {
             assert_eq!(r.lines, [7, 9, 11]);
             assert_eq!([r.id(0), r.id(1), r.id(2)], [&b"a"[..], b"b", b"c"]);
@@ -2477,8 +2597,10 @@ mod tests {
             newlines: 1,
             quoted: false,
         };
-        assert!(parse_plain(&layout, &lone).unwrap().is_none());
-        assert_eq!(parse_block(&layout, &lone).unwrap().len(), 2);
+        assert!(parse_plain(&layout, &lone, Rows::new(1, 4))
+            .unwrap()
+            .is_none());
+        assert_eq!(parse_block(&layout, &lone, &pool).unwrap().len(), 2);
         // Errors name the physical line in both paths.
         let bad = |quoted| RawBlock {
             bytes: b"a,1,2\n\nb,3\n".to_vec(),
@@ -2487,7 +2609,9 @@ mod tests {
             quoted,
         };
         for q in [false, true] {
-            let e = parse_block(&layout, &bad(q)).unwrap_err().to_string();
+            let e = parse_block(&layout, &bad(q), &pool)
+                .unwrap_err()
+                .to_string();
             assert_eq!(
                 e,
                 "m.csv, line 4, column `cp`: the row has 2 fields but the header has 3"
