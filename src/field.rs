@@ -38,7 +38,7 @@
 //! # Per-point file (contract)
 //! Header `id`, then for each column `c`: `c` (the finest mesh's value, as its file gives it),
 //! `c_extrapolated`, `c_order`, `c_class`, `c_uncertainty` (absolute). Empty cells where a
-//! figure does not exist. Computed numbers are written in the shortest form that reads back to
+//! figure does not exist (or overflows, near the largest doubles). Computed numbers are written in the shortest form that reads back to
 //! the same double (plain notation from 1e-5 to 1e16, scientific notation outside). Ids are
 //! written back trimmed, quoted where CSV needs it.
 //!
@@ -1595,8 +1595,10 @@ fn push_num(buf: &mut Vec<u8>, v: f64) {
     };
 }
 
+/// Appends a figure, or nothing (an empty cell) where it does not exist or is not finite
+/// (an overflow near the largest doubles).
 fn push_opt(buf: &mut Vec<u8>, v: Option<f64>) {
-    if let Some(v) = v {
+    if let Some(v) = v.filter(|v| v.is_finite()) {
         push_num(buf, v);
     }
 }
@@ -1782,6 +1784,11 @@ fn check_spec(spec: &FieldSpec, opts: &FieldOptions) -> Result<(), FieldError> {
         return Err(bad("the id column name is empty".into()));
     }
     if let Some(w) = &spec.write {
+        if spec.columns.iter().any(|c| c == "id") {
+            return Err(bad(
+                "a column named `id` would clash with the id column of the per-point file".into(),
+            ));
+        }
         if w.as_os_str().is_empty() || w.as_os_str() == "-" {
             return Err(bad(
                 "the per-point results need a file path (standard output is not offered)".into(),
@@ -2493,6 +2500,14 @@ mod tests {
         sp.columns = vec!["cp".into(), "cp".into()];
         let e = assess_field(&sp, H, &ThreeGridSettings::default()).unwrap_err();
         assert_eq!(e.to_string(), "field `blade`: column `cp` is listed twice");
+        sp.columns = vec!["id".into()];
+        sp.write = Some(PathBuf::from("points.csv"));
+        let e = assess_field(&sp, H, &ThreeGridSettings::default()).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "field `blade`: a column named `id` would clash with the id column of the per-point file"
+        );
+        sp.write = None;
         sp.columns = vec!["cp".into()];
         let e = assess_field(&sp, [1.0, 1.0, 2.0], &ThreeGridSettings::default()).unwrap_err();
         assert_eq!(
@@ -2617,6 +2632,28 @@ mod tests {
                 "m.csv, line 4, column `cp`: the row has 2 fields but the header has 3"
             );
         }
+    }
+
+    #[test]
+    fn overflowing_figures_leave_empty_cells() {
+        // ε32 overflows to −inf: class monotonic (R = 0), no order, and the formal-order
+        // fallback is infinite (same as three_grid::estimate); the file gets an empty cell.
+        let phi = [1.7e308, 1.7e308, -1.7e308];
+        let fast = FastThreeGrid::new(H, &ThreeGridSettings::default()).unwrap();
+        let e = fast.estimate(phi);
+        let g = three_grid::estimate(H, phi, &ThreeGridSettings::default()).unwrap();
+        assert_eq!(e.convergence, g.convergence);
+        assert!(e.uncertainty.is_some_and(f64::is_infinite));
+        let mut b = Vec::new();
+        push_opt(&mut b, e.uncertainty);
+        assert!(b.is_empty());
+        let mut acc = ColumnAcc::default();
+        acc.add(&e, phi[0], 1.0);
+        let c = acc.finish("cp");
+        assert_eq!(c.mean_relative, None);
+        assert!(serde_json::to_string(&c)
+            .unwrap()
+            .contains("\"max_relative\":null"));
     }
 
     #[test]
