@@ -2678,8 +2678,16 @@ mod tests {
 
     /// Compares the fast estimate with the general one at one point.
     fn same_as_general(fast: &FastThreeGrid, h: [f64; 3], phi: [f64; 3]) -> Result<(), String> {
-        let g = three_grid::estimate(h, phi, &ThreeGridSettings::default())
-            .map_err(|e| e.to_string())?;
+        same_as_general_with(fast, h, phi, &ThreeGridSettings::default())
+    }
+
+    fn same_as_general_with(
+        fast: &FastThreeGrid,
+        h: [f64; 3],
+        phi: [f64; 3],
+        settings: &ThreeGridSettings,
+    ) -> Result<(), String> {
+        let g = three_grid::estimate(h, phi, settings).map_err(|e| e.to_string())?;
         let f = fast.estimate(phi);
         let close = |a: Option<f64>, b: Option<f64>, rel: f64, abs: f64| match (a, b) {
             (Some(x), Some(y)) => (x - y).abs() <= rel * x.abs().max(y.abs()) + abs,
@@ -2727,13 +2735,17 @@ mod tests {
             d21 in diff(),
             d32 in diff(),
             more in proptest::collection::vec((diff(), diff()), 8),
+            order_max in prop_oneof![Just(20.0), 0.5f64..30.0],
+            safety_factor in prop_oneof![Just(1.25), Just(3.0)],
+            formal_order in prop_oneof![Just(2.0), Just(1.0)],
         ) {
             let r32 = if r32 == 0.0 { r21 } else { r32 };
             let h = [h1, h1 * r21, h1 * r21 * r32];
-            let fast = FastThreeGrid::new(h, &ThreeGridSettings::default()).unwrap();
+            let settings = ThreeGridSettings { safety_factor, order_max, formal_order };
+            let fast = FastThreeGrid::new(h, &settings).unwrap();
             for (a, b) in std::iter::once((d21, d32)).chain(more) {
                 let phi = [phi1, phi1 + a * 0.01, phi1 + a * 0.01 + b * 0.01];
-                same_as_general(&fast, h, phi).map_err(TestCaseError::fail)?;
+                same_as_general_with(&fast, h, phi, &settings).map_err(TestCaseError::fail)?;
             }
         }
 
