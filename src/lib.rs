@@ -14,6 +14,7 @@ pub mod assess;
 pub mod cli;
 pub mod compare;
 pub mod estimate;
+pub mod field;
 pub mod gate;
 pub mod grid;
 pub mod machine;
