@@ -63,8 +63,22 @@ pub fn resolve<'a>(a: &'a Assessment, target: &str) -> Option<Resolved<'a>> {
     resolve_field(a, target)
 }
 
-fn resolve_field<'a>(_a: &'a Assessment, _target: &str) -> Option<Resolved<'a>> {
-    None
+fn resolve_field<'a>(a: &'a Assessment, target: &str) -> Option<Resolved<'a>> {
+    use crate::estimate::Convergence as C;
+    let (field, column) = target.split_once('.')?;
+    let f = a.fields.iter().find(|f| f.name == field)?;
+    let c = f.columns.iter().find(|c| c.name == column)?;
+    Some(Resolved::Field {
+        max_relative: c.max_relative,
+        max_absolute: None,
+        classes: [
+            (C::Monotonic, c.classes.monotonic as usize),
+            (C::Oscillatory, c.classes.oscillatory as usize),
+            (C::Divergent, c.classes.divergent as usize),
+            (C::NoChange, c.classes.no_change as usize),
+        ],
+        points: f.points as usize,
+    })
 }
 
 /// The targets an assessment offers, for messages.
@@ -74,6 +88,11 @@ pub fn known_targets(a: &Assessment) -> Vec<String> {
         for b in &s.breakdown {
             v.push(format!("{}.breakdown.{}", s.name, b.response));
             v.push(format!("{}.reference.{}", s.name, b.response));
+        }
+    }
+    for f in &a.fields {
+        for c in &f.columns {
+            v.push(format!("{}.{}", f.name, c.name));
         }
     }
     v

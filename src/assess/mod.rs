@@ -39,12 +39,16 @@ pub struct Assessment {
     pub sweeps: Vec<sweep::SweepResult>,
     /// Comparisons with measurements (ASME V&V 20).
     pub comparisons: Vec<compare::ComparisonResult>,
+    /// Pointwise field summaries.
+    pub fields: Vec<crate::field::FieldSummary>,
     /// Warnings, each with a stable code.
     pub warnings: Vec<Warning>,
     /// The caution every report carries.
     pub caution: String,
     /// Every file the study made meshbound read, the study file first.
     pub files_read: Vec<String>,
+    /// Every file the study made meshbound write (per-point field results).
+    pub files_written: Vec<String>,
 }
 
 /// The three-mesh estimate with the names of the meshes it used.
@@ -307,9 +311,36 @@ pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
     w
 }
 
+/// Why a study could not be assessed.
+#[derive(Debug)]
+pub enum AssessError {
+    /// The data cannot give what the study asks for (exit 2); names file and key.
+    Input(crate::study::StudyError),
+    /// A file the study asks meshbound to write could not be written (exit 3).
+    Output(String),
+}
+
+impl std::fmt::Display for AssessError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            AssessError::Input(e) => write!(f, "{e}"),
+            AssessError::Output(m) => f.write_str(m),
+        }
+    }
+}
+
+impl std::error::Error for AssessError {}
+
+impl From<crate::study::StudyError> for AssessError {
+    fn from(e: crate::study::StudyError) -> Self {
+        AssessError::Input(e)
+    }
+}
+
 /// Assesses a whole study. Fails only where the data cannot give what the study asks for
-/// (for example a sweep that never reaches breakdown); the error names the file and key.
-pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
+/// (for example a sweep that never reaches breakdown, or a probe file that does not match);
+/// the error names the file and key or line.
+pub fn run(study: &Study) -> Result<Assessment, AssessError> {
     let mut warnings = mesh_warnings(&study.meshes);
     warnings.extend(health_warnings(study));
     let settings = ThreeGridSettings {
@@ -350,6 +381,28 @@ pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
             &mut warnings,
         )?);
     }
+    let mut fields = Vec::new();
+    for (spec, idx) in &study.fields {
+        let h = [
+            study.meshes[idx[0]].size,
+            study.meshes[idx[1]].size,
+            study.meshes[idx[2]].size,
+        ];
+        let summary = crate::field::assess_field(spec, h, &settings).map_err(|e| match e {
+            crate::field::FieldError::Write { .. } => {
+                AssessError::Output(format!("field `{}`: {e}", spec.name))
+            }
+            e => AssessError::Input(crate::study::StudyError {
+                file: study.path.clone(),
+                key: format!("fields.{}", spec.name),
+                line: None,
+                column: None,
+                message: e.to_string(),
+            }),
+        })?;
+        warnings.extend(summary.warnings());
+        fields.push(summary);
+    }
     Ok(Assessment {
         format: 1,
         title: study.title.clone(),
@@ -358,10 +411,16 @@ pub fn run(study: &Study) -> Result<Assessment, crate::study::StudyError> {
         quantities,
         sweeps,
         comparisons,
+        fields,
         warnings,
         caution: CAUTION.to_string(),
         files_read: study
             .files_read
+            .iter()
+            .map(|p| p.display().to_string())
+            .collect(),
+        files_written: study
+            .files_written
             .iter()
             .map(|p| p.display().to_string())
             .collect(),

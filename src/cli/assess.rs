@@ -60,15 +60,20 @@ pub fn assess_one(path: &std::path::Path) -> Result<crate::assess::Assessment, S
 /// Runs `assess`.
 pub fn run(args: Args) -> Result<(), Failure> {
     let paths = batch::expand(&args.studies)?;
-    let results = batch::run_all(&paths, assess_one);
+    let results = if paths.len() == 1 {
+        Vec::new()
+    } else {
+        batch::run_all(&paths, assess_one)
+    };
     let broken = results.iter().filter(|r| r.is_err()).count();
     if paths.len() == 1 {
         // One study: its output or its error, nothing partial.
-        let a = match results.into_iter().next() {
-            Some(Ok(a)) => a,
-            Some(Err(e)) => return Err(Failure::Input(e)),
-            None => return Ok(()),
-        };
+        drop(results);
+        let study = crate::study::load(&paths[0]).map_err(|e| Failure::Input(e.to_string()))?;
+        let a = crate::assess::run(&study).map_err(|e| match e {
+            crate::assess::AssessError::Output(m) => Failure::Output(m),
+            e => Failure::Input(e.to_string()),
+        })?;
         let bytes = match args.format.exporter() {
             Some(f) => f.exporter().export(&a),
             None => crate::report::json::Json.export_one(&a, args.format == AssessFormat::Jsonl),

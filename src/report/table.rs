@@ -393,6 +393,42 @@ fn comparison_block(
     ));
 }
 
+fn field_block(f: &crate::field::FieldSummary, out: &mut String) {
+    out.push_str(&format!(
+        "\nfield {} — {} probes{}\n",
+        f.name,
+        f.points,
+        f.written.as_ref().map_or(String::new(), |w| format!(
+            "; per-point results written to {w}"
+        ))
+    ));
+    let mut t = grid(&[
+        "column",
+        "monotonic",
+        "oscillatory",
+        "divergent",
+        "no change",
+        "mean order",
+        "median order",
+        "mean U/|φ|",
+        "largest U/|φ|",
+    ]);
+    for c in &f.columns {
+        t.add_row(vec![
+            c.name.clone(),
+            c.classes.monotonic.to_string(),
+            c.classes.oscillatory.to_string(),
+            c.classes.divergent.to_string(),
+            c.classes.no_change.to_string(),
+            opt(c.mean_order, 3),
+            opt(c.median_order, 3),
+            opt_percent(c.mean_relative),
+            opt_percent(c.max_relative),
+        ]);
+    }
+    out.push_str(&format!("{t}\n"));
+}
+
 impl Exporter for Table {
     fn export(&self, a: &Assessment) -> Vec<u8> {
         let mut out = String::new();
@@ -420,6 +456,9 @@ impl Exporter for Table {
         }
         for c in &a.comparisons {
             comparison_block(a, c, &mut out);
+        }
+        for f in &a.fields {
+            field_block(f, &mut out);
         }
         if !a.warnings.is_empty() {
             out.push_str("\nwarnings\n");

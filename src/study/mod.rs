@@ -107,6 +107,10 @@ pub struct Study {
     pub acceptance: Vec<raw::RawAcceptance>,
     /// Measurements to compare with.
     pub references: Vec<reference::Reference>,
+    /// Pointwise fields, with the indices of the three finest meshes they cover.
+    pub fields: Vec<(crate::field::FieldSpec, [usize; 3])>,
+    /// Files the study makes meshbound write (field per-point results).
+    pub files_written: Vec<PathBuf>,
     /// Per mesh (same order as `meshes`): mean wall y+, when given.
     pub y_plus: Vec<Option<f64>>,
     /// Per mesh (same order as `meshes`): iterative uncertainty, absolute, when given.
@@ -467,6 +471,74 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         text,
         &mut files_read,
     )?;
+    let mut fields = Vec::new();
+    let mut files_written = Vec::new();
+    for (fname, f) in &raw.fields {
+        let key = format!("fields.{fname}");
+        let fline = find_line(text, 1, |l| {
+            l.trim_start().starts_with(&format!("{fname}:"))
+        });
+        if f.columns.is_empty() {
+            return Err(err(
+                format!("{key}.columns"),
+                fline,
+                "names no column: list the quantities to estimate at every probe".into(),
+            ));
+        }
+        for m in f.data.keys() {
+            if !mesh_names.contains(m) {
+                return Err(err(
+                    format!("{key}.data.{m}"),
+                    fline,
+                    format!(
+                        "names the mesh `{m}`, which is not in `meshes` (known: {})",
+                        mesh_names.join(", ")
+                    ),
+                ));
+            }
+        }
+        let idx: Vec<usize> = (0..meshes.len())
+            .filter(|&i| f.data.contains_key(&meshes[i].name))
+            .take(3)
+            .collect();
+        if idx.len() < 3 {
+            return Err(err(
+                format!("{key}.data"),
+                fline,
+                format!(
+                    "gives probe files for {} mesh(es); three are needed",
+                    idx.len()
+                ),
+            ));
+        }
+        let base = path.parent().unwrap_or(Path::new(""));
+        let files: Vec<PathBuf> = idx
+            .iter()
+            .map(|&i| base.join(&f.data[&meshes[i].name]))
+            .collect();
+        files_read.extend(files.iter().cloned());
+        let write = f.write.as_ref().map(|w| base.join(w));
+        if let Some(w) = &write {
+            if files.contains(w) || w == path {
+                return Err(err(
+                    format!("{key}.write"),
+                    fline,
+                    "would overwrite an input file".into(),
+                ));
+            }
+            files_written.push(w.clone());
+        }
+        fields.push((
+            crate::field::FieldSpec {
+                name: fname.clone(),
+                id: f.id.clone(),
+                columns: f.columns.clone(),
+                files,
+                write,
+            },
+            [idx[0], idx[1], idx[2]],
+        ));
+    }
     let references = reference::check(
         &raw.reference_data,
         &quantities,
@@ -497,6 +569,8 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         },
         references,
         sweeps,
+        fields,
+        files_written,
         files_read,
         acceptance: raw.acceptance.clone(),
         y_plus: order

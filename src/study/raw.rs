@@ -37,6 +37,26 @@ pub struct RawStudy {
     /// Measurements to compare with, named like the sweep or quantity.
     #[serde(default)]
     pub reference_data: IndexMap<String, super::reference::RawReference>,
+    /// Pointwise fields: probe files per mesh.
+    #[serde(default)]
+    pub fields: IndexMap<String, RawField>,
+}
+
+/// A pointwise field as written (contract).
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawField {
+    /// Name of the id column (default: the first column).
+    #[serde(default)]
+    pub id: Option<String>,
+    /// Quantities to estimate at every probe.
+    pub columns: Vec<String>,
+    /// Per mesh: a CSV file of probes, relative to the study file. Every file holds the same
+    /// probes in the same order.
+    pub data: IndexMap<String, String>,
+    /// Per-point results file, relative to the study file.
+    #[serde(default)]
+    pub write: Option<String>,
 }
 
 /// One acceptance limit as written.
