@@ -2641,9 +2641,10 @@ mod tests {
         let phi = [1.7e308, 1.7e308, -1.7e308];
         let fast = FastThreeGrid::new(H, &ThreeGridSettings::default()).unwrap();
         let e = fast.estimate(phi);
-        let g = three_grid::estimate(H, phi, &ThreeGridSettings::default()).unwrap();
-        assert_eq!(e.convergence, g.convergence);
-        assert!(e.uncertainty.is_some_and(f64::is_infinite));
+        // The scalar estimator refuses overflowing differences; the field leaves the cells
+        // empty instead of writing an infinity.
+        assert!(three_grid::estimate(H, phi, &ThreeGridSettings::default()).is_err());
+        assert!(e.uncertainty.is_none_or(f64::is_infinite));
         let mut b = Vec::new();
         push_opt(&mut b, e.uncertainty);
         assert!(b.is_empty());

@@ -216,6 +216,16 @@ pub fn estimate(
     let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
     let mut e21 = phi[1] - phi[0];
     let mut e32 = phi[2] - phi[1];
+    if !(e21.is_finite() && e32.is_finite()) {
+        return Err(EstimateError::InvalidInput(
+            "the differences between meshes overflow the floating-point range (values near ±1.8e308 of opposite signs): rescale the quantity".into(),
+        ));
+    }
+    if !(r21.is_finite() && r32.is_finite()) {
+        return Err(EstimateError::InvalidInput(
+            "the refinement ratios overflow the floating-point range: check the sizes".into(),
+        ));
+    }
     let mut warnings = Vec::new();
     let roundoff21 = e21 != 0.0 && e21.abs() <= tiny;
     let roundoff32 = e32 != 0.0 && e32.abs() <= tiny;
@@ -547,6 +557,40 @@ mod tests {
         assert_eq!(r.governing, Some(Governing::FormalOrder));
         // 3 · 0.1/(1.5² − 1) = 0.24 (formula)
         assert_relative_eq!(r.uncertainty.unwrap(), 0.24, max_relative = 1e-12);
+    }
+
+    #[test]
+    fn extreme_numbers_give_finite_results_or_a_refusal() {
+        let s = ThreeGridSettings::default();
+        let h = [1.0, 2.0, 4.0];
+        // Scale invariance (analytic): φ = c (1 + h²/100) has p = 2 for any scale c.
+        for c in [1e-300, 1e300, -1e300, 1e-305] {
+            let phi = h.map(|x| c * (1.0 + x * x / 100.0));
+            let r = estimate(h, phi, &s).unwrap();
+            assert_relative_eq!(r.observed_order.unwrap(), 2.0, max_relative = 1e-9);
+            assert!(r.uncertainty.unwrap().is_finite());
+        }
+        // Subnormal differences: 5e-324 steps are below round-off of the values → no change.
+        let r = estimate(h, [1e-300, 1e-300 + 5e-324, 1e-300 + 1e-323], &s).unwrap();
+        assert_eq!(r.convergence, Convergence::NoChange);
+        // Pure subnormals still give a finite answer or a refusal, never NaN.
+        if let Ok(r) = estimate(h, [5e-324, 1e-323, 2e-323], &s) {
+            assert!(r.uncertainty.is_none_or(|u| u.is_finite()));
+        }
+        // Overflowing differences are refused.
+        assert!(estimate(h, [1e308, -1e308, 1e308], &s).is_err());
+        // A zero crossing: relative measures flagged.
+        let r = estimate(h, [0.001, -0.002, 0.011], &s).unwrap();
+        assert!(
+            r.warnings.iter().any(|w| w.code == "value_near_zero"),
+            "{:?}",
+            r.warnings
+        );
+        // Huge and tiny sizes.
+        let r = estimate([1e-200, 2e-200, 4e-200], [1.0, 1.04, 1.2], &s).unwrap();
+        assert!(r.observed_order.unwrap().is_finite());
+        assert!(estimate([1e300, 1e308, f64::MAX], [1.0, 1.04, 1.2], &s)
+            .is_ok_and(|r| r.uncertainty.is_none_or(|u| u.is_finite())));
     }
 
     proptest! {

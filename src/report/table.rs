@@ -437,7 +437,14 @@ impl Exporter for Table {
             a.title,
             "═".repeat(a.title.chars().count().max(8))
         ));
-        out.push_str(&format!("study file: {}\n\n", a.study));
+        out.push_str(&format!("study file: {}\n", a.study));
+        if a.files_read.len() > 1 {
+            out.push_str(&format!("files read: {}\n", a.files_read[1..].join(", ")));
+        }
+        if !a.files_written.is_empty() {
+            out.push_str(&format!("files written: {}\n", a.files_written.join(", ")));
+        }
+        out.push('\n');
         let mut t = grid(&["mesh", "cells", "h", "ratio to finer"]);
         for m in &a.meshes {
             t.add_row(vec![
