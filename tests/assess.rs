@@ -233,12 +233,7 @@ fn oscillatory_divergent_and_no_change_cases() {
     // No change: zero uncertainty and a warning.
     assert_eq!(q(2)["three_grid"]["convergence"], "no_change");
     assert_eq!(q(2)["uncertainty"]["absolute"], 0.0);
-    let codes: Vec<&str> = v["warnings"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|w| w["code"].as_str().unwrap())
-        .collect();
+    let codes = warning_codes(&v);
     assert!(
         codes.contains(&"no_change")
             && codes.contains(&"divergent")
@@ -337,12 +332,7 @@ fn study_health_checks() {
     let o = run_in(w.path(), &["assess", "h.yaml", "-f", "json"]);
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
-    let codes: Vec<&str> = v["warnings"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|w| w["code"].as_str().unwrap())
-        .collect();
+    let codes = warning_codes(&v);
     // y+ 22 lies below the 30–300 wall-function range, 45 and 90 inside (common practice).
     assert!(
         codes.contains(&"y_plus_crosses_wall_function_range"),
@@ -361,12 +351,7 @@ fn study_health_checks() {
         "-f",
         "json",
     ]);
-    let codes: Vec<&str> = v["warnings"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|w| w["code"].as_str().unwrap())
-        .collect();
+    let codes = warning_codes(&v);
     assert!(
         !codes.contains(&"y_plus_crosses_wall_function_range"),
         "{codes:?}"

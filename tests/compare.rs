@@ -127,12 +127,7 @@ fn normalised_comparison_says_so() {
         0.0,
         epsilon = 1e-15
     );
-    let codes: Vec<&str> = v["warnings"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|w| w["code"].as_str().unwrap())
-        .collect();
+    let codes = warning_codes(&v);
     assert!(codes.contains(&"comparison_normalised"));
     let o = run_in(w.path(), &["assess", "s.yaml"]);
     assert!(String::from_utf8_lossy(&o.stdout).contains("divided by its own peak"));

@@ -73,3 +73,11 @@ pub fn json(args: &[&str]) -> serde_json::Value {
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     serde_json::from_slice(&o.stdout).unwrap_or_else(|e| panic!("not JSON: {e}\n{}", show(&o)))
 }
+
+/// The warning codes of a JSON result, in order.
+pub fn warning_codes(v: &serde_json::Value) -> Vec<&str> {
+    v["warnings"]
+        .as_array()
+        .map(|a| a.iter().filter_map(|w| w["code"].as_str()).collect())
+        .unwrap_or_default()
+}
