@@ -281,3 +281,48 @@ fn hostile_inputs_are_refused_quickly() {
     assert_eq!(o.status.code(), Some(2), "{}", show(&o));
     assert!(String::from_utf8_lossy(&o.stderr).contains("not UTF-8"));
 }
+
+#[test]
+fn full_output_location_exits_3_and_leaves_nothing() {
+    // A tiny tmpfs stands in for a full disk; it needs the right to mount (root in CI).
+    let w = Workdir::new();
+    let mnt = w.path().join("tiny");
+    std::fs::create_dir(&mnt).unwrap();
+    let mounted = std::process::Command::new("mount")
+        .args(["-t", "tmpfs", "-o", "size=8k", "tmpfs"])
+        .arg(&mnt)
+        .status()
+        .is_ok_and(|s| s.success());
+    if !mounted {
+        eprintln!("skipped: cannot mount a tmpfs here (not root?)");
+        return;
+    }
+    let study = common::root().join("studies/axial-pump-five-meshes.yaml");
+    let target = mnt.join("out.json");
+    let o = run_in(
+        w.path(),
+        &[
+            "assess",
+            study.to_str().unwrap(),
+            "-f",
+            "json",
+            "-o",
+            target.to_str().unwrap(),
+        ],
+    );
+    let listing: Vec<_> = std::fs::read_dir(&mnt)
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
+    let _ = std::process::Command::new("umount").arg(&mnt).status();
+    assert_eq!(o.status.code(), Some(3), "{}", show(&o));
+    assert!(
+        String::from_utf8_lossy(&o.stderr).contains("No space left"),
+        "{}",
+        show(&o)
+    );
+    assert!(
+        listing.is_empty(),
+        "nothing may be left on the full disk: {listing:?}"
+    );
+}
