@@ -9,6 +9,7 @@ pub mod draft;
 pub mod gate;
 pub mod manual;
 pub mod plan;
+pub mod report;
 pub mod schema;
 pub mod water;
 
@@ -64,6 +65,8 @@ pub enum Command {
     Manual(manual::ManualArgs),
     /// Water properties (IAPWS-IF97) and the pressure that gives a target Thoma number.
     Water(water::Args),
+    /// Write the whole report into a new folder: Markdown, HTML and one SVG per figure.
+    Report(report::Args),
 }
 
 /// Runs the parsed command line.
@@ -77,6 +80,7 @@ pub fn run(cli: Cli) -> Result<(), Failure> {
         Command::Draft(a) => draft::run(a),
         Command::Completions(a) => manual::completions(a),
         Command::Manual(a) => manual::manual(a),
+        Command::Report(a) => report::run(a),
     }
 }
 

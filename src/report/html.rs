@@ -3,7 +3,7 @@
 //! any browser.
 
 use super::format::percent;
-use super::markup::{self, Align, Cell, Markup, Span, TableBlock};
+use super::markup::{self, Align, Cell, Figure, Markup, Span, TableBlock};
 use crate::assess::Assessment;
 
 /// Escapes text for HTML.
@@ -27,7 +27,9 @@ h1{font-size:1.6rem;border-bottom:3px double #1f3b57;padding-bottom:.3rem}
 h2{font-size:1.25rem;margin-top:2rem;color:#1f3b57}
 h3{font-size:1.05rem}
 table{border-collapse:collapse;margin:.4rem 0 1.4rem;font-size:.9rem}
-caption{caption-side:top;text-align:left;font-style:italic;padding-bottom:.3rem}
+figure.table{margin:.4rem 0 1.4rem;overflow-x:auto}
+figure.table figcaption{padding-bottom:.3rem}
+figure.table table{margin:0}
 th,td{padding:.2rem .6rem}
 thead th{border-top:2px solid #1a1a1a;border-bottom:1px solid #1a1a1a}
 tbody tr:last-child td{border-bottom:2px solid #1a1a1a}
@@ -36,8 +38,12 @@ code{font-family:'Courier New',monospace;font-size:.9em}
 figure{margin:1rem 0 2rem;page-break-inside:avoid}
 figure svg{max-width:100%;height:auto}
 figcaption{font-style:italic}
+.statement{border-left:4px solid #1f3b57;background:#f3f6f9;padding:.6rem 1rem;margin:1rem 0}
 .caution{border:2px solid #b4532a;padding:.6rem 1rem;margin:1rem 0}
 @media print{body{margin:0;max-width:none}h2{page-break-after:avoid}table{page-break-inside:avoid}}";
+
+/// The namespace attribute of a standalone SVG file, not needed inline.
+pub const SVG_NAMESPACE: &str = " xmlns=\"http://www.w3.org/2000/svg\"";
 
 /// HTML markup.
 struct Html;
@@ -86,8 +92,10 @@ impl Markup for Html {
             Some(Align::Right) => " class=\"num\"",
             _ => "",
         };
+        // The caption is the figure's, not the table's own: a `<caption>` is no wider than its
+        // table, which breaks a long caption of a narrow table into many short lines.
         let mut out = format!(
-            "<table>\n<caption>{}</caption>\n<thead><tr>",
+            "<figure class=\"table\">\n<figcaption>{}</figcaption>\n<table>\n<thead><tr>",
             escape(&t.caption)
         );
         for (i, h) in t.headers.iter().enumerate() {
@@ -101,7 +109,7 @@ impl Markup for Html {
             }
             out.push_str("</tr>\n");
         }
-        out.push_str("</tbody>\n</table>\n");
+        out.push_str("</tbody>\n</table>\n</figure>\n");
         out
     }
 
@@ -121,24 +129,35 @@ impl Markup for Html {
         )
     }
 
-    fn figure(&self, title: &str, svg: &str) -> String {
-        // The SVG is our own plot output; a leading XML declaration is not allowed inline.
-        let body = match svg.find("<svg") {
-            Some(i) => &svg[i..],
+    fn statement(&self, text: &str) -> String {
+        // A figure and its uncertainty, and a number and its percent sign, stay on one line.
+        let text = escape(text)
+            .replace(" ± ", "\u{a0}±\u{a0}")
+            .replace(" %", "\u{a0}%");
+        format!("<p class=\"statement\">{text}</p>\n")
+    }
+
+    fn figure(&self, f: &Figure) -> String {
+        // The SVG is our own plot output; a leading XML declaration is not allowed inline, and
+        // inline SVG needs no namespace declaration: it is dropped so that the page names no
+        // address at all.
+        let body = match f.svg.find("<svg") {
+            Some(i) => &f.svg[i..],
             None => return String::new(),
         };
+        let body = body.replacen(SVG_NAMESPACE, "", 1);
         format!(
             "<figure>\n{}\n<figcaption>{}</figcaption>\n</figure>\n",
             body.trim_end(),
-            escape(title)
+            escape(&f.title)
         )
     }
 }
 
 /// The whole report as one self-contained HTML page: meshes, every result table, the given
 /// plots (title, SVG text from [`super::plot`]) inline, warnings and the caution.
-pub fn html_page(a: &Assessment, plots: &[(String, String)]) -> String {
-    markup::render(&Html, &a.title, &markup::document(a, plots))
+pub fn html_page(a: &Assessment, figures: &[Figure]) -> String {
+    markup::render(&Html, &a.title, &markup::document(a, figures))
 }
 
 #[cfg(test)]
@@ -151,7 +170,11 @@ mod tests {
     fn page_is_self_contained_with_inline_figures() {
         let a = fixture::assess(fixture::DEMO);
         let svg = plot::convergence_plot(&a, &a.quantities[0]).expect("plot");
-        let page = html_page(&a, &[("efficiency".into(), svg)]);
+        assert!(
+            svg.contains(SVG_NAMESPACE),
+            "the file form keeps its namespace"
+        );
+        let page = html_page(&a, &[Figure::inline("efficiency", svg)]);
         assert!(page.starts_with("<!DOCTYPE html>"));
         assert!(page.trim_end().ends_with("</html>"));
         assert_eq!(page.matches("<figure>").count(), 1);
@@ -161,6 +184,7 @@ mod tests {
             "<link",
             "http://fonts",
             "https://",
+            "http://",
             "@import",
             " src=",
         ] {
@@ -173,6 +197,6 @@ mod tests {
 
     #[test]
     fn figures_without_svg_are_left_out() {
-        assert_eq!(Html.figure("x", "not an svg"), "");
+        assert_eq!(Html.figure(&Figure::inline("x", "not an svg")), "");
     }
 }

@@ -1,7 +1,7 @@
 //! Markdown (GitHub tables) report: the content of [`super::markup::document`].
 
 use super::format::percent;
-use super::markup::{self, Align, Cell, Markup, Span, TableBlock};
+use super::markup::{self, Align, Cell, Figure, Markup, Span, TableBlock};
 use super::Exporter;
 use crate::assess::Assessment;
 
@@ -35,6 +35,19 @@ fn code(s: &str) -> String {
     };
     // `|` must be escaped even inside a code span in a GitHub table.
     format!("{fence}{pad}{}{pad}{fence}", s.replace('|', "\\|"))
+}
+
+/// A link destination: as it is when it holds only file-name characters, else in angle
+/// brackets (CommonMark), without the characters that would end it.
+fn destination(file: &str) -> String {
+    if file
+        .chars()
+        .all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | '-' | '_' | '/'))
+    {
+        file.to_string()
+    } else {
+        format!("<{}>", file.replace(['<', '>', '\n'], ""))
+    }
 }
 
 fn spans(s: &[Span]) -> String {
@@ -97,6 +110,25 @@ impl Markup for Markdown {
     fn caution(&self, text: &str) -> String {
         format!("> **Caution.** {}\n", escape(text))
     }
+
+    /// A figure written to a file is linked as an image; one without a file is left out.
+    fn figure(&self, f: &Figure) -> String {
+        match &f.file {
+            Some(file) => format!(
+                "![{}]({})\n\n*{}*\n\n",
+                escape(&f.title),
+                destination(file),
+                escape(&f.title)
+            ),
+            None => String::new(),
+        }
+    }
+}
+
+/// The Markdown report with figures: those with a file are linked as images (the files are
+/// written beside the report by the caller).
+pub fn markdown_page(a: &Assessment, figures: &[Figure]) -> String {
+    markup::render(&Markdown, &a.title, &markup::document(a, figures))
 }
 
 impl Exporter for Markdown {
@@ -142,5 +174,24 @@ mod tests {
         assert!(text.contains("| M\\_fine | 2000000 | 1 | – |"), "{text}");
         assert!(text.contains(&format!("> **Caution.** {}", escape(&a.caution))));
         assert!(!text.contains("NaN") && !text.contains("inf "));
+        assert!(text.contains("\n## Drafted uncertainty statement\n"));
+        assert!(!text.contains("!["), "no figures without files");
+    }
+
+    #[test]
+    fn figures_with_files_are_linked() {
+        let a = fixture::assess(fixture::DEMO);
+        let mut f = Figure::inline("efficiency_plot", "<svg></svg>");
+        assert!(!markdown_page(&a, &[f.clone()]).contains("!["));
+        f.file = Some("convergence-efficiency.svg".into());
+        let text = markdown_page(&a, &[f]);
+        assert!(
+            text.contains(
+                "![efficiency\\_plot](convergence-efficiency.svg)\n\n*efficiency\\_plot*\n"
+            ),
+            "{text}"
+        );
+        assert!(!text.contains("<svg"));
+        assert_eq!(destination("a b.svg"), "<a b.svg>");
     }
 }

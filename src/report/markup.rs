@@ -118,8 +118,32 @@ pub enum Block {
     List(Vec<Vec<Span>>),
     /// The caution, set apart.
     Caution(String),
-    /// A figure: title and SVG text (HTML only; other formats skip it).
-    Figure(String, String),
+    /// The drafted uncertainty statement, set apart as text to copy.
+    Statement(String),
+    /// A figure (HTML sets the SVG inline, Markdown links the file; LaTeX leaves it out).
+    Figure(Figure),
+}
+
+/// A figure of the report.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figure {
+    /// What the figure shows.
+    pub title: String,
+    /// The SVG text (from [`super::plot`]).
+    pub svg: String,
+    /// The file the SVG is written to, relative to the report, when it is written to one.
+    pub file: Option<String>,
+}
+
+impl Figure {
+    /// A figure held only as SVG text (no file).
+    pub fn inline(title: impl Into<String>, svg: impl Into<String>) -> Self {
+        Figure {
+            title: title.into(),
+            svg: svg.into(),
+            file: None,
+        }
+    }
 }
 
 /// A markup syntax: renders each block. Implementations escape the text they are given.
@@ -142,8 +166,12 @@ pub trait Markup {
     fn list(&self, items: &[Vec<Span>]) -> String;
     /// The caution.
     fn caution(&self, text: &str) -> String;
-    /// A figure; formats that cannot embed SVG leave it out.
-    fn figure(&self, _title: &str, _svg: &str) -> String {
+    /// The drafted statement; by default a paragraph.
+    fn statement(&self, text: &str) -> String {
+        self.paragraph(&[Span::Text(text.to_string())])
+    }
+    /// A figure; formats that can neither embed nor link it leave it out.
+    fn figure(&self, _figure: &Figure) -> String {
         String::new()
     }
 }
@@ -158,7 +186,8 @@ pub fn render<M: Markup + ?Sized>(m: &M, title: &str, blocks: &[Block]) -> Strin
             Block::Table(t) => m.table(t),
             Block::List(items) => m.list(items),
             Block::Caution(t) => m.caution(t),
-            Block::Figure(t, svg) => m.figure(t, svg),
+            Block::Statement(t) => m.statement(t),
+            Block::Figure(f) => m.figure(f),
         });
     }
     out.push_str(&m.end());
@@ -447,9 +476,18 @@ fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
     }
 }
 
+/// Heading of the drafted uncertainty statement.
+pub const STATEMENT_HEADING: &str = "Drafted uncertainty statement";
+
+/// What the drafted statement is, said before it.
+pub const STATEMENT_NOTE: &str = "A draft to adapt for a report or a paper. It states only the \
+figures above; add what the study file does not hold: the solver and its discretisation schemes, \
+the iterative convergence, the turbulence and cavitation models.";
+
 /// The report of one assessment as blocks: meshes, results, estimates side by side, sweeps
-/// (breakdown and band), figures, warnings and, last, the caution.
-pub fn document(a: &Assessment, figures: &[(String, String)]) -> Vec<Block> {
+/// (breakdown and band), figures, warnings, the drafted uncertainty statement
+/// ([`super::paragraph::uncertainty_paragraph`]) and, last, the caution.
+pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
     let mut out = vec![
         Block::Heading(1, a.title.clone()),
         Block::Paragraph(vec![text("Study file: "), Span::Code(a.study.clone())]),
@@ -483,8 +521,8 @@ pub fn document(a: &Assessment, figures: &[(String, String)]) -> Vec<Block> {
     }
     if !figures.is_empty() {
         out.push(Block::Heading(2, "Figures".into()));
-        for (title, svg) in figures {
-            out.push(Block::Figure(title.clone(), svg.clone()));
+        for f in figures {
+            out.push(Block::Figure(f.clone()));
         }
     }
     out.push(Block::Heading(2, "Warnings".into()));
@@ -502,6 +540,9 @@ pub fn document(a: &Assessment, figures: &[(String, String)]) -> Vec<Block> {
                 .collect(),
         ));
     }
+    out.push(Block::Heading(2, STATEMENT_HEADING.into()));
+    out.push(Block::Paragraph(vec![text(STATEMENT_NOTE)]));
+    out.push(Block::Statement(super::paragraph::uncertainty_paragraph(a)));
     out.push(Block::Caution(a.caution.clone()));
     out
 }
@@ -594,7 +635,13 @@ mod tests {
                 _ => None,
             })
             .collect();
-        for h in ["Meshes", "Results", "Sweep cav", "Warnings"] {
+        for h in [
+            "Meshes",
+            "Results",
+            "Sweep cav",
+            "Warnings",
+            STATEMENT_HEADING,
+        ] {
             assert!(headings.contains(&h), "{h} in {headings:?}");
         }
         assert!(headings.iter().any(|h| h.starts_with("Band of efficiency")));
@@ -616,6 +663,13 @@ mod tests {
         assert_eq!(tables[0].rows.len(), a.meshes.len());
         assert_eq!(tables[1].rows.len(), a.quantities.len());
         assert!(matches!(blocks.last(), Some(Block::Caution(c)) if c == &a.caution));
+        // The drafted statement comes right before the caution.
+        let n = blocks.len();
+        assert_eq!(
+            blocks[n - 2],
+            Block::Statement(crate::report::paragraph::uncertainty_paragraph(&a))
+        );
+        assert_eq!(blocks[n - 4], Block::Heading(2, STATEMENT_HEADING.into()));
     }
 
     #[test]
@@ -645,13 +699,13 @@ mod tests {
     #[test]
     fn figures_are_blocks_only_when_given() {
         let a = fixture::assess(fixture::DEMO);
-        let n = |f: &[(String, String)]| {
+        let n = |f: &[Figure]| {
             document(&a, f)
                 .iter()
                 .filter(|b| matches!(b, Block::Figure(..)))
                 .count()
         };
         assert_eq!(n(&[]), 0);
-        assert_eq!(n(&[("t".into(), "<svg></svg>".into())]), 1);
+        assert_eq!(n(&[Figure::inline("t", "<svg></svg>")]), 1);
     }
 }

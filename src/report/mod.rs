@@ -8,6 +8,7 @@ pub mod json;
 pub mod latex;
 pub mod markdown;
 pub mod markup;
+pub mod paragraph;
 pub mod plot;
 pub mod table;
 

@@ -17,6 +17,7 @@ use super::table::{breakdown_rule, statement, symbol};
 use crate::assess::sweep::SweepResult;
 use crate::assess::{Assessment, Method, QuantityResult};
 use crate::grid::Mesh;
+use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged};
 use plotters::coord::types::RangedCoordf64;
 use plotters::coord::Shift;
 use plotters::element::DashedPathElement;
@@ -238,13 +239,105 @@ fn escape_xml(s: &str) -> String {
 // ---------------------------------------------------------------------------------------------
 // Drawing a scene.
 
-type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<Coord, Coord>>;
+
+/// A linear f64 axis with the tick and light grid values we choose (labels are formatted by
+/// [`tick`], so the default formatting is never used).
+struct Coord {
+    inner: RangedCoordf64,
+    ticks: Vec<f64>,
+    light: Vec<f64>,
+}
+
+impl Ranged for Coord {
+    type ValueType = f64;
+    type FormatOption = DefaultFormatting;
+
+    fn map(&self, value: &f64, limit: (i32, i32)) -> i32 {
+        self.inner.map(value, limit)
+    }
+
+    fn key_points<Hint: KeyPointHint>(&self, hint: Hint) -> Vec<f64> {
+        if hint.weight().allow_light_points() {
+            self.light.clone()
+        } else {
+            self.ticks.clone()
+        }
+    }
+
+    fn range(&self) -> std::ops::Range<f64> {
+        self.inner.range()
+    }
+}
+
+/// At most this many tick labels on the y axis.
+const TICKS: usize = 8;
+/// At most this many tick labels on the x axis (it is the longer).
+const TICKS_X: usize = 10;
+/// Room beyond the outermost ticks, as a share of their span.
+const MARGIN: f64 = 0.03;
+
+/// An axis: its range, the values of its tick labels and of its light grid lines.
+#[derive(Debug, Clone, PartialEq)]
+struct Axis {
+    lo: f64,
+    hi: f64,
+    ticks: Vec<f64>,
+    light: Vec<f64>,
+}
+
+impl Axis {
+    fn coord(&self) -> Coord {
+        Coord {
+            inner: (self.lo..self.hi).into(),
+            ticks: self.ticks.clone(),
+            light: self.light.clone(),
+        }
+    }
+}
+
+/// Round ticks over a range: a step of 1, 2 or 5 × 10^k giving at most `max` ticks, from the
+/// last tick at or below `lo` to the first at or above `hi`, so that the outermost tick labels
+/// enclose every value drawn. The axis runs a little (`MARGIN` of the ticks' span) beyond the
+/// outermost ticks, so that markers on them are not cut by the frame.
+fn axis((lo, hi): (f64, f64), max: usize) -> Option<Axis> {
+    if !(lo.is_finite() && hi.is_finite() && hi > lo) || max < 2 {
+        return None;
+    }
+    let raw = (hi - lo) / (max - 1) as f64;
+    let mag0 = 10f64.powf(raw.log10().floor());
+    for mag in [mag0, 10.0 * mag0, 100.0 * mag0] {
+        for (m, sub) in [(1.0, 5), (2.0, 4), (5.0, 5)] {
+            let step = m * mag;
+            let (k0, k1) = ((lo / step).floor(), (hi / step).ceil());
+            if !(step > 0.0 && k0.is_finite() && k1.is_finite()) || k1 - k0 + 1.0 > max as f64 {
+                continue;
+            }
+            let ticks: Vec<f64> = (0..=(k1 - k0) as usize)
+                .map(|i| (k0 + i as f64) * step)
+                .collect();
+            let light = (0..(k1 - k0) as usize)
+                .flat_map(|i| (1..sub).map(move |j| (k0 + i as f64 + j as f64 / sub as f64) * step))
+                .collect();
+            let margin = MARGIN * (k1 - k0) * step;
+            let (a, b) = (k0 * step - margin, k1 * step + margin);
+            return (a.is_finite() && b.is_finite() && b > a).then_some(Axis {
+                lo: a,
+                hi: b,
+                ticks,
+                light,
+            });
+        }
+    }
+    None
+}
 
 fn err<E: std::fmt::Display>(e: E) -> String {
     e.to_string()
 }
 
-/// A padded axis range covering `values`, never empty or degenerate.
+/// The range of `values`, widened only when it is a single value: never empty or degenerate.
+/// [`axis`] extends it to round ticks.
 fn range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
     let (lo, hi) = values
         .filter(|v| v.is_finite())
@@ -256,7 +349,7 @@ fn range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
     }
     let span = hi - lo;
     let pad = if span > 0.0 {
-        0.06 * span
+        0.0
     } else if lo != 0.0 {
         0.05 * lo.abs()
     } else {
@@ -494,7 +587,7 @@ fn draw_sample(
 }
 
 fn draw_legend(area: &DrawingArea<SVGBackend<'_>, Shift>, s: &Scene) -> Result<(), String> {
-    let label = TextStyle::from((FONT, 13).into_font())
+    let label = TextStyle::from((FONT, 14).into_font())
         .color(&INK)
         .pos(Pos::new(HPos::Left, VPos::Center));
     let note = TextStyle::from((FONT, 12).into_font())
@@ -541,7 +634,7 @@ enum Part {
 }
 
 /// Draws one part of a scene into its own SVG document.
-fn draw_part(s: &Scene, x: (f64, f64), y: (f64, f64), part: Part) -> Result<String, String> {
+fn draw_part(s: &Scene, x: &Axis, y: &Axis, part: Part) -> Result<String, String> {
     let mut buf = String::new();
     {
         let root = SVGBackend::with_string(&mut buf, (WIDTH, HEIGHT)).into_drawing_area();
@@ -553,7 +646,7 @@ fn draw_part(s: &Scene, x: (f64, f64), y: (f64, f64), part: Part) -> Result<Stri
             .margin_bottom(12)
             .x_label_area_size(54)
             .y_label_area_size(86)
-            .build_cartesian_2d(x.0..x.1, y.0..y.1)
+            .build_cartesian_2d(x.coord(), y.coord())
             .map_err(err)?;
         match part {
             Part::Frame => {
@@ -574,20 +667,17 @@ fn draw_part(s: &Scene, x: (f64, f64), y: (f64, f64), part: Part) -> Result<Stri
                     ))
                     .map_err(err)?;
                 }
-                let (zx, zy) = ((x.1 - x.0) * 1e-9, (y.1 - y.0) * 1e-9);
+                let (zx, zy) = ((x.hi - x.lo) * 1e-9, (y.hi - y.lo) * 1e-9);
                 let fx = move |v: &f64| tick(*v, zx);
                 let fy = move |v: &f64| tick(*v, zy);
                 chart
                     .configure_mesh()
                     .x_desc(s.x_desc.clone())
                     .y_desc(s.y_desc.clone())
-                    .x_labels(8)
-                    .y_labels(8)
-                    .max_light_lines(3)
                     .light_line_style(GRID_LIGHT)
                     .bold_line_style(GRID_BOLD)
                     .axis_style(INK)
-                    .label_style((FONT, 12))
+                    .label_style((FONT, 14))
                     .axis_desc_style((FONT, 14))
                     .x_label_formatter(&fx)
                     .y_label_formatter(&fy)
@@ -619,6 +709,7 @@ fn split_svg(doc: &str) -> Option<(&str, &str)> {
 /// Draws a scene as one SVG document, or `None` when there is nothing finite to draw.
 pub fn render(s: &Scene) -> Option<String> {
     let (x, y) = scene_ranges(s)?;
+    let (x, y) = (&axis(x, TICKS_X)?, &axis(y, TICKS)?);
     let frame = draw_part(s, x, y, Part::Frame).ok()?;
     let (open, inner) = split_svg(&frame)?;
     let mut out = format!("{open}\n<title>{}</title>\n", escape_xml(&s.title));
@@ -667,6 +758,27 @@ fn quantity_meshes<'a>(a: &'a Assessment, q: &QuantityResult) -> Option<Vec<&'a 
         .iter()
         .map(|n| a.meshes.iter().find(|m| &m.name == n))
         .collect()
+}
+
+/// The axis label of a sweep's breakdown or reference estimate (its "unit" is the abscissa's
+/// name, not a unit); `None` for any other quantity.
+fn quantity_label(a: &Assessment, q: &QuantityResult) -> Option<String> {
+    a.sweeps.iter().find_map(|s| {
+        s.breakdown.iter().find_map(|b| {
+            if b.x_estimate.name == q.name {
+                Some(format!(
+                    "breakdown {} of {} ({}_b)",
+                    s.x,
+                    b.response,
+                    symbol(&s.x)
+                ))
+            } else if b.reference_estimate.name == q.name {
+                Some(format!("reference {}", axis_name(&b.response)))
+            } else {
+                None
+            }
+        })
+    })
 }
 
 /// A fitted curve to draw, with the extrapolated value it reaches at h = 0.
@@ -850,7 +962,7 @@ pub fn convergence_scene(a: &Assessment, q: &QuantityResult) -> Option<Scene> {
             format!("abscissa (h/h1)^p with {p_note}; h1 is the finest mesh"),
         ],
         x_desc: "(h/h1)^p, relative to the finest mesh".into(),
-        y_desc: format!("{}{unit}", q.name),
+        y_desc: quantity_label(a, q).unwrap_or_else(|| format!("{}{unit}", q.name)),
         include_x: vec![0.0, 1.0],
         layers,
         legend,
@@ -1211,6 +1323,26 @@ mod tests {
         assert_eq!(range([0.0].into_iter()), Some((-1.0, 1.0)));
         assert_eq!(range([f64::NAN].into_iter()), None);
         assert_eq!(range(std::iter::empty()), None);
+    }
+
+    #[test]
+    fn ticks_enclose_the_range_and_are_round() {
+        let a = axis((0.124, 0.4), TICKS).unwrap();
+        let labels: Vec<String> = a.ticks.iter().map(|t| tick(*t, 1e-12)).collect();
+        assert_eq!(labels, ["0.1", "0.15", "0.2", "0.25", "0.3", "0.35", "0.4"]);
+        approx::assert_relative_eq!(a.lo, 0.1 - 0.03 * 0.3, max_relative = 1e-12);
+        approx::assert_relative_eq!(a.hi, 0.4 + 0.03 * 0.3, max_relative = 1e-12);
+        let a = axis((0.0, 3.0), TICKS).unwrap();
+        assert_eq!(a.ticks.len(), 7, "steps of 0.5 from 0 to 3");
+        let a = axis((0.8205, 0.9152), TICKS).unwrap();
+        assert!(a.ticks[0] <= 0.8205 && a.ticks[a.ticks.len() - 1] >= 0.9152);
+        assert!(a.ticks.len() <= TICKS && a.ticks.len() >= 3);
+        let labels: Vec<String> = a.ticks.iter().map(|t| tick(*t, 1e-12)).collect();
+        assert_eq!(labels, ["0.82", "0.84", "0.86", "0.88", "0.9", "0.92"]);
+        let a = axis((-1.0, 1e300), TICKS).unwrap();
+        assert!(a.ticks.len() <= TICKS);
+        assert!(axis((1.0, 1.0), TICKS).is_none());
+        assert!(axis((f64::NAN, 1.0), TICKS).is_none());
     }
 
     #[test]

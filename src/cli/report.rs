@@ -1,0 +1,341 @@
+//! `meshbound report STUDY --out DIR`: the whole report as a folder — `report.md` with the
+//! figures linked, one SVG file per figure, and `report.html` with the figures inline.
+//!
+//! The folder appears whole or not at all: everything is written into a temporary folder
+//! beside DIR (same parent, so the last step is a rename on one file system), which is then
+//! renamed to DIR. An existing DIR is refused unless `--replace` is given; then the old folder
+//! is renamed aside, the new one renamed in, and only then the old one deleted (it is put back
+//! when the new one cannot be renamed in).
+
+use super::Failure;
+use crate::assess::Assessment;
+use crate::report::markup::Figure;
+use crate::report::{html, markdown, plot};
+use std::collections::HashSet;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+/// Options of `report`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The study file (YAML).
+    pub study: PathBuf,
+    /// The folder to create (it must not exist, unless --replace is given).
+    #[arg(long, short = 'o', value_name = "DIR")]
+    pub out: PathBuf,
+    /// Replace DIR when it exists (the old folder is deleted only once the new one is in place).
+    #[arg(long)]
+    pub replace: bool,
+}
+
+/// The Markdown report's file name.
+pub const MARKDOWN: &str = "report.md";
+/// The HTML page's file name.
+pub const HTML: &str = "report.html";
+
+/// A file-name part made of `name`: ASCII letters, digits, `.`, `_` and `-` are kept, every
+/// other run of characters becomes one `-`; never empty, never starting with a dot.
+pub fn file_part(name: &str) -> String {
+    let mut out = String::with_capacity(name.len());
+    for c in name.chars() {
+        if c.is_ascii_alphanumeric() || matches!(c, '.' | '_' | '-') {
+            out.push(c);
+        } else if !out.ends_with('-') {
+            out.push('-');
+        }
+    }
+    let trimmed = out.trim_matches(|c| c == '-' || c == '.');
+    if trimmed.is_empty() {
+        "unnamed".to_string()
+    } else {
+        trimmed.to_string()
+    }
+}
+
+/// `stem.svg`, or `stem-2.svg`, `stem-3.svg`, … when that name is taken (compared without
+/// case, for file systems that ignore it).
+fn unique(stem: String, taken: &mut HashSet<String>) -> String {
+    let mut name = format!("{stem}.svg");
+    let mut k = 2;
+    while !taken.insert(name.to_ascii_lowercase()) {
+        name = format!("{stem}-{k}.svg");
+        k += 1;
+    }
+    name
+}
+
+/// The figures of the report with their file names: a convergence plot per quantity with an
+/// estimate (the scalar quantities, then each sweep's breakdown and reference estimates after
+/// that sweep's plot), and one plot per sweep.
+pub fn figures(a: &Assessment) -> Vec<Figure> {
+    let mut taken: HashSet<String> = [MARKDOWN, HTML].iter().map(|s| s.to_string()).collect();
+    let mut out = Vec::new();
+    let convergence = |q: &crate::assess::QuantityResult,
+                       title: String,
+                       taken: &mut HashSet<String>,
+                       out: &mut Vec<Figure>| {
+        if q.three_grid.is_none() && q.least_squares.is_none() {
+            return;
+        }
+        if let Some(svg) = plot::convergence_plot(a, q) {
+            out.push(Figure {
+                title,
+                svg,
+                file: Some(unique(format!("convergence-{}", file_part(&q.name)), taken)),
+            });
+        }
+    };
+    for q in &a.quantities {
+        convergence(
+            q,
+            format!("Convergence of {}", q.name),
+            &mut taken,
+            &mut out,
+        );
+    }
+    for s in &a.sweeps {
+        if let Some(svg) = plot::sweep_plot(a, s, &[]) {
+            out.push(Figure {
+                title: format!("Sweep {} along {}", s.name, s.x),
+                svg,
+                file: Some(unique(format!("sweep-{}", file_part(&s.name)), &mut taken)),
+            });
+        }
+        for b in &s.breakdown {
+            let title = format!(
+                "Convergence of the breakdown {} of {} (sweep {})",
+                s.x, b.response, s.name
+            );
+            convergence(&b.x_estimate, title, &mut taken, &mut out);
+            let title = format!(
+                "Convergence of the reference {} (sweep {})",
+                b.response, s.name
+            );
+            convergence(&b.reference_estimate, title, &mut taken, &mut out);
+        }
+    }
+    out
+}
+
+/// Every file of the report folder, name and bytes: `report.md`, the SVG files, `report.html`.
+pub fn files(a: &Assessment) -> Vec<(String, Vec<u8>)> {
+    let figs = figures(a);
+    let mut out = vec![(
+        MARKDOWN.to_string(),
+        markdown::markdown_page(a, &figs).into_bytes(),
+    )];
+    for f in &figs {
+        if let Some(name) = &f.file {
+            out.push((name.clone(), f.svg.clone().into_bytes()));
+        }
+    }
+    out.push((HTML.to_string(), html::html_page(a, &figs).into_bytes()));
+    out
+}
+
+fn output(what: &str, path: &Path, e: std::io::Error) -> Failure {
+    Failure::Output(format!("{what} {}: {e}", path.display()))
+}
+
+fn write_file(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    let mut f = std::fs::File::create(path)?;
+    f.write_all(bytes)?;
+    f.sync_all()
+}
+
+/// A name beside `dir` that nothing has yet, to move an old folder to.
+fn aside(parent: &Path, name: &str) -> Result<PathBuf, Failure> {
+    let pid = std::process::id();
+    for k in 0..1000 {
+        let p = parent.join(format!(".{name}.meshbound-old-{pid}-{k}"));
+        match std::fs::symlink_metadata(&p) {
+            Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(p),
+            Err(e) => return Err(output("cannot look at", &p, e)),
+            Ok(_) => continue,
+        }
+    }
+    Err(Failure::Output(format!(
+        "no free name beside {} to move the old report to",
+        parent.join(name).display()
+    )))
+}
+
+/// Writes `files` as the folder `dir`, whole or not at all (see the module notes). Returns the
+/// path of an old folder that was replaced but could not be deleted, if any.
+pub fn install(
+    files: &[(String, Vec<u8>)],
+    dir: &Path,
+    replace: bool,
+) -> Result<Option<PathBuf>, Failure> {
+    let name = match dir.file_name() {
+        Some(n) => n.to_string_lossy().into_owned(),
+        None => {
+            return Err(Failure::Input(format!(
+                "--out {}: give the path of a folder to create (with a name, not `.` or `..`)",
+                dir.display()
+            )))
+        }
+    };
+    let parent = match dir.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    };
+    let exists = match std::fs::symlink_metadata(dir) {
+        Ok(m) => {
+            if !replace {
+                return Err(Failure::Input(format!(
+                    "{} exists: give --replace to replace it, or choose another --out",
+                    dir.display()
+                )));
+            }
+            if !m.is_dir() {
+                return Err(Failure::Input(format!(
+                    "{} exists and is not a folder: it is not replaced",
+                    dir.display()
+                )));
+            }
+            true
+        }
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => false,
+        Err(e) => return Err(output("cannot look at", dir, e)),
+    };
+    // Dropping `tmp` on any early return deletes it with everything written so far.
+    let tmp = tempfile::Builder::new()
+        .prefix(&format!(".{name}.meshbound-"))
+        .tempdir_in(parent)
+        .map_err(|e| output("cannot create a temporary folder in", parent, e))?;
+    for (file, bytes) in files {
+        let p = tmp.path().join(file);
+        write_file(&p, bytes).map_err(|e| output("cannot write", &p, e))?;
+    }
+    if !exists {
+        std::fs::rename(tmp.path(), dir).map_err(|e| output("cannot create", dir, e))?;
+        let _ = tmp.keep();
+        return Ok(None);
+    }
+    let old = aside(parent, &name)?;
+    std::fs::rename(dir, &old).map_err(|e| output("cannot move aside", dir, e))?;
+    if let Err(e) = std::fs::rename(tmp.path(), dir) {
+        // Put the old report back; the new one is deleted with `tmp`.
+        let back = std::fs::rename(&old, dir);
+        return Err(Failure::Output(match back {
+            Ok(()) => format!(
+                "cannot create {}: {e}; the old report is kept",
+                dir.display()
+            ),
+            Err(b) => format!(
+                "cannot create {}: {e}; the old report is in {} (moving it back failed: {b})",
+                dir.display(),
+                old.display()
+            ),
+        }));
+    }
+    let _ = tmp.keep();
+    Ok(match std::fs::remove_dir_all(&old) {
+        Ok(()) => None,
+        Err(_) => Some(old),
+    })
+}
+
+/// Runs `report`.
+pub fn run(args: Args) -> Result<(), Failure> {
+    let a = super::assess::assess_one(&args.study).map_err(Failure::Input)?;
+    let files = files(&a);
+    if let Some(old) = install(&files, &args.out, args.replace)? {
+        eprintln!(
+            "warning: the replaced report was moved to {} and could not be deleted",
+            old.display()
+        );
+    }
+    println!("wrote {} files to {}", files.len(), args.out.display());
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::markup::fixture;
+
+    #[test]
+    fn file_parts_are_safe() {
+        assert_eq!(file_part("efficiency"), "efficiency");
+        assert_eq!(file_part("cav.breakdown.head"), "cav.breakdown.head");
+        assert_eq!(file_part("../etc/passwd"), "etc-passwd");
+        assert_eq!(file_part("η (total)"), "total");
+        assert_eq!(file_part("σ"), "unnamed");
+        assert_eq!(file_part("a  b//c"), "a-b-c");
+        let mut taken = HashSet::new();
+        assert_eq!(unique("x".into(), &mut taken), "x.svg");
+        assert_eq!(unique("X".into(), &mut taken), "X-2.svg");
+        assert_eq!(unique("x".into(), &mut taken), "x-3.svg");
+    }
+
+    #[test]
+    fn every_figure_has_its_own_file_and_the_pages_carry_them() {
+        let a = fixture::assess(fixture::DEMO);
+        let files = files(&a);
+        let names: Vec<&str> = files.iter().map(|(n, _)| n.as_str()).collect();
+        assert_eq!(
+            names,
+            [
+                "report.md",
+                "convergence-efficiency.svg",
+                "convergence-torque.svg",
+                "sweep-cav.svg",
+                "convergence-cav.breakdown.efficiency.svg",
+                "convergence-cav.reference.efficiency.svg",
+                "report.html",
+            ]
+        );
+        let md = String::from_utf8(files[0].1.clone()).unwrap();
+        let page = String::from_utf8(files[files.len() - 1].1.clone()).unwrap();
+        for (n, svg) in &files[1..files.len() - 1] {
+            assert!(md.contains(&format!("]({n})")), "{n} linked");
+            let svg = String::from_utf8(svg.clone()).unwrap();
+            let body = &svg[svg.find('>').unwrap() + 1..];
+            assert!(page.contains(body.trim_end()), "{n} inline");
+        }
+        assert!(!md.contains("<svg"));
+    }
+
+    #[test]
+    fn a_failed_write_leaves_nothing_behind() {
+        let parent = tempfile::tempdir().unwrap();
+        let dir = parent.path().join("out");
+        // The second file cannot be written (its folder does not exist inside the temporary
+        // folder): the first is already written by then.
+        let files = vec![
+            ("a.svg".to_string(), b"<svg/>".to_vec()),
+            ("missing/b.svg".to_string(), b"<svg/>".to_vec()),
+        ];
+        assert!(matches!(
+            install(&files, &dir, false),
+            Err(Failure::Output(_))
+        ));
+        assert_eq!(std::fs::read_dir(parent.path()).unwrap().count(), 0);
+        // Replacing: the old folder stays as it was.
+        std::fs::create_dir(&dir).unwrap();
+        std::fs::write(dir.join("old.md"), "old").unwrap();
+        assert!(matches!(
+            install(&files, &dir, true),
+            Err(Failure::Output(_))
+        ));
+        let left: Vec<_> = std::fs::read_dir(parent.path()).unwrap().collect();
+        assert_eq!(left.len(), 1);
+        assert_eq!(std::fs::read_to_string(dir.join("old.md")).unwrap(), "old");
+        // And a good set replaces it whole.
+        let good = vec![("a.svg".to_string(), b"<svg/>".to_vec())];
+        assert_eq!(install(&good, &dir, true).unwrap(), None);
+        assert!(!dir.join("old.md").exists());
+        assert!(dir.join("a.svg").exists());
+        assert_eq!(std::fs::read_dir(parent.path()).unwrap().count(), 1);
+        assert!(matches!(
+            install(&good, &dir, false),
+            Err(Failure::Input(_))
+        ));
+        assert!(matches!(
+            install(&good, Path::new("."), true),
+            Err(Failure::Input(_))
+        ));
+    }
+}

@@ -1,0 +1,464 @@
+//! A drafted uncertainty paragraph: the assessment in running text that a CFD engineer can
+//! adapt for a report or a paper.
+//!
+//! It names the method that governed (three-mesh Richardson extrapolation with the grid
+//! convergence index after Celik et al. 2008, the least-squares procedure of Eça & Hoekstra
+//! 2014, half the range of an oscillation after Stern et al. 2001), the meshes (count, cell
+//! counts or sizes, refinement ratios), and for every quantity — and every sweep breakdown and
+//! its reference — the observed order, the safety factor, the value ± U with U relative to the
+//! value, and the convergence class. A quantity without an uncertainty is stated as such: no
+//! discretisation uncertainty can be claimed for it.
+//!
+//! Every figure is one the [`Assessment`] holds, rounded for display by [`super::format`];
+//! nothing is computed here beyond formatting.
+
+use super::format::{num, percent, sig, with_uncertainty};
+use super::table::{breakdown_rule, symbol};
+use crate::assess::sweep::SweepResult;
+use crate::assess::{Assessment, Method, QuantityResult};
+use crate::estimate::least_squares::FitKind;
+use crate::estimate::three_grid::Governing;
+use crate::estimate::Convergence;
+
+/// The drafted uncertainty paragraph of an assessment: sentences separated by single spaces,
+/// no line breaks, no markup.
+pub fn uncertainty_paragraph(a: &Assessment) -> String {
+    let mut s = vec![method_sentence(a)];
+    s.extend(meshes_sentence(a));
+    for q in &a.quantities {
+        let (value, tail) = figure(q, unit_suffix(q.unit.as_deref()));
+        s.push(format!(
+            "On the finest mesh, {} is {value}, {tail}.",
+            q.name
+        ));
+    }
+    for sw in &a.sweeps {
+        s.extend(sweep_sentences(a, sw));
+    }
+    s.join(" ")
+}
+
+/// Every estimated quantity: the scalar quantities, then each sweep's breakdowns and references.
+fn all_quantities(a: &Assessment) -> impl Iterator<Item = &QuantityResult> {
+    a.quantities.iter().chain(
+        a.sweeps
+            .iter()
+            .flat_map(|s| &s.breakdown)
+            .flat_map(|b| [&b.x_estimate, &b.reference_estimate]),
+    )
+}
+
+fn method_sentence(a: &Assessment) -> String {
+    let governs =
+        |m: Method| all_quantities(a).any(|q| q.uncertainty.as_ref().map(|u| u.method) == Some(m));
+    let (tg, ls, osc) = (
+        governs(Method::ThreeGrid),
+        governs(Method::LeastSquares),
+        governs(Method::OscillationRange),
+    );
+    let three = if a.meshes.len() == 3 {
+        "the three meshes"
+    } else {
+        "the three finest meshes"
+    };
+    let gci = format!(
+        "Richardson extrapolation with the grid convergence index (GCI) on {three}, following Celik et al. (2008)"
+    );
+    let lsq = "the least-squares procedure of Eça and Hoekstra (2014) over all the meshes";
+    let tried_ls = all_quantities(a).any(|q| q.least_squares.is_some());
+    let how = match (tg, ls) {
+        (true, true) => format!("{gci} and, where stated, by {lsq}"),
+        (false, true) => lsq.to_string(),
+        (false, false) if !osc && tried_ls => format!("{gci} and by {lsq}"),
+        _ => gci,
+    };
+    let mut out = format!("The discretisation uncertainty was estimated by {how}.");
+    if osc {
+        out.push_str(
+            " Where the solutions oscillate, U is half the range of the solutions, after Stern et al. (2001).",
+        );
+    }
+    out
+}
+
+/// A count in words at the start of a sentence.
+fn count_word(n: usize) -> String {
+    const WORDS: [&str; 11] = [
+        "No", "One", "Two", "Three", "Four", "Five", "Six", "Seven", "Eight", "Nine", "Ten",
+    ];
+    WORDS
+        .get(n)
+        .map_or_else(|| n.to_string(), |w| w.to_string())
+}
+
+/// `a`, `a and b`, `a, b and c`.
+fn and_list(items: &[String]) -> String {
+    match items {
+        [] => String::new(),
+        [one] => one.clone(),
+        [init @ .., last] => format!("{} and {last}", init.join(", ")),
+    }
+}
+
+/// The name of the refinement ratio between mesh `i + 1` and mesh `i` (1-based, finest first):
+/// r21, r32, … (with a comma once a number has two digits).
+fn ratio_name(coarser: usize) -> String {
+    let finer = coarser - 1;
+    if coarser > 9 {
+        format!("r{coarser},{finer}")
+    } else {
+        format!("r{coarser}{finer}")
+    }
+}
+
+fn meshes_sentence(a: &Assessment) -> Option<String> {
+    if a.meshes.is_empty() {
+        return None;
+    }
+    let names: Vec<String> = a.meshes.iter().map(|m| m.name.clone()).collect();
+    let cells: Option<Vec<String>> = a
+        .meshes
+        .iter()
+        .map(|m| m.cells.map(|c| num(c, 8)))
+        .collect();
+    let sizes = match cells {
+        Some(c) => format!("with {} cells", and_list(&c)),
+        None => {
+            let h: Vec<String> = a.meshes.iter().map(|m| num(m.size, 5)).collect();
+            format!("with representative sizes h = {}", and_list(&h))
+        }
+    };
+    let ratios: Vec<String> = a
+        .meshes
+        .iter()
+        .enumerate()
+        .filter_map(|(i, m)| {
+            m.ratio
+                .map(|r| format!("{} = {}", ratio_name(i + 1), sig(r, 4)))
+        })
+        .collect();
+    let ratios = match ratios.len() {
+        0 => String::new(),
+        1 => format!(", refinement ratio {}", ratios[0]),
+        _ => format!(", refinement ratios {}", and_list(&ratios)),
+    };
+    let (were, meshes) = if a.meshes.len() == 1 {
+        ("was", "mesh")
+    } else {
+        ("were", "meshes")
+    };
+    Some(format!(
+        "{} {meshes} {were} used, finest first {} {sizes}{ratios}.",
+        count_word(a.meshes.len()),
+        and_list(&names)
+    ))
+}
+
+/// ` m` after a figure, nothing for a dimensionless quantity (`-` or no unit).
+fn unit_suffix(unit: Option<&str>) -> String {
+    match unit.map(str::trim) {
+        None | Some("" | "-" | "1") => String::new(),
+        Some(u) => format!(" {u}"),
+    }
+}
+
+fn class_phrase(c: Convergence) -> &'static str {
+    match c {
+        Convergence::Monotonic => "monotonic convergence",
+        Convergence::Oscillatory => "oscillatory convergence",
+        Convergence::Divergent => "divergence",
+        Convergence::NoChange => "no change between the meshes",
+    }
+}
+
+fn fit_phrase(kind: FitKind) -> &'static str {
+    match kind {
+        FitKind::Free => "free-order",
+        FitKind::First => "first-order",
+        FitKind::Second => "second-order",
+        FitKind::FirstSecond => "first-and-second-order",
+    }
+}
+
+/// What the uncertainty rests on, as a clause beginning with "with".
+fn basis(q: &QuantityResult, method: Method) -> String {
+    let class = q.convergence.map_or("no convergence class", class_phrase);
+    match method {
+        Method::OscillationRange => {
+            format!("with {class}, U being half the range of the solutions")
+        }
+        Method::LeastSquares => match &q.least_squares {
+            Some(ls) => {
+                let fit = format!(
+                    "the {} {} least-squares fit",
+                    if ls.selected.weighted {
+                        "weighted"
+                    } else {
+                        "unweighted"
+                    },
+                    fit_phrase(ls.selected.kind)
+                );
+                let fs = num(ls.safety_factor, 3);
+                let bound = if ls.order_at_bound {
+                    "at an end of the searched range; "
+                } else {
+                    ""
+                };
+                match ls.order {
+                    Some(p) => format!(
+                        "with observed order p = {} ({bound}{fit} selected), safety factor Fs = {fs} and {class}",
+                        sig(p, 4)
+                    ),
+                    None => format!("with {fit}, safety factor Fs = {fs} and {class}"),
+                }
+            }
+            None => format!("with {class}"),
+        },
+        Method::ThreeGrid => match &q.three_grid {
+            Some(tg) => {
+                let e = &tg.estimate;
+                let fs = num(e.safety_factor, 3);
+                match (e.governing, e.observed_order) {
+                    (Some(Governing::NoChange), _) => format!("with {}", class_phrase(Convergence::NoChange)),
+                    (Some(Governing::FormalOrder), _) | (_, None) => format!(
+                        "with {class} but no observed order, so the formal order and safety factor Fs = {fs} were used"
+                    ),
+                    (_, Some(p)) => format!(
+                        "with observed order p = {}, safety factor Fs = {fs} and {class}",
+                        sig(p, 4)
+                    ),
+                }
+            }
+            None => format!("with {class}"),
+        },
+    }
+}
+
+/// The figure of a quantity (`value ± U unit (relative)`, or the finest value alone) and the
+/// clause that follows it.
+fn figure(q: &QuantityResult, unit: String) -> (String, String) {
+    match &q.uncertainty {
+        Some(u) => {
+            let (v, a) = with_uncertainty(u.value, u.absolute);
+            let rel = u
+                .relative
+                .map_or_else(|| "the value is zero".to_string(), percent);
+            (format!("{v} ± {a}{unit} ({rel})"), basis(q, u.method))
+        }
+        None => {
+            let value = q.values.first().map_or_else(
+                || "not given".to_string(),
+                |v| format!("{}{unit}", num(*v, 8)),
+            );
+            let why = match q.convergence {
+                Some(Convergence::Divergent) => "the solutions diverge with refinement",
+                None => "no estimate could be made",
+                Some(_) => "no uncertainty could be formed",
+            };
+            (
+                value,
+                format!("but {why}: no discretisation uncertainty can be claimed"),
+            )
+        }
+    }
+}
+
+fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
+    let mut out = Vec::new();
+    let study_meshes: Vec<&str> = a.meshes.iter().map(|m| m.name.as_str()).collect();
+    let sweep_meshes: Vec<&str> = s.meshes.iter().map(String::as_str).collect();
+    let on = if sweep_meshes == study_meshes {
+        String::new()
+    } else {
+        format!(" (meshes {})", and_list(&s.meshes))
+    };
+    let x = symbol(&s.x);
+    for b in &s.breakdown {
+        let (xv, xt) = figure(&b.x_estimate, String::new());
+        let (rv, rt) = figure(&b.reference_estimate, String::new());
+        out.push(format!(
+            "In sweep {}{on}, the breakdown for a {} lies at {x}_b = {xv}, {xt}; its reference {} is {rv}, {rt}.",
+            s.name,
+            breakdown_rule(b, &s.x),
+            symbol(&b.response),
+        ));
+    }
+    if let Some(band) = &s.band {
+        let sm = &band.summary;
+        let spread = match (sm.mean_relative, sm.max_relative) {
+            (Some(mean), Some(max)) => {
+                let at = sm
+                    .max_relative_at
+                    .map_or(String::new(), |v| format!(" at {x} = {}", num(v, 6)));
+                format!(
+                    "a relative U of {} on average and at most {}{at}",
+                    percent(mean),
+                    percent(max)
+                )
+            }
+            _ => "no relative U".to_string(),
+        };
+        out.push(format!(
+            "Along sweep {}{on}, the band of {} over {} points has {spread}; {} of the points converge monotonically, {} oscillate and {} diverge.",
+            s.name,
+            band.response,
+            sm.points,
+            percent(sm.share_monotonic),
+            percent(sm.share_oscillatory),
+            percent(sm.share_divergent),
+        ));
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::markup::fixture;
+
+    /// Manufactured data (analytic, no source needed beyond the algebra): drag = 10 + 0.1 h² on
+    /// h = 1, 2, 4, so r = 2, p = 2 exactly, ε21 = 0.3 and the three-mesh U = Fs |ε21| /
+    /// (r^p − 1) = 1.25 · 0.3 / 3 = 0.125 (Celik et al. 2008, eqs. 3 and 7 in absolute form),
+    /// 1.24 % of 10.1. lift = 10.1, 10.0, 10.05: |ε21| = 0.1 > |ε32| = 0.05, so the
+    /// differences grow with refinement — divergent by the classes of Stern et al. (2001).
+    const MANUFACTURED: &str = "format: 1
+title: manufactured
+meshes:
+  - {name: h1, size: 1.0}
+  - {name: h2, size: 2.0}
+  - {name: h4, size: 4.0}
+quantities:
+  drag:
+    unit: N
+    values: {h1: 10.1, h2: 10.4, h4: 11.6}
+  lift:
+    unit: N
+    values: {h1: 10.1, h2: 10.0, h4: 10.05}
+";
+
+    #[test]
+    fn exact_paragraph_of_a_manufactured_study() {
+        let a = fixture::assess(MANUFACTURED);
+        assert_eq!(
+            uncertainty_paragraph(&a),
+            "The discretisation uncertainty was estimated by Richardson extrapolation with the \
+grid convergence index (GCI) on the three meshes, following Celik et al. (2008). \
+Three meshes were used, finest first h1, h2 and h4 with representative sizes h = 1, 2 and 4, \
+refinement ratios r21 = 2.000 and r32 = 2.000. \
+On the finest mesh, drag is 10.100 ± 0.125 N (1.24 %), with observed order p = 2.000, \
+safety factor Fs = 1.25 and monotonic convergence. \
+On the finest mesh, lift is 10.1 N, but the solutions diverge with refinement: no \
+discretisation uncertainty can be claimed."
+        );
+    }
+
+    #[test]
+    fn oscillation_is_named_after_stern() {
+        // φ = 1.0, 0.99, 1.02 on h = 1, 1.5, 2.25: oscillatory, half range 0.015 above the GCI
+        // (the three-mesh unit test's analytic case; Stern et al. 2001 for the half range).
+        let text = "format: 1
+title: oscillating
+meshes:
+  - {name: F, size: 1.0}
+  - {name: M, size: 1.5}
+  - {name: C, size: 2.25}
+quantities:
+  lift:
+    values: {F: 1.0, M: 0.99, C: 1.02}
+";
+        let p = uncertainty_paragraph(&fixture::assess(text));
+        assert!(
+            p.contains(" Where the solutions oscillate, U is half the range of the solutions, after Stern et al. (2001). "),
+            "{p}"
+        );
+        assert!(
+            p.ends_with("On the finest mesh, lift is 1.0000 ± 0.0150 (1.50 %), with oscillatory convergence, U being half the range of the solutions."),
+            "{p}"
+        );
+    }
+
+    #[test]
+    fn sweep_breakdowns_and_band_are_stated_with_the_assessments_figures() {
+        let a = fixture::assess(fixture::DEMO);
+        let p = uncertainty_paragraph(&a);
+        let s = &a.sweeps[0];
+        let b = &s.breakdown[0];
+        let stmt = |q: &QuantityResult| {
+            let u = q
+                .uncertainty
+                .as_ref()
+                .expect("the demo breakdown converges");
+            let tg = &q.three_grid.as_ref().expect("three meshes").estimate;
+            let (v, au) = with_uncertainty(u.value, u.absolute);
+            format!(
+                "{v} ± {au} ({}), with observed order p = {}, safety factor Fs = 1.25 and monotonic convergence",
+                percent(u.relative.expect("nonzero")),
+                sig(tg.observed_order.expect("an order"), 4)
+            )
+        };
+        let want = format!(
+            "In sweep cav, the breakdown for a 1.00 % drop of efficiency below the plateau mean (σ ≥ 0.3) lies at σ_b = {}; its reference η is {}.",
+            stmt(&b.x_estimate),
+            stmt(&b.reference_estimate)
+        );
+        assert!(p.contains(&want), "{want}\n{p}");
+        let sm = &s.band.as_ref().expect("a band").summary;
+        let want = format!(
+            "Along sweep cav, the band of efficiency over {} points has a relative U of {} on average and at most {} at σ = ",
+            sm.points,
+            percent(sm.mean_relative.expect("a mean")),
+            percent(sm.max_relative.expect("a max"))
+        );
+        assert!(p.contains(&want), "{want}\n{p}");
+        assert!(p.contains(
+            "On the finest mesh, torque is 101 N m, but the solutions diverge with refinement: no discretisation uncertainty can be claimed."
+        ));
+        assert!(!p.contains('\n'));
+        for s in p.replace("et al.", "et al").split(". ") {
+            assert!(s.starts_with(char::is_uppercase), "{s}");
+        }
+    }
+
+    #[test]
+    fn least_squares_governs_with_five_meshes() {
+        let a = fixture::assess(fixture::FIVE);
+        let p = uncertainty_paragraph(&a);
+        let q = &a.quantities[0];
+        let ls = q.least_squares.as_ref().expect("five meshes");
+        let u = q.uncertainty.as_ref().expect("an uncertainty");
+        assert_eq!(u.method, Method::LeastSquares);
+        assert!(p.starts_with(
+            "The discretisation uncertainty was estimated by the least-squares procedure of Eça and Hoekstra (2014) over all the meshes. "
+        ), "{p}");
+        assert!(p.contains(
+            "Five meshes were used, finest first A, B, C, D and E with representative sizes h = 1, 1.3, 1.69, 2.2 and 2.86, refinement ratios r21 = 1.300, r32 = 1.300, r43 = 1.302 and r54 = 1.300."
+        ), "{p}");
+        let (v, au) = with_uncertainty(u.value, u.absolute);
+        let want = format!(
+            "On the finest mesh, head is {v} ± {au} m ({}), with ",
+            percent(u.relative.expect("nonzero"))
+        );
+        assert!(p.contains(&want), "{want}\n{p}");
+        let fs = format!("safety factor Fs = {}", num(ls.safety_factor, 3));
+        assert!(p.contains(&fs), "{p}");
+        assert!(p.contains(" least-squares fit"), "{p}");
+    }
+
+    #[test]
+    fn wording_helpers() {
+        assert_eq!(and_list(&[]), "");
+        assert_eq!(and_list(&["a".into()]), "a");
+        assert_eq!(and_list(&["a".into(), "b".into()]), "a and b");
+        assert_eq!(
+            and_list(&["a".into(), "b".into(), "c".into()]),
+            "a, b and c"
+        );
+        assert_eq!(ratio_name(2), "r21");
+        assert_eq!(ratio_name(11), "r11,10");
+        assert_eq!(count_word(3), "Three");
+        assert_eq!(count_word(12), "12");
+        assert_eq!(unit_suffix(Some("-")), "");
+        assert_eq!(unit_suffix(Some("N m")), " N m");
+        assert_eq!(unit_suffix(None), "");
+    }
+}
