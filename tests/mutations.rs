@@ -4,8 +4,33 @@
 use proptest::prelude::*;
 use std::path::{Path, PathBuf};
 
+/// A copy of `studies/` in a temporary folder, so that mutated studies (which may name any
+/// output path) never write into the repository.
+fn studies_copy() -> &'static Path {
+    static DIR: std::sync::OnceLock<tempfile::TempDir> = std::sync::OnceLock::new();
+    DIR.get_or_init(|| {
+        let d = tempfile::tempdir().unwrap();
+        copy_dir(&PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("studies"), d.path());
+        d
+    })
+    .path()
+}
+
+fn copy_dir(from: &Path, to: &Path) {
+    for e in std::fs::read_dir(from).unwrap() {
+        let e = e.unwrap();
+        let target = to.join(e.file_name());
+        if e.file_type().unwrap().is_dir() {
+            std::fs::create_dir_all(&target).unwrap();
+            copy_dir(&e.path(), &target);
+        } else {
+            std::fs::copy(e.path(), target).unwrap();
+        }
+    }
+}
+
 fn examples() -> Vec<(PathBuf, String)> {
-    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("studies");
+    let root = studies_copy().to_path_buf();
     let mut v = Vec::new();
     for e in std::fs::read_dir(&root).unwrap() {
         let p = e.unwrap().path();
@@ -95,7 +120,8 @@ proptest! {
 
     #[test]
     fn random_yaml_documents_never_panic(doc in "[a-z_:\\-\\[\\]{}, 0-9.%&*#\\n]{0,300}") {
-        run(&format!("format: 1\n{doc}"), Path::new("random.yaml"));
-        run(&doc, Path::new("random.yaml"));
+        let p = studies_copy().join("random.yaml");
+        run(&format!("format: 1\n{doc}"), &p);
+        run(&doc, &p);
     }
 }
