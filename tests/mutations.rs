@@ -10,7 +10,10 @@ fn studies_copy() -> &'static Path {
     static DIR: std::sync::OnceLock<tempfile::TempDir> = std::sync::OnceLock::new();
     DIR.get_or_init(|| {
         let d = tempfile::tempdir().unwrap();
-        copy_dir(&PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("studies"), d.path());
+        copy_dir(
+            &PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("studies"),
+            d.path(),
+        );
         d
     })
     .path()

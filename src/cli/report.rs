@@ -94,7 +94,23 @@ pub fn figures(a: &Assessment) -> Vec<Figure> {
         );
     }
     for s in &a.sweeps {
-        if let Some(svg) = plot::sweep_plot(a, s, &[]) {
+        let plotted = s.band.as_ref().map_or_else(
+            || s.responses.first().cloned(),
+            |b| Some(b.response.clone()),
+        );
+        let measured: Vec<plot::MeasuredPoint> = a
+            .comparisons
+            .iter()
+            .filter(|c| c.name == s.name && !c.comparison.normalised && c.response == plotted)
+            .flat_map(|c| {
+                c.comparison.points.iter().map(|p| plot::MeasuredPoint {
+                    x: p.x,
+                    y: p.measured,
+                    u: p.u_measured,
+                })
+            })
+            .collect();
+        if let Some(svg) = plot::sweep_plot(a, s, &measured) {
             out.push(Figure {
                 title: format!("Sweep {} along {}", s.name, s.x),
                 svg,

@@ -436,6 +436,114 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
     out.push(Block::Table(t));
 }
 
+fn comparison_blocks(
+    a: &Assessment,
+    c: &crate::assess::compare::ComparisonResult,
+    out: &mut Vec<Block>,
+) {
+    let cm = &c.comparison;
+    let x = a
+        .sweeps
+        .iter()
+        .find(|s| s.name == c.name)
+        .map_or("x".to_string(), |s| s.x.clone());
+    out.push(Block::Heading(
+        3,
+        format!("Comparison with measurements: {}", c.name),
+    ));
+    out.push(Block::Paragraph(vec![text(format!(
+        "ASME V&V 20: E = S − D, u_val = sqrt(u_num² + u_input² + u_D²), u_num = U/{}, k = {}. {} of {} points have |E| ≤ k·u_val; largest |E| {}; mean E {}.{}",
+        num(cm.divisor, 4),
+        num(cm.coverage_factor, 4),
+        cm.summary.within,
+        cm.summary.points,
+        sig(cm.summary.max_abs_error, 3),
+        sig(cm.summary.mean_error, 3),
+        if cm.normalised {
+            " Each data set is divided by its own peak: this compares shapes, not levels."
+        } else {
+            ""
+        }
+    ))]));
+    let mut t = TableBlock::new(
+        format!(
+            "Comparison of {}{} with measurements",
+            c.name,
+            c.response
+                .as_ref()
+                .map_or(String::new(), |r| format!(" ({r})"))
+        ),
+        &[
+            (x.as_str(), Align::Right),
+            ("S", Align::Right),
+            ("D", Align::Right),
+            ("E", Align::Right),
+            ("u_num", Align::Right),
+            ("u_D", Align::Right),
+            ("u_val", Align::Right),
+            ("|E| ≤ k u_val", Align::Left),
+        ],
+    );
+    for p in &cm.points {
+        t.rows.push(vec![
+            if c.kind == "sweep" {
+                Cell::Num(num(p.x, 6))
+            } else {
+                Cell::Missing
+            },
+            Cell::Num(sig(p.simulation, 6)),
+            Cell::Num(sig(p.measured, 6)),
+            Cell::Num(sig(p.error, 3)),
+            Cell::num(p.u_num.map(|u| sig(u, 3))),
+            Cell::Num(sig(p.u_measured, 3)),
+            Cell::num(p.u_val.map(|u| sig(u, 3))),
+            Cell::text(
+                p.within
+                    .map_or("undecided", |w| if w { "yes" } else { "no" }),
+            ),
+        ]);
+    }
+    out.push(Block::Table(t));
+}
+
+fn field_blocks(f: &crate::field::FieldSummary, out: &mut Vec<Block>) {
+    out.push(Block::Heading(2, format!("Field {}", f.name)));
+    let mut t = TableBlock::new(
+        format!(
+            "Pointwise estimate over {} probes{}",
+            f.points,
+            f.written
+                .as_ref()
+                .map_or(String::new(), |w| format!("; per-point results in {w}"))
+        ),
+        &[
+            ("column", Align::Left),
+            ("monotonic", Align::Right),
+            ("oscillatory", Align::Right),
+            ("divergent", Align::Right),
+            ("no change", Align::Right),
+            ("mean order", Align::Right),
+            ("median order", Align::Right),
+            ("mean U/|φ|", Align::Right),
+            ("largest U/|φ|", Align::Right),
+        ],
+    );
+    for c in &f.columns {
+        t.rows.push(vec![
+            Cell::text(&c.name),
+            Cell::Num(c.classes.monotonic.to_string()),
+            Cell::Num(c.classes.oscillatory.to_string()),
+            Cell::Num(c.classes.divergent.to_string()),
+            Cell::Num(c.classes.no_change.to_string()),
+            Cell::num(c.mean_order.map(|v| sig(v, 3))),
+            Cell::num(c.median_order.map(|v| sig(v, 3))),
+            Cell::percent(c.mean_relative),
+            Cell::percent(c.max_relative),
+        ]);
+    }
+    out.push(Block::Table(t));
+}
+
 fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
     out.push(Block::Heading(2, format!("Sweep {}", s.name)));
     let mode = s.mode.map_or(String::new(), |m| {
@@ -518,6 +626,15 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
     }
     for s in &a.sweeps {
         sweep_blocks(s, &mut out);
+    }
+    if !a.comparisons.is_empty() {
+        out.push(Block::Heading(2, "Comparison with measurements".into()));
+        for c in &a.comparisons {
+            comparison_blocks(a, c, &mut out);
+        }
+    }
+    for f in &a.fields {
+        field_blocks(f, &mut out);
     }
     if !figures.is_empty() {
         out.push(Block::Heading(2, "Figures".into()));
