@@ -1,15 +1,23 @@
 //! Times the streamed field assessment on a synthetic field.
 //!
 //! ```text
-//! cargo run --release --example field_bench -- N [DIR [all|read|full]]
+//! cargo run --release --example field_bench -- N [--keep DIR] [--mode MODE]
+//!     [--chunk-rows ROWS] [--block-bytes BYTES]
+//! cargo run --release --example field_bench -- N DIR MODE      (the older positional form)
 //! ```
 //!
-//! Writes three probe files of `N` points (default 1 000 000) into a temporary directory (or
-//! into `DIR`, kept afterwards and reused by later runs with the same `N`), then times:
-//! 1. `assess_field` without a per-point file (reading, parsing and estimating),
-//! 2. `assess_field` with the per-point file (everything, including the atomic write),
-//! 3. the estimate alone over values held in memory (fast path, all threads), and the general
-//!    `three_grid::estimate` on a sample, for the speed-up of the fast path.
+//! Writes three probe files `mesh1.csv` … `mesh3.csv` (finest first, sizes 1, 1.3, 1.625) of
+//! `N` points (default 1 000 000) into a temporary directory, or into `DIR` with `--keep`, kept
+//! afterwards and reused by later runs with the same `N`. MODE:
+//! - `all` (default) times
+//!   1. `assess_field` without a per-point file (reading, parsing and estimating),
+//!   2. `assess_field` with the per-point file (everything, including the atomic write),
+//!   3. the estimate alone over values held in memory (fast path, all threads), and the general
+//!      `three_grid::estimate` on a sample, for the speed-up of the fast path;
+//! - `read` and `full` run step 1 or step 2 alone (for `/usr/bin/time` and `perf`);
+//! - `generate` only writes the files (`benches/compare.sh` uses it).
+//!
+//! `--chunk-rows` and `--block-bytes` set the streaming options (`FieldOptions`).
 //!
 //! Peak memory (VmHWM) is read after steps 1 and 2, before step 3 allocates its arrays.
 //!
@@ -204,10 +212,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         spec.write = Some(dir.join("out").join("points.csv"));
         let (t, c) = (Instant::now(), cpu_s());
         assess_field_with(&spec, H, &settings, &opts)?;
+        let wall = t.elapsed().as_secs_f64();
         println!(
-            "full (written) {:8.3} s  (cpu {:.2} s)",
-            t.elapsed().as_secs_f64(),
-            cpu_s() - c
+            "full (written) {wall:8.3} s  {:6.2} M points/s  (cpu {:.2} s, peak {:.0} MiB)",
+            n as f64 / wall / 1e6,
+            cpu_s() - c,
+            peak_mib().unwrap_or(f64::NAN)
         );
         return Ok(());
     }
@@ -216,8 +226,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let read_only = t.elapsed().as_secs_f64();
     if mode == "read" {
         println!(
-            "read+estimate  {read_only:8.3} s  (cpu {:.2} s)",
-            cpu_s() - c
+            "read+estimate  {read_only:8.3} s  {:6.2} M points/s  (cpu {:.2} s, peak {:.0} MiB)",
+            n as f64 / read_only / 1e6,
+            cpu_s() - c,
+            peak_mib().unwrap_or(f64::NAN)
         );
         return Ok(());
     }

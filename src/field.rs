@@ -1745,10 +1745,11 @@ impl ColumnAcc {
 // Writing
 
 /// Appends a number in the shortest form that reads back to the same double (Ryū), plain from
-/// 1e-5 to below 1e16 and scientific outside, without a trailing `.0`.
+/// 1e-5 to below 1e16 and scientific outside, without a trailing `.0`. `v` is finite (the
+/// callers see to it; Ryū gives unspecified text for others, never a panic).
 fn push_num(buf: &mut Vec<u8>, v: f64) {
     let mut b = ryu::Buffer::new();
-    let text = b.format(v).as_bytes();
+    let text = b.format_finite(v).as_bytes();
     buf.extend_from_slice(text.strip_suffix(b".0").unwrap_or(text));
 }
 
@@ -2830,7 +2831,10 @@ mod tests {
         }
     }
 
-    fn rows_text(r: &Rows) -> Vec<(Vec<u8>, u64, Vec<u64>, Vec<Vec<u8>>)> {
+    /// One parsed row as plain data: id, line, the values' bits, the kept texts.
+    type RowData = (Vec<u8>, u64, Vec<u64>, Vec<Vec<u8>>);
+
+    fn rows_text(r: &Rows) -> Vec<RowData> {
         (0..r.len())
             .map(|i| {
                 (
