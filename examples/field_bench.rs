@@ -1,15 +1,23 @@
 //! Times the streamed field assessment on a synthetic field.
 //!
 //! ```text
-//! cargo run --release --example field_bench -- N [DIR [all|read|full]]
+//! cargo run --release --example field_bench -- N [--keep DIR] [--mode MODE]
+//!     [--chunk-rows ROWS] [--block-bytes BYTES]
+//! cargo run --release --example field_bench -- N DIR MODE      (the older positional form)
 //! ```
 //!
-//! Writes three probe files of `N` points (default 1 000 000) into a temporary directory (or
-//! into `DIR`, kept afterwards and reused by later runs with the same `N`), then times:
-//! 1. `assess_field` without a per-point file (reading, parsing and estimating),
-//! 2. `assess_field` with the per-point file (everything, including the atomic write),
-//! 3. the estimate alone over values held in memory (fast path, all threads), and the general
-//!    `three_grid::estimate` on a sample, for the speed-up of the fast path.
+//! Writes three probe files `mesh1.csv` … `mesh3.csv` (finest first, sizes 1, 1.3, 1.625) of
+//! `N` points (default 1 000 000) into a temporary directory, or into `DIR` with `--keep`, kept
+//! afterwards and reused by later runs with the same `N`. MODE:
+//! - `all` (default) times
+//!   1. `assess_field` without a per-point file (reading, parsing and estimating),
+//!   2. `assess_field` with the per-point file (everything, including the atomic write),
+//!   3. the estimate alone over values held in memory (fast path, all threads), and the general
+//!      `three_grid::estimate` on a sample, for the speed-up of the fast path;
+//! - `read` and `full` run step 1 or step 2 alone (for `/usr/bin/time` and `perf`);
+//! - `generate` only writes the files (`benches/compare.sh` uses it).
+//!
+//! `--chunk-rows` and `--block-bytes` set the streaming options (`FieldOptions`).
 //!
 //! Peak memory (VmHWM) is read after steps 1 and 2, before step 3 allocates its arrays.
 //!
@@ -18,7 +26,7 @@
 //! every convergence class occurs. The scenario and numbers are invented for the benchmark.
 
 use meshbound::estimate::three_grid::{self, ThreeGridSettings};
-use meshbound::field::{assess_field, FastThreeGrid, FieldSpec};
+use meshbound::field::{assess_field_with, FastThreeGrid, FieldOptions, FieldSpec};
 use rayon::prelude::*;
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -95,14 +103,69 @@ fn peak_mib() -> Option<f64> {
     Some(kib / 1024.0)
 }
 
-fn main() -> Result<(), Box<dyn std::error::Error>> {
-    let mut args = std::env::args().skip(1);
-    let n: u64 = match args.next() {
-        Some(a) => a.parse::<f64>().map_err(|e| format!("N: {e}"))? as u64,
-        None => 1_000_000,
+/// Command-line options (see the module documentation).
+struct Args {
+    n: u64,
+    keep: Option<PathBuf>,
+    mode: String,
+    opts: FieldOptions,
+}
+
+fn parse_args() -> Result<Args, String> {
+    let mut args = Args {
+        n: 1_000_000,
+        keep: None,
+        mode: "all".into(),
+        opts: FieldOptions::default(),
     };
-    let keep = args.next().map(PathBuf::from);
-    let mode = args.next().unwrap_or_else(|| "all".into());
+    let mut positional = Vec::new();
+    let mut it = std::env::args().skip(1);
+    while let Some(a) = it.next() {
+        let mut value = |name: &str| it.next().ok_or(format!("{name} needs a value"));
+        match a.as_str() {
+            "--keep" => args.keep = Some(PathBuf::from(value("--keep")?)),
+            "--mode" => args.mode = value("--mode")?,
+            "--chunk-rows" => {
+                args.opts.chunk_rows = value("--chunk-rows")?
+                    .parse()
+                    .map_err(|e| format!("--chunk-rows: {e}"))?
+            }
+            "--block-bytes" => {
+                args.opts.block_bytes = value("--block-bytes")?
+                    .parse()
+                    .map_err(|e| format!("--block-bytes: {e}"))?
+            }
+            _ if a.starts_with("--") => return Err(format!("unknown option {a}")),
+            _ => positional.push(a),
+        }
+    }
+    let mut pos = positional.into_iter();
+    if let Some(n) = pos.next() {
+        args.n = n.parse::<f64>().map_err(|e| format!("N: {e}"))? as u64;
+    }
+    // The older positional form `N DIR MODE` still works.
+    if let Some(d) = pos.next() {
+        args.keep = Some(PathBuf::from(d));
+    }
+    if let Some(m) = pos.next() {
+        args.mode = m;
+    }
+    if !["all", "read", "full", "generate"].contains(&args.mode.as_str()) {
+        return Err(format!(
+            "unknown mode {} (all, read, full or generate)",
+            args.mode
+        ));
+    }
+    Ok(args)
+}
+
+fn main() -> Result<(), Box<dyn std::error::Error>> {
+    let Args {
+        n,
+        keep,
+        mode,
+        opts,
+    } = parse_args()?;
     let tmp = tempfile::tempdir()?;
     let dir = keep.clone().unwrap_or_else(|| tmp.path().to_path_buf());
     std::fs::create_dir_all(&dir)?;
@@ -133,6 +196,9 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         t.elapsed().as_secs_f64(),
         bytes as f64 / 1e6
     );
+    if mode == "generate" {
+        return Ok(());
+    }
     let settings = ThreeGridSettings::default();
     let mut spec = FieldSpec {
         name: "bench".into(),
@@ -145,21 +211,25 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     if mode == "full" {
         spec.write = Some(dir.join("out").join("points.csv"));
         let (t, c) = (Instant::now(), cpu_s());
-        assess_field(&spec, H, &settings)?;
+        assess_field_with(&spec, H, &settings, &opts)?;
+        let wall = t.elapsed().as_secs_f64();
         println!(
-            "full (written) {:8.3} s  (cpu {:.2} s)",
-            t.elapsed().as_secs_f64(),
-            cpu_s() - c
+            "full (written) {wall:8.3} s  {:6.2} M points/s  (cpu {:.2} s, peak {:.0} MiB)",
+            n as f64 / wall / 1e6,
+            cpu_s() - c,
+            peak_mib().unwrap_or(f64::NAN)
         );
         return Ok(());
     }
     let (t, c) = (Instant::now(), cpu_s());
-    let s = assess_field(&spec, H, &settings)?;
+    let s = assess_field_with(&spec, H, &settings, &opts)?;
     let read_only = t.elapsed().as_secs_f64();
     if mode == "read" {
         println!(
-            "read+estimate  {read_only:8.3} s  (cpu {:.2} s)",
-            cpu_s() - c
+            "read+estimate  {read_only:8.3} s  {:6.2} M points/s  (cpu {:.2} s, peak {:.0} MiB)",
+            n as f64 / read_only / 1e6,
+            cpu_s() - c,
+            peak_mib().unwrap_or(f64::NAN)
         );
         return Ok(());
     }
@@ -171,7 +241,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let out = dir.join("out").join("points.csv");
     spec.write = Some(out.clone());
     let (t, c) = (Instant::now(), cpu_s());
-    let s2 = assess_field(&spec, H, &settings)?;
+    let s2 = assess_field_with(&spec, H, &settings, &opts)?;
     let full = t.elapsed().as_secs_f64();
     let full_cpu = cpu_s() - c;
     let out_mb = std::fs::metadata(&out).map(|m| m.len()).unwrap_or(0) as f64 / 1e6;

@@ -11,12 +11,27 @@
 //! # Pipeline
 //! One reader thread per file reads raw blocks of whole records (cut at the last line end
 //! outside double quotes) a few blocks ahead. The calling thread gathers a round of blocks and
-//! parses them in parallel (rayon; blocks without double quotes by a plain splitter, others by
-//! the csv crate) while the chunks lined up in the round before are estimated and formatted in
-//! parallel; it then hands the formatted bytes in order to a writer thread and lines the three
-//! files up row by row into the next chunks (shared blocks, no copying). Memory is bounded by
-//! the read-ahead, two rounds of rows and the write-ahead. The writer writes into a temporary file beside the target, which
-//! is renamed into place only when everything succeeded: on any error no file is left behind.
+//! parses them in parallel (rayon) while the chunks lined up in the round before are estimated
+//! and formatted in parallel; it then hands the formatted bytes in order to a writer thread and
+//! lines the three files up row by row into the next chunks (shared blocks, no copying). Memory
+//! is bounded by the read-ahead, two rounds of rows and the write-ahead.
+//!
+//! Blocks without double quotes go to a one-pass parser that reads the needed numbers in place
+//! (`fast-float2`, the grammar of `str::parse::<f64>`) and takes only well-formed records; a
+//! block with anything else (a blank line, a bad number, a wrong field count, a lone carriage
+//! return) is read again by a splitter that words the errors, and blocks with quotes by the csv
+//! crate. Numbers are written by Ryū (`ryu`).
+//!
+//! # Writing
+//! The writer writes into a temporary file beside the target, which is renamed into place only
+//! when everything succeeded: on any error no file is left behind, and no reader ever sees a
+//! half-written file. The file is not flushed to the disk (no fsync) before the rename: for a
+//! field of ten million points that flush alone takes longer than the whole assessment (about
+//! 1.3 s for 900 MB measured here), and the per-point file is derived output that a rerun
+//! rebuilds. The cost is durability, not atomicity: after a power loss or an operating-system
+//! crash within the seconds after a run, the file may be missing or incomplete (ext4's default
+//! `auto_da_alloc` flushes a file renamed over an older one, other file systems may not), so
+//! rerun the assessment after such a crash.
 //!
 //! # Fast observed order
 //! The refinement ratios are the same at every point, so the observed order depends on the one
@@ -858,13 +873,17 @@ struct BlockReader {
 }
 
 fn count_byte(bytes: &[u8], b: u8) -> usize {
-    bytes.iter().filter(|&&c| c == b).count()
+    memchr::memchr_iter(b, bytes).count()
+}
+
+fn has_quote(bytes: &[u8]) -> bool {
+    memchr::memchr(b'"', bytes).is_some()
 }
 
 /// Index of the last `\n` outside double quotes (the block starts outside quotes).
 fn last_record_end(buf: &[u8]) -> Option<usize> {
-    if !buf.contains(&b'"') {
-        return buf.iter().rposition(|&c| c == b'\n');
+    if !has_quote(buf) {
+        return memchr::memrchr(b'\n', buf);
     }
     let mut quotes = count_byte(buf, b'"');
     for i in (0..buf.len()).rev() {
@@ -916,7 +935,7 @@ impl BlockReader {
     fn make_block(&mut self, bytes: Vec<u8>) -> RawBlock {
         let newlines = count_byte(&bytes, b'\n');
         let block = RawBlock {
-            quoted: bytes.contains(&b'"'),
+            quoted: has_quote(&bytes),
             bytes,
             first_line: self.next_line,
             newlines,
@@ -995,7 +1014,7 @@ impl BlockReader {
         let rest = block.bytes[start..].to_vec();
         self.first = Some(RawBlock {
             newlines: count_byte(&rest, b'\n'),
-            quoted: rest.contains(&b'"'),
+            quoted: has_quote(&rest),
             first_line: after.line(),
             bytes: rest,
         });
@@ -1028,6 +1047,32 @@ struct Layout {
     col_idx: Vec<usize>,
     /// Keep the values' text (the finest mesh's, written back as given).
     keep_text: bool,
+    /// What each field of a record is, in header order (for the fast parser).
+    roles: Vec<Role>,
+}
+
+/// What one field of a record is to the fast parser.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Role {
+    /// Not needed.
+    Skip,
+    /// The probe id.
+    Id,
+    /// The value of needed column `c` (index into the spec's columns).
+    Value(usize),
+}
+
+fn roles(fields: usize, id_idx: usize, col_idx: &[usize]) -> Vec<Role> {
+    let mut r = vec![Role::Skip; fields];
+    if let Some(x) = r.get_mut(id_idx) {
+        *x = Role::Id;
+    }
+    for (c, &i) in col_idx.iter().enumerate() {
+        if let Some(x) = r.get_mut(i) {
+            *x = Role::Value(c);
+        }
+    }
+    r
 }
 
 impl Layout {
@@ -1069,6 +1114,7 @@ impl Layout {
             .collect::<Result<Vec<_>, _>>()?;
         Ok(Layout {
             path: path.to_path_buf(),
+            roles: roles(header.len(), id_idx, &col_idx),
             header,
             id_idx,
             col_idx,
@@ -1087,7 +1133,9 @@ struct Rows {
     texts: Vec<u8>,
     text_end: Vec<usize>,
     values: Vec<f64>,
+    /// Line of each row; empty when row `i` stands on line `first_line + i` (no blank lines).
     lines: Vec<u64>,
+    first_line: u64,
 }
 
 impl Rows {
@@ -1099,12 +1147,21 @@ impl Rows {
             texts: Vec::new(),
             text_end: Vec::new(),
             values: Vec::with_capacity(rows * ncols),
-            lines: Vec::with_capacity(rows),
+            lines: Vec::new(),
+            first_line: 0,
         }
     }
 
     fn len(&self) -> usize {
-        self.lines.len()
+        self.id_end.len()
+    }
+
+    /// Line of row `i`.
+    fn line(&self, i: usize) -> u64 {
+        match self.lines.get(i) {
+            Some(&l) => l,
+            None => self.first_line + i as u64,
+        }
     }
 
     /// Empties the rows for reuse, keeping the allocations.
@@ -1116,6 +1173,7 @@ impl Rows {
         self.text_end.clear();
         self.values.clear();
         self.lines.clear();
+        self.first_line = 0;
     }
 
     fn id(&self, i: usize) -> &[u8] {
@@ -1182,9 +1240,8 @@ fn push_row<'b>(
     rows.lines.push(line);
     for &ci in &layout.col_idx {
         let text = field(ci).trim_ascii();
-        let v = std::str::from_utf8(text)
-            .ok()
-            .and_then(|s| s.parse::<f64>().ok());
+        // The same grammar as `str::parse::<f64>` (checked by a test), straight from the bytes.
+        let v = fast_float2::parse::<f64, _>(text).ok();
         match v {
             Some(v) if v.is_finite() => {
                 rows.values.push(v);
@@ -1214,15 +1271,6 @@ fn push_row<'b>(
     Ok(())
 }
 
-/// Bytes the plain splitter stops at: comma, line feed, carriage return.
-const SPECIAL: [bool; 256] = {
-    let mut t = [false; 256];
-    t[b',' as usize] = true;
-    t[b'\n' as usize] = true;
-    t[b'\r' as usize] = true;
-    t
-};
-
 /// Parses a block without double quotes by splitting at commas and line ends, which is what
 /// CSV means for such text. Gives `None` when a lone carriage return (a record end to the CSV
 /// reader) makes the general path the safer one.
@@ -1237,58 +1285,170 @@ fn parse_plain(
     let len = bytes.len();
     let mut fields: Vec<(usize, usize)> = Vec::with_capacity(layout.header.len() + 1);
     let mut line = block.first_line;
-    let mut pos = 0;
-    while pos < len {
-        fields.clear();
-        let mut start = pos;
-        let mut i = pos;
-        let (end, next) = loop {
-            // Skip ordinary bytes with one table look-up each.
-            i += bytes[i..]
-                .iter()
-                .position(|&c| SPECIAL[c as usize])
-                .unwrap_or(len - i);
-            if i >= len {
-                break (len, len);
-            }
-            match bytes[i] {
+    let mut start = 0;
+    // Every comma, line feed and carriage return, found by a vectorised search.
+    let mut hits = memchr::memchr3_iter(b',', b'\n', b'\r', bytes);
+    loop {
+        let hit = hits.next();
+        let (end, next) = match hit {
+            None if start >= len && fields.is_empty() => break,
+            None => (len, len),
+            Some(i) => match bytes[i] {
                 b',' => {
                     fields.push((start, i));
                     start = i + 1;
+                    continue;
                 }
-                b'\n' => break (i, i + 1),
-                b'\r' => {
-                    if i + 1 == len {
-                        break (i, len);
-                    }
-                    if bytes[i + 1] == b'\n' {
-                        break (i, i + 2);
-                    }
-                    return Ok(None);
+                b'\n' => (i, i + 1),
+                _ if i + 1 == len => (i, len),
+                _ if bytes[i + 1] == b'\n' => {
+                    hits.next(); // the line feed of the CRLF
+                    (i, i + 2)
                 }
-                _ => {}
-            }
-            i += 1;
+                _ => return Ok(None),
+            },
         };
         let this_line = line;
         line += 1;
-        pos = next;
-        if end == start && fields.is_empty() {
-            continue; // a blank line, skipped as the CSV reader skips it
+        if !(end == start && fields.is_empty()) {
+            // (a blank line is skipped, as the CSV reader skips it)
+            fields.push((start, end));
+            push_row(layout, &mut rows, this_line, fields.len(), |k| {
+                let (a, b) = fields[k];
+                &bytes[a..b]
+            })?;
+            fields.clear();
         }
-        fields.push((start, end));
-        push_row(layout, &mut rows, this_line, fields.len(), |k| {
-            let (a, b) = fields[k];
-            &bytes[a..b]
-        })?;
+        start = next;
+        if hit.is_none() {
+            break;
+        }
     }
     Ok(Some(rows))
+}
+
+/// Field padding the fast parser skips: what `trim_ascii` trims inside a field of a record
+/// without quotes (line feeds and carriage returns end the field there).
+fn is_pad(c: u8) -> bool {
+    c == b' ' || c == b'\t' || c == b'\x0C'
+}
+
+/// The fast parser for blocks without double quotes: one pass over each record that parses the
+/// needed values in place (`parse_partial`) and walks the other fields byte by byte. It takes
+/// only well-formed records (the right field count, finite numbers, LF or CRLF line ends, no
+/// blank lines) and gives `false` at anything else, leaving the block to [`parse_plain`],
+/// which reads the same records the same way and words the errors. `rows` is then stale.
+// Kept out of line so that profiles show parsing and estimating apart.
+#[inline(never)]
+fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> bool {
+    let bytes = &block.bytes[..];
+    let len = bytes.len();
+    let roles = &layout.roles[..];
+    let nf = roles.len();
+    let ncols = rows.ncols;
+    // The needed values' text, by column, for the record at hand.
+    let mut spans = [(0usize, 0usize); 8];
+    // (A layout always has an id and a value field.)
+    if ncols > spans.len() || nf < 2 {
+        return false;
+    }
+    let mut pos = 0;
+    // Row i stands on line first_line + i: no blank lines are taken here.
+    rows.first_line = block.first_line;
+    while pos < len {
+        let base = rows.values.len();
+        rows.values.resize(base + ncols, 0.0);
+        let mut id = (pos, pos);
+        let mut f = 0;
+        loop {
+            match roles[f] {
+                Role::Value(c) => {
+                    let mut a = pos;
+                    while a < len && is_pad(bytes[a]) {
+                        a += 1;
+                    }
+                    let Ok((v, n)) = fast_float2::parse_partial::<f64, _>(&bytes[a..]) else {
+                        return false;
+                    };
+                    if !v.is_finite() {
+                        return false;
+                    }
+                    rows.values[base + c] = v;
+                    spans[c] = (a, a + n);
+                    pos = a + n;
+                    while pos < len && is_pad(bytes[pos]) {
+                        pos += 1;
+                    }
+                }
+                role => {
+                    let a = pos;
+                    while pos < len && !matches!(bytes[pos], b',' | b'\n' | b'\r') {
+                        pos += 1;
+                    }
+                    if role == Role::Id {
+                        let (mut s, mut e) = (a, pos);
+                        while s < e && is_pad(bytes[s]) {
+                            s += 1;
+                        }
+                        while e > s && is_pad(bytes[e - 1]) {
+                            e -= 1;
+                        }
+                        id = (s, e);
+                    }
+                }
+            }
+            // `pos` stands on the field's end.
+            let end_of_record = match bytes.get(pos) {
+                None => true,
+                Some(b',') => {
+                    pos += 1;
+                    false
+                }
+                Some(b'\n') => {
+                    pos += 1;
+                    true
+                }
+                Some(b'\r') if bytes.get(pos + 1) == Some(&b'\n') => {
+                    pos += 2;
+                    true
+                }
+                Some(b'\r') if pos + 1 == len => {
+                    pos += 1;
+                    true
+                }
+                _ => return false,
+            };
+            f += 1;
+            if end_of_record {
+                break;
+            }
+            if f == nf {
+                return false; // too many fields
+            }
+        }
+        if f != nf {
+            return false; // too few fields, or a blank line
+        }
+        rows.ids.extend_from_slice(&bytes[id.0..id.1]);
+        rows.id_end.push(rows.ids.len());
+        if layout.keep_text {
+            for &(a, b) in &spans[..ncols] {
+                rows.texts.extend_from_slice(&bytes[a..b]);
+                rows.text_end.push(rows.texts.len());
+            }
+        }
+    }
+    true
 }
 
 fn parse_block(layout: &Layout, block: &RawBlock, pool: &RowsPool) -> Result<Rows, FieldError> {
     let ncols = layout.col_idx.len();
     if !block.quoted {
-        let rows = pooled_rows(pool, ncols, block.newlines + 1);
+        let mut rows = pooled_rows(pool, ncols, block.newlines + 1);
+        if parse_fast(layout, block, &mut rows) {
+            return Ok(rows);
+        }
+        rows.reset(ncols);
         if let Some(rows) = parse_plain(layout, block, rows)? {
             return Ok(rows);
         }
@@ -1395,7 +1555,7 @@ impl Queue {
     }
 
     fn next_line(&self) -> Option<u64> {
-        self.blocks.front().map(|b| b.lines[self.front])
+        self.blocks.front().map(|b| b.line(self.front))
     }
 
     /// The next `n` rows (fewer when the queue runs short), without copying.
@@ -1417,7 +1577,7 @@ impl Queue {
         }
         self.pending -= n - left;
         if let Some((rows, _, end)) = segs.last() {
-            self.last_line = rows.lines[end - 1];
+            self.last_line = rows.line(end - 1);
         }
         segs
     }
@@ -1584,15 +1744,13 @@ impl ColumnAcc {
 // ---------------------------------------------------------------------------------------------
 // Writing
 
-/// Appends a number in the shortest form that reads back to the same double.
+/// Appends a number in the shortest form that reads back to the same double (Ryū), plain from
+/// 1e-5 to below 1e16 and scientific outside, without a trailing `.0`. `v` is finite (the
+/// callers see to it; Ryū gives unspecified text for others, never a panic).
 fn push_num(buf: &mut Vec<u8>, v: f64) {
-    let a = v.abs();
-    // Writing into a Vec cannot fail.
-    let _ = if a == 0.0 || (1e-5..1e16).contains(&a) {
-        write!(buf, "{v}")
-    } else {
-        write!(buf, "{v:e}")
-    };
+    let mut b = ryu::Buffer::new();
+    let text = b.format_finite(v).as_bytes();
+    buf.extend_from_slice(text.strip_suffix(b".0").unwrap_or(text));
 }
 
 /// Appends a figure, or nothing (an empty cell) where it does not exist or is not finite
@@ -1636,6 +1794,31 @@ fn header_bytes(columns: &[String]) -> Vec<u8> {
     buf
 }
 
+/// The most bytes the per-point rows of `segs` can take, so that the output buffer is never
+/// grown (and copied) while a chunk is written: an id quoted with every byte doubled, and per
+/// column the finest value's text or a number, three numbers (Ryū writes at most 24 bytes), a
+/// class label and the separators.
+fn out_bound(segs: &[Segment], ncols: usize) -> usize {
+    let mut bytes = 0;
+    for (rows, a, b) in segs {
+        if a < b {
+            let span = |ends: &[usize], lo: usize, hi: usize| {
+                let start = if lo == 0 { 0 } else { ends[lo - 1] };
+                ends[hi - 1] - start
+            };
+            let rows_n = b - a;
+            bytes += 2 * span(&rows.id_end, *a, *b) + 3 * rows_n;
+            if rows.text_end.is_empty() {
+                bytes += 24 * ncols * rows_n;
+            } else {
+                bytes += span(&rows.text_end, a * ncols, b * ncols);
+            }
+            bytes += (4 * 24 + 16) * ncols * rows_n;
+        }
+    }
+    bytes
+}
+
 struct Computed {
     bytes: Vec<u8>,
     accs: Vec<ColumnAcc>,
@@ -1654,7 +1837,7 @@ fn compute_chunk(
     let n: usize = chunk[0].iter().map(|s| s.2 - s.1).sum();
     let mut accs = vec![ColumnAcc::default(); ncols];
     let mut buf = match write {
-        Some(pool) => pooled(pool, n * (16 + 80 * ncols)),
+        Some(pool) => pooled(pool, out_bound(&chunk[0], ncols)),
         None => Vec::new(),
     };
     let write = write.is_some();
@@ -1675,12 +1858,12 @@ fn compute_chunk(
                 let l = &layouts[f];
                 return Err(FieldError::IdMismatch(Box::new(IdMismatch {
                     path: l.path.clone(),
-                    line: b.lines[i],
+                    line: b.line(i),
                     column: l.header[l.id_idx].clone(),
                     found: shown(b.id(i)),
                     expected: shown(id),
                     expected_path: layouts[0].path.clone(),
-                    expected_line: b0.lines[i0],
+                    expected_line: b0.line(i0),
                 })));
             }
         }
@@ -1912,7 +2095,7 @@ pub fn assess_field_with(
                 path: target.clone(),
                 source,
             };
-            tmp.as_file().sync_all().map_err(fail)?;
+            // No fsync before the rename: see "Writing" in the module documentation.
             tmp.persist(&target).map_err(|e| fail(e.error))?;
             accs
         }
@@ -2584,6 +2767,7 @@ mod tests {
             id_idx: 0,
             col_idx: vec![2],
             keep_text: false,
+            roles: roles(3, 0, &[2]),
         };
         let text = b"a,0.1,1.5\r\n\nb , 2, -2e-3 \n\r\nc,3,4";
         let block = |quoted| RawBlock {
@@ -2598,7 +2782,7 @@ mod tests {
             .unwrap();
         let general = parse_block(&layout, &block(true), &pool).unwrap();
         for r in [&plain, &general] {
-            assert_eq!(r.lines, [7, 9, 11]);
+            assert_eq!([r.line(0), r.line(1), r.line(2)], [7, 9, 11]);
             assert_eq!([r.id(0), r.id(1), r.id(2)], [&b"a"[..], b"b", b"c"]);
             assert_eq!(
                 r.values.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
@@ -2631,6 +2815,196 @@ mod tests {
                 e,
                 "m.csv, line 4, column `cp`: the row has 2 fields but the header has 3"
             );
+        }
+    }
+
+    /// A layout over `fields` header fields with the id first and the needed columns at
+    /// `cols` (header indices, in the spec's order).
+    fn layout_of(fields: usize, cols: &[usize], keep_text: bool) -> Layout {
+        Layout {
+            path: PathBuf::from("m.csv"),
+            header: (0..fields).map(|i| format!("c{i}")).collect(),
+            id_idx: 0,
+            col_idx: cols.to_vec(),
+            keep_text,
+            roles: roles(fields, 0, cols),
+        }
+    }
+
+    /// One parsed row as plain data: id, line, the values' bits, the kept texts.
+    type RowData = (Vec<u8>, u64, Vec<u64>, Vec<Vec<u8>>);
+
+    fn rows_text(r: &Rows) -> Vec<RowData> {
+        (0..r.len())
+            .map(|i| {
+                (
+                    r.id(i).to_vec(),
+                    r.line(i),
+                    (0..r.ncols).map(|c| r.value(i, c).to_bits()).collect(),
+                    (0..r.ncols)
+                        .filter_map(|c| r.text(i, c).map(<[u8]>::to_vec))
+                        .collect(),
+                )
+            })
+            .collect()
+    }
+
+    #[test]
+    fn fast_parser_takes_well_formed_blocks() {
+        // Checks the parser itself (no external value): ordinary records, CRLF and LF, padding
+        // and a missing final line end go through the fast path, with the splitter's result.
+        let layout = layout_of(3, &[2, 1], true);
+        let block = RawBlock {
+            bytes: b"a,0.1,1.5\r\n b ,2 , -2e-3 \nc,3,4".to_vec(),
+            first_line: 7,
+            newlines: 2,
+            quoted: false,
+        };
+        let mut fast = Rows::new(2, 4);
+        assert!(parse_fast(&layout, &block, &mut fast));
+        let plain = parse_plain(&layout, &block, Rows::new(2, 4))
+            .unwrap()
+            .unwrap();
+        assert_eq!(rows_text(&fast), rows_text(&plain));
+        assert_eq!(fast.id(1), b"b");
+        assert_eq!(fast.text(1, 0), Some(&b"-2e-3"[..]));
+        assert_eq!(fast.line(2), 9);
+        // Anything unusual is left to the splitter.
+        for odd in [
+            &b"a,1,2\n\nb,3,4\n"[..],
+            b"a,1,2\rb,3,4\n",
+            b"a,1,x\n",
+            b"a,1,nan\n",
+            b"a,1\n",
+            b"a,1,2,3\n",
+            b"a,1,2e\n",
+        ] {
+            let b = RawBlock {
+                bytes: odd.to_vec(),
+                first_line: 2,
+                newlines: 1,
+                quoted: false,
+            };
+            assert!(
+                !parse_fast(&layout, &b, &mut Rows::new(2, 4)),
+                "{}",
+                String::from_utf8_lossy(odd)
+            );
+        }
+    }
+
+    /// Blocks the fast parser took in `fast_parser_reads_what_the_splitter_reads`.
+    static FAST_TAKEN: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+    #[test]
+    fn fast_parser_property_takes_many_blocks() {
+        // Guards the property test below against passing vacuously: run it here too and
+        // require that the fast path took a good share of the generated blocks.
+        fast_parser_reads_what_the_splitter_reads();
+        let taken = FAST_TAKEN.load(std::sync::atomic::Ordering::Relaxed);
+        assert!(taken >= 200, "the fast parser took only {taken} blocks");
+    }
+
+    fn csv_text() -> impl Strategy<Value = Vec<u8>> {
+        // Mostly well-formed records (so that the fast parser takes many blocks), with odd
+        // pieces between them now and then.
+        let id = prop_oneof![Just("a"), Just("id9"), Just(" b "), Just("\t7")];
+        let num = || {
+            prop_oneof![
+                Just("1"),
+                Just("0.25"),
+                Just("-3e2"),
+                Just("+.5"),
+                Just("5."),
+                Just("1E+3"),
+                Just(" 4 "),
+                Just("-0"),
+                Just("12345678901234567890.5e-3"),
+            ]
+        };
+        let end = prop_oneof![Just("\n"), Just("\r\n")];
+        let record =
+            (id, num(), num(), end).prop_map(|(i, x, y, e)| format!("{i},{x},{y}{e}").into_bytes());
+        let odd = prop_oneof![
+            Just(&b","[..]),
+            Just(&b"\n"[..]),
+            Just(&b"\r"[..]),
+            Just(&b" "[..]),
+            Just(&b"1"[..]),
+            Just(&b"e"[..]),
+            Just(&b"."[..]),
+            Just(&b"+"[..]),
+            Just(&b"inf"[..]),
+            Just(&b"x"[..]),
+        ]
+        .prop_map(<[u8]>::to_vec);
+        let piece = prop_oneof![12 => record, 1 => odd];
+        proptest::collection::vec(piece, 0..30).prop_map(|v| v.concat())
+    }
+
+    fn number_text() -> impl Strategy<Value = String> {
+        let piece = prop_oneof![
+            Just("0"),
+            Just("7"),
+            Just("12345678901234567890"),
+            Just("."),
+            Just("e"),
+            Just("E"),
+            Just("+"),
+            Just("-"),
+            Just("inf"),
+            Just("INFINITY"),
+            Just("nan"),
+            Just("NaN"),
+            Just("ity"),
+            Just("x"),
+            Just("_"),
+            Just("99999"),
+        ];
+        proptest::collection::vec(piece, 0..7).prop_map(|v| v.concat())
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 2000, ..ProptestConfig::default() })]
+        // Source of the check: Rust's standard library `str::parse::<f64>` (correctly rounded,
+        // its documented grammar): the values read from the probe files must be the same
+        // doubles, and the same texts must be refused.
+        #[test]
+        fn number_grammar_is_that_of_std(text in number_text()) {
+            let ours = fast_float2::parse::<f64, _>(text.as_bytes()).ok();
+            let std = text.parse::<f64>().ok();
+            match (ours, std) {
+                (Some(a), Some(b)) => prop_assert!(
+                    a.to_bits() == b.to_bits() || (a.is_nan() && b.is_nan()),
+                    "{}: {} vs {}", text, a, b
+                ),
+                (None, None) => {}
+                _ => prop_assert!(false, "{}: {:?} vs {:?}", text, ours, std),
+            }
+        }
+
+        // Checks the parser itself against the splitter (no external value): whenever the
+        // fast parser takes a block, it reads the same ids, values, texts and lines.
+        #[test]
+        fn fast_parser_reads_what_the_splitter_reads(text in csv_text(), keep in any::<bool>()) {
+            let layout = layout_of(3, &[2, 1], keep);
+            let block = RawBlock { bytes: text.clone(), first_line: 3, newlines: 0, quoted: false };
+            let mut fast = Rows::new(2, 4);
+            if parse_fast(&layout, &block, &mut fast) {
+                FAST_TAKEN.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                let plain = parse_plain(&layout, &block, Rows::new(2, 4));
+                let plain = match plain {
+                    Ok(Some(r)) => r,
+                    other => {
+                        return Err(TestCaseError::fail(format!(
+                            "{:?}: fast took it, the splitter gave {:?}",
+                            String::from_utf8_lossy(&text),
+                            other.map(|o| o.map(|r| r.len()))
+                        )))
+                    }
+                };
+                prop_assert_eq!(rows_text(&fast), rows_text(&plain));
+            }
         }
     }
 
