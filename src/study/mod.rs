@@ -5,6 +5,7 @@
 //! values in the same order, and the settings with their defaults filled in. Every error is a
 //! [`StudyError`] naming the file, the key path and, where known, the line and column.
 
+pub mod csv_input;
 pub mod num;
 pub mod raw;
 pub mod reference;
@@ -141,8 +142,19 @@ pub fn load(path: &Path) -> Result<Study, StudyError> {
             MAX_STUDY_BYTES
         )));
     }
-    let bytes =
-        std::fs::read(path).map_err(|e| whole(format!("cannot read the study file: {e}")))?;
+    // Read at most one byte past the limit: a device or a file that grows is refused too.
+    let mut bytes = Vec::with_capacity(meta.len().min(MAX_STUDY_BYTES) as usize);
+    std::fs::File::open(path)
+        .and_then(|f| {
+            use std::io::Read;
+            f.take(MAX_STUDY_BYTES + 1).read_to_end(&mut bytes)
+        })
+        .map_err(|e| whole(format!("cannot read the study file: {e}")))?;
+    if bytes.len() as u64 > MAX_STUDY_BYTES {
+        return Err(whole(format!(
+            "more than {MAX_STUDY_BYTES} bytes were read; study files larger than {MAX_STUDY_BYTES} bytes are refused (put large data in CSV files beside it)"
+        )));
+    }
     let text = String::from_utf8(bytes).map_err(|e| {
         whole(format!(
             "the file is not UTF-8 text (invalid byte at offset {})",
@@ -175,14 +187,53 @@ fn split_yaml_message(msg: &str) -> (String, String) {
 /// Deepest nesting of flow collections (`[` and `{`) accepted; a study needs a handful.
 pub const MAX_NESTING: usize = 64;
 
-/// Refuses pathological nesting before the YAML parser sees it (a parser would spend a long
-/// time on a hundred thousand nested brackets). Quoted text and comments are skipped.
-pub fn check_nesting(text: &str, path: &Path) -> Result<(), StudyError> {
+/// Most YAML items (keys, values, list entries, collections) a study may hold, counted before
+/// parsing from the separators of the text and again after expanding aliases. A study holds a
+/// few thousand; large data belong in CSV files beside it. The bound keeps the YAML parser's
+/// memory to a few hundred megabytes whatever a study file under [`MAX_STUDY_BYTES`] holds.
+pub const MAX_ITEMS: usize = 1_000_000;
+
+/// What [`check_shape`] found besides the refusals.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shape {
+    /// Separators counted: `,`, `[`, `{`, line ends, and `-`, `?`, `:` followed by a space or
+    /// a line end, outside quotes and comments. Every YAML item needs at least one, and each
+    /// gives at most a few.
+    pub separators: usize,
+    /// Whether an alias (`*name`) appears outside quotes and comments.
+    pub aliases: bool,
+}
+
+/// Refuses pathological shapes before the YAML parser sees them: flow collections nested more
+/// than [`MAX_NESTING`] deep (a parser would spend a long time on a hundred thousand nested
+/// brackets) and more than [`MAX_ITEMS`] separators (the parser keeps every item of a
+/// document in memory at once). Quoted text and comments are skipped.
+pub fn check_shape(text: &str, path: &Path) -> Result<Shape, StudyError> {
+    let refuse = |line: usize, column: usize, message: String| StudyError {
+        file: path.to_path_buf(),
+        key: String::new(),
+        line: Some(line),
+        column: Some(column),
+        message,
+    };
+    let too_many = |line: usize, column: usize| {
+        refuse(line, column, format!(
+        "the file holds more than {MAX_ITEMS} YAML items (keys, values, list entries); a study needs a few thousand, so this file is refused (put large data in CSV files beside it)"
+    ))
+    };
     let mut depth = 0usize;
+    let mut shape = Shape {
+        separators: 0,
+        aliases: false,
+    };
     for (li, line) in text.lines().enumerate() {
         let mut quote: Option<char> = None;
         let mut prev = ' ';
-        for (ci, c) in line.chars().enumerate() {
+        let mut chars = line.chars().enumerate().peekable();
+        // A line end separates items only after something other than blanks and a comment.
+        let mut content = false;
+        while let Some((ci, c)) = chars.next() {
+            let next_blank = chars.peek().is_none_or(|&(_, n)| n == ' ' || n == '\t');
             match quote {
                 Some(q) => {
                     if c == q {
@@ -201,27 +252,165 @@ pub fn check_nesting(text: &str, path: &Path) -> Result<(), StudyError> {
                     }
                     '#' if prev == ' ' || ci == 0 => break,
                     '[' | '{' => {
+                        shape.separators += 1;
                         depth += 1;
                         if depth > MAX_NESTING {
-                            return Err(StudyError {
-                                file: path.to_path_buf(),
-                                key: String::new(),
-                                line: Some(li + 1),
-                                column: Some(ci + 1),
-                                message: format!(
-                                    "collections are nested more than {MAX_NESTING} deep: a study file needs only a few levels, so this file is refused"
-                                ),
-                            });
+                            return Err(refuse(li + 1, ci + 1, format!(
+                                "collections are nested more than {MAX_NESTING} deep: a study file needs only a few levels, so this file is refused"
+                            )));
                         }
                     }
                     ']' | '}' => depth = depth.saturating_sub(1),
+                    ',' => shape.separators += 1,
+                    '-' | '?' | ':' if next_blank => shape.separators += 1,
+                    '*' if matches!(prev, ' ' | '[' | '{' | ',' | ':' | '-') => {
+                        shape.aliases = true
+                    }
                     _ => {}
                 },
             }
+            if shape.separators > MAX_ITEMS {
+                return Err(too_many(li + 1, ci + 1));
+            }
+            content |= c != ' ' && c != '\t';
             prev = c;
         }
+        if content {
+            shape.separators += 1;
+            if shape.separators > MAX_ITEMS {
+                return Err(too_many(li + 1, line.chars().count() + 1));
+            }
+        }
     }
-    Ok(())
+    Ok(shape)
+}
+
+/// The same refusal of deep nesting as [`check_shape`] (kept for callers of the earlier name).
+pub fn check_nesting(text: &str, path: &Path) -> Result<(), StudyError> {
+    check_shape(text, path).map(|_| ())
+}
+
+/// Counts the YAML items of a document with every alias expanded, without keeping any of
+/// them, and fails once there are more than `limit`.
+struct ItemCount<'a> {
+    count: &'a std::cell::Cell<usize>,
+    limit: usize,
+}
+
+/// The marker of [`ItemCount`]'s refusal in serde_yaml's message.
+const EXPANSION_REFUSED: &str = "meshbound: too many items after expanding aliases";
+
+impl ItemCount<'_> {
+    fn bump<E: serde::de::Error>(&self) -> Result<(), E> {
+        self.count.set(self.count.get() + 1);
+        if self.count.get() > self.limit {
+            Err(E::custom(EXPANSION_REFUSED))
+        } else {
+            Ok(())
+        }
+    }
+    fn again(&self) -> Self {
+        ItemCount {
+            count: self.count,
+            limit: self.limit,
+        }
+    }
+}
+
+impl<'de> serde::de::DeserializeSeed<'de> for ItemCount<'_> {
+    type Value = ();
+    fn deserialize<D: serde::Deserializer<'de>>(self, d: D) -> Result<(), D::Error> {
+        d.deserialize_any(self)
+    }
+}
+
+impl<'de> serde::de::Visitor<'de> for ItemCount<'_> {
+    type Value = ();
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str("any YAML value")
+    }
+    fn visit_bool<E: serde::de::Error>(self, _: bool) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_i64<E: serde::de::Error>(self, _: i64) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_u64<E: serde::de::Error>(self, _: u64) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_i128<E: serde::de::Error>(self, _: i128) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_u128<E: serde::de::Error>(self, _: u128) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_f64<E: serde::de::Error>(self, _: f64) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_str<E: serde::de::Error>(self, _: &str) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_bytes<E: serde::de::Error>(self, _: &[u8]) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_unit<E: serde::de::Error>(self) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_none<E: serde::de::Error>(self) -> Result<(), E> {
+        self.bump()
+    }
+    fn visit_some<D: serde::Deserializer<'de>>(self, d: D) -> Result<(), D::Error> {
+        d.deserialize_any(self)
+    }
+    fn visit_newtype_struct<D: serde::Deserializer<'de>>(self, d: D) -> Result<(), D::Error> {
+        d.deserialize_any(self)
+    }
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<(), A::Error> {
+        self.bump()?;
+        while seq.next_element_seed(self.again())?.is_some() {}
+        Ok(())
+    }
+    fn visit_map<A: serde::de::MapAccess<'de>>(self, mut map: A) -> Result<(), A::Error> {
+        self.bump()?;
+        while map.next_key_seed(self.again())?.is_some() {
+            map.next_value_seed(self.again())?;
+        }
+        Ok(())
+    }
+    fn visit_enum<A: serde::de::EnumAccess<'de>>(self, data: A) -> Result<(), A::Error> {
+        // A tagged value (`!tag value`): the tag, then the value.
+        use serde::de::VariantAccess;
+        let ((), variant) = data.variant_seed(self.again())?;
+        variant.newtype_variant_seed(self.again())
+    }
+}
+
+/// Refuses a document whose aliases expand it beyond [`MAX_ITEMS`] items (an alias-expansion
+/// bomb: a few lines that name a large anchored list many times). Other YAML errors are left
+/// to the reading proper, which words them with the key path.
+fn check_expansion(text: &str, path: &Path) -> Result<(), StudyError> {
+    use serde::de::DeserializeSeed;
+    let count = std::cell::Cell::new(0);
+    let seed = ItemCount {
+        count: &count,
+        limit: MAX_ITEMS,
+    };
+    let Err(e) = seed.deserialize(serde_yaml::Deserializer::from_str(text)) else {
+        return Ok(());
+    };
+    let message = e.to_string();
+    if !message.contains(EXPANSION_REFUSED) && !message.contains("repetition limit exceeded") {
+        return Ok(());
+    }
+    Err(StudyError {
+        file: path.to_path_buf(),
+        key: String::new(),
+        line: e.location().map(|l| l.line()),
+        column: e.location().map(|l| l.column()),
+        message: format!(
+            "aliases (`*name`) expand the document to more than {MAX_ITEMS} YAML items; a study needs a few thousand, so this file is refused (an alias-expansion bomb?)"
+        ),
+    })
 }
 
 /// Deserializes YAML text into `T`, turning any failure into a [`StudyError`] with the exact
@@ -291,7 +480,9 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         column: None,
         message,
     };
-    check_nesting(text, path)?;
+    if check_shape(text, path)?.aliases {
+        check_expansion(text, path)?;
+    }
     let raw: RawStudy = read_yaml(text, path)?;
     let meshes_line = find_line(text, 1, |l| l.trim_start().starts_with("meshes:"));
     // The line of the i-th mesh entry: the i-th `name:` key after `meshes:`.

@@ -151,14 +151,22 @@ fn read_points_csv(
         column: None,
         message: format!("{m} (named by {} at {key})", study.display()),
     };
-    let mut rdr = csv::ReaderBuilder::new()
-        .trim(csv::Trim::All)
-        .comment(Some(b'#'))
-        .from_path(path)
-        .map_err(|er| e(None, format!("cannot read the CSV file: {er}")))?;
+    let mut rdr = super::csv_input::open(path).map_err(|er| match er {
+        super::csv_input::OpenError::Io(er) => e(None, format!("cannot read the CSV file: {er}")),
+        super::csv_input::OpenError::Refused(m) => e(None, m),
+    })?;
+    let unreadable = |er: csv::Error, what: &str, line: Option<usize>| {
+        match super::csv_input::Overrun::of(&er) {
+            Some(o) => e(o.line(), o.to_string()),
+            None => e(
+                er.position().map(|p| p.line() as usize).or(line),
+                format!("{what}: {er}"),
+            ),
+        }
+    };
     let h = rdr
         .headers()
-        .map_err(|er| e(Some(1), format!("cannot read the header row: {er}")))?
+        .map_err(|er| unreadable(er, "cannot read the header row", Some(1)))?
         .clone();
     let col = |n: &str| h.iter().position(|c| c == n);
     let (xi, vi) = match (col("x"), col("value")) {
@@ -173,12 +181,7 @@ fn read_points_csv(
     let ui = col("u");
     let mut out = Vec::new();
     for r in rdr.records() {
-        let r = r.map_err(|er| {
-            e(
-                er.position().map(|p| p.line() as usize),
-                format!("unreadable CSV: {er}"),
-            )
-        })?;
+        let r = r.map_err(|er| unreadable(er, "unreadable CSV", None))?;
         let line = r.position().map(|p| p.line() as usize);
         let num = |i: usize, name: &str| -> Result<f64, StudyError> {
             let f = r.get(i).unwrap_or("");

@@ -380,32 +380,29 @@ fn read_csv(
         column: None,
         message: format!("{message} (named by {} at {key})", ctx.file.display()),
     };
-    let meta = std::fs::metadata(path).map_err(|e| {
-        ctx.err(
+    let mut rdr = super::csv_input::open(path).map_err(|e| match e {
+        super::csv_input::OpenError::Io(e) => ctx.err(
             key.to_string(),
             format!("cannot read the CSV file {}: {e}", path.display()),
-        )
+        ),
+        super::csv_input::OpenError::Refused(m) => data_err(m),
     })?;
-    if meta.len() > 256 * 1024 * 1024 {
-        return Err(data_err(format!(
-            "the file has {} bytes; sweep files above 256 MiB are refused",
-            meta.len()
-        )));
-    }
-    let mut rdr = csv::ReaderBuilder::new()
-        .has_headers(true)
-        .trim(csv::Trim::All)
-        .comment(Some(b'#'))
-        .from_path(path)
-        .map_err(|e| {
-            ctx.err(
-                key.to_string(),
-                format!("cannot read the CSV file {}: {e}", path.display()),
-            )
-        })?;
+    let unreadable = |e: csv::Error| match super::csv_input::Overrun::of(&e) {
+        Some(o) => StudyError {
+            line: o.line(),
+            ..data_err(o.to_string())
+        },
+        None => StudyError {
+            line: e.position().map(|p| p.line() as usize),
+            ..data_err(format!("unreadable CSV: {e}"))
+        },
+    };
     let headers = rdr
         .headers()
-        .map_err(|e| data_err(format!("cannot read the header row: {e}")))?
+        .map_err(|e| match super::csv_input::Overrun::of(&e) {
+            Some(_) => unreadable(e),
+            None => data_err(format!("cannot read the header row: {e}")),
+        })?
         .clone();
     let mut idx = Vec::with_capacity(needed.len());
     for n in needed {
@@ -425,13 +422,7 @@ fn read_csv(
     let mut cols: Vec<Vec<f64>> = vec![Vec::new(); needed.len()];
     let mut rec = csv::StringRecord::new();
     loop {
-        let more = rdr.read_record(&mut rec).map_err(|e| {
-            let line = e.position().map(|p| p.line() as usize);
-            StudyError {
-                line,
-                ..data_err(format!("unreadable CSV: {e}"))
-            }
-        })?;
+        let more = rdr.read_record(&mut rec).map_err(unreadable)?;
         if !more {
             break;
         }

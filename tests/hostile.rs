@@ -1,0 +1,360 @@
+//! Hostile input against the real binary: inputs built to exhaust memory or time (an endless
+//! CSV line, an unbalanced quote, a file above the size limit, a device that never ends, an
+//! alias-expansion bomb, a study of a million items) are refused quickly with exit status 2, a
+//! message naming the file (and the line where there is one), nothing on standard output and no
+//! output file; the refusals run under a cap on the address space, so a reader that kept the
+//! whole input would fail the test instead of passing slowly. The limits are meshbound's own
+//! (common practice, no source): 1 MiB per CSV record, 256 MiB per CSV file, 16 MiB per study
+//! file, 1 000 000 YAML items.
+
+mod common;
+
+use common::*;
+use std::io::Write;
+use std::path::Path;
+use std::process::{Command, Output};
+use std::time::{Duration, Instant};
+
+/// Address space allowed to a refused run, in KiB: far below what keeping the hostile inputs
+/// would take (each is at least 200 MiB of data or expands to gigabytes), several times what
+/// a normal run needs (under 100 MiB, measured with the field study of `studies/`).
+const CAP_KIB: u64 = 384 * 1024;
+
+/// Time allowed to a refusal (the debug binary on a shared machine; the release binary takes
+/// well under a second for each).
+const QUICK: Duration = Duration::from_secs(30);
+
+/// Runs the binary in `cwd` under the address-space cap (`ulimit -v` of the POSIX shell).
+fn run_capped(cwd: &Path, args: &[&str]) -> (Output, Duration) {
+    let t = Instant::now();
+    let o = Command::new("sh")
+        .arg("-c")
+        .arg(format!("ulimit -v {CAP_KIB} && exec \"$0\" \"$@\""))
+        .arg(env!("CARGO_BIN_EXE_meshbound"))
+        .args(args)
+        .current_dir(cwd)
+        .output()
+        .expect("sh runs");
+    (o, t.elapsed())
+}
+
+/// The common checks of a refusal: exit 2, quick, no panic, nothing on stdout, the message
+/// holding every one of `expect`, and the work folder holding only `inputs`.
+fn refused(w: &Workdir, args: &[&str], expect: &[&str], inputs: &[&str]) -> String {
+    let mut args = args.to_vec();
+    args.extend(["--format", "json", "--output", "out.json"]);
+    let (o, took) = run_capped(w.path(), &args);
+    let err = String::from_utf8_lossy(&o.stderr).into_owned();
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(!err.contains("panicked"), "{err}");
+    assert!(o.stdout.is_empty(), "{}", show(&o));
+    for e in expect {
+        assert!(err.contains(e), "expected `{e}` in\n{err}");
+    }
+    assert!(took < QUICK, "refused only after {took:?}");
+    let mut want: Vec<String> = inputs.iter().map(|s| s.to_string()).collect();
+    want.sort();
+    assert_eq!(w.files(), want, "no output may be written");
+    eprintln!("refused in {took:?}: {}", err.trim_end());
+    err
+}
+
+/// A sweep over three meshes, each from a CSV file `a.csv`, `b.csv`, `c.csv`.
+const SWEEP_STUDY: &str = "format: 1
+meshes:
+  - {name: A, size: 1}
+  - {name: B, size: 2}
+  - {name: C, size: 4}
+sweeps:
+  cav:
+    x: sigma
+    responses: [efficiency]
+    data:
+      A: {file: a.csv}
+      B: {file: b.csv}
+      C: {file: c.csv}
+";
+
+const GOOD_CSV: &str = "sigma,efficiency\n0.4,0.9\n0.3,0.9\n0.2,0.89\n0.1,0.8\n";
+
+fn sweep_workdir() -> Workdir {
+    let w = Workdir::new();
+    w.write("s.yaml", SWEEP_STUDY);
+    w.write("b.csv", GOOD_CSV);
+    w.write("c.csv", GOOD_CSV);
+    w
+}
+
+/// Writes `head`, then `fill` repeated to `fill_bytes`, then `tail`, without holding it all.
+fn write_big(path: &Path, head: &str, fill: &[u8], fill_bytes: usize, tail: &str) {
+    let mut f = std::io::BufWriter::new(std::fs::File::create(path).unwrap());
+    f.write_all(head.as_bytes()).unwrap();
+    let block: Vec<u8> = fill.iter().copied().cycle().take(1 << 20).collect();
+    let mut left = fill_bytes;
+    while left > 0 {
+        let n = left.min(block.len());
+        f.write_all(&block[..n]).unwrap();
+        left -= n;
+    }
+    f.write_all(tail.as_bytes()).unwrap();
+    f.flush().unwrap();
+}
+
+#[test]
+fn a_huge_csv_line_is_refused_with_the_file_and_line() {
+    let w = sweep_workdir();
+    // 200 MiB on line 3, inside the 256 MiB file limit.
+    write_big(
+        &w.path().join("a.csv"),
+        "sigma,efficiency\n0.4,0.9\n0.3,",
+        b"9",
+        200 << 20,
+        "\n0.2,0.89\n0.1,0.8\n",
+    );
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &[
+            "error: a.csv:3: the line is longer than 1048576 bytes (1 MiB)",
+            "(named by s.yaml at sweeps.cav.data.A.file)",
+        ],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+}
+
+#[test]
+fn a_huge_header_line_is_refused_too() {
+    let w = sweep_workdir();
+    write_big(
+        &w.path().join("a.csv"),
+        "sigma,",
+        b"x",
+        2 << 20,
+        "\n0.4,0.9\n",
+    );
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &["error: a.csv:1: the line is longer than 1048576 bytes"],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+}
+
+#[test]
+fn an_unbalanced_quote_is_refused_after_a_mebibyte() {
+    let w = sweep_workdir();
+    // A quote opened on line 3 and never closed: every later line would join one record.
+    write_big(
+        &w.path().join("a.csv"),
+        "sigma,efficiency\n0.4,0.9\n\"0.3,0.9\n",
+        b"0.2,0.89\n",
+        200 << 20,
+        "",
+    );
+    let err = refused(
+        &w,
+        &["assess", "s.yaml"],
+        &[
+            "error: a.csv:3: the record starting on this line runs over",
+            "(an unbalanced double quote?)",
+        ],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+    // 1 MiB of 9-byte lines: about 116 509 lines, said as such.
+    assert!(err.contains("runs over 116"), "{err}");
+}
+
+#[test]
+fn a_huge_line_in_measured_points_is_refused() {
+    let w = Workdir::new();
+    for f in ["a.csv", "b.csv", "c.csv"] {
+        w.write(f, GOOD_CSV);
+    }
+    w.write(
+        "s.yaml",
+        &format!(
+            "{SWEEP_STUDY}reference_data:\n  cav:\n    u_measured: 0.002\n    file: measured.csv\n"
+        ),
+    );
+    write_big(
+        &w.path().join("measured.csv"),
+        "x,value\n0.3,0.9\n0.2,",
+        b"8",
+        200 << 20,
+        "\n",
+    );
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &[
+            "error: measured.csv:3: the line is longer than 1048576 bytes",
+            "(named by s.yaml at reference_data.cav.file)",
+        ],
+        &["a.csv", "b.csv", "c.csv", "measured.csv", "s.yaml"],
+    );
+    // And the same file within bounds is read (the check is not a refusal of everything).
+    w.write("measured.csv", "x,value\n0.3,0.9\n0.2,0.88\n");
+    let o = run_in(w.path(), &["assess", "s.yaml", "--format", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+}
+
+#[test]
+fn csv_files_above_the_size_limit_are_refused_before_reading() {
+    let w = sweep_workdir();
+    // A sparse file of 300 MiB: no disk space used, and nothing of it may be read.
+    let f = std::fs::File::create(w.path().join("a.csv")).unwrap();
+    f.set_len(300 << 20).unwrap();
+    drop(f);
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &["error: a.csv: the file has 314572800 bytes; CSV files above 256 MiB are refused"],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+    // The same for measured points.
+    w.write("a.csv", GOOD_CSV);
+    std::fs::rename(w.path().join("b.csv"), w.path().join("m.csv")).unwrap();
+    w.write("b.csv", GOOD_CSV);
+    std::fs::OpenOptions::new()
+        .write(true)
+        .open(w.path().join("m.csv"))
+        .unwrap()
+        .set_len(300 << 20)
+        .unwrap();
+    w.write(
+        "s.yaml",
+        &format!("{SWEEP_STUDY}reference_data:\n  cav:\n    u_measured: 0.002\n    file: m.csv\n"),
+    );
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &["error: m.csv: the file has 314572800 bytes; CSV files above 256 MiB are refused"],
+        &["a.csv", "b.csv", "c.csv", "m.csv", "s.yaml"],
+    );
+}
+
+#[test]
+fn endless_devices_are_refused_with_bounded_memory() {
+    if !Path::new("/dev/zero").exists() {
+        eprintln!("skipped: no /dev/zero here");
+        return;
+    }
+    // As a sweep file: one endless line of zero bytes.
+    let w = sweep_workdir();
+    w.write("s.yaml", &SWEEP_STUDY.replace("a.csv", "/dev/zero"));
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &["error: /dev/zero:1: the line is longer than 1048576 bytes"],
+        &["b.csv", "c.csv", "s.yaml"],
+    );
+    // As the study file itself: its size says 0, the read stops past 16 MiB.
+    let w = Workdir::new();
+    refused(
+        &w,
+        &["assess", "/dev/zero"],
+        &["error: /dev/zero: more than 16777216 bytes were read; study files larger than 16777216 bytes are refused"],
+        &[],
+    );
+}
+
+#[test]
+fn an_alias_expansion_bomb_is_refused_quickly_with_bounded_memory() {
+    // One anchored list of 20 000 numbers named by 50 000 columns: about 1 MiB of text that
+    // would expand to 10^9 numbers (8 GB) if every alias were kept.
+    let w = Workdir::new();
+    let mut s = String::from(
+        "format: 1\nmeshes:\n  - {name: A, size: 1}\n  - {name: B, size: 2}\n  - {name: C, size: 4}\nsweeps:\n  s:\n    x: sigma\n    responses: [eff]\n    data:\n      A:\n        sigma: &big [",
+    );
+    s.push_str(&vec!["0.5"; 20_000].join(", "));
+    s.push_str("]\n");
+    for i in 0..50_000 {
+        s.push_str(&format!("        c{i}: *big\n"));
+    }
+    w.write("bomb.yaml", &s);
+    refused(
+        &w,
+        &["assess", "bomb.yaml"],
+        &[
+            "error: bomb.yaml:12:",
+            "aliases (`*name`) expand the document to more than 1000000 YAML items",
+        ],
+        &["bomb.yaml"],
+    );
+    // The classic form: ten levels of ten aliases each, under a key that takes anything.
+    let mut s =
+        String::from("format: 1\ntitle: &l0 [lol, lol, lol, lol, lol, lol, lol, lol, lol, lol]\n");
+    for i in 1..10 {
+        s.push_str(&format!(
+            "l{i}: &l{i} [{}]\n",
+            vec![format!("*l{}", i - 1); 10].join(", ")
+        ));
+    }
+    w.write("bomb.yaml", &s);
+    refused(
+        &w,
+        &["assess", "bomb.yaml"],
+        &["aliases (`*name`) expand the document to more than 1000000 YAML items"],
+        &["bomb.yaml"],
+    );
+}
+
+#[test]
+fn aliases_in_moderation_are_read() {
+    // Anchors and aliases are YAML: a study may share values between quantities.
+    let w = Workdir::new();
+    w.write(
+        "s.yaml",
+        "format: 1
+meshes:
+  - {name: L1, size: 1}
+  - {name: L2, size: 2}
+  - {name: L3, size: 4}
+quantities:
+  head:
+    values: &v {L1: 61.42, L2: 61.37, L3: 61.2}
+  head_copy:
+    values: *v
+",
+    );
+    let o = run_in(w.path(), &["assess", "s.yaml", "--format", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["quantities"].as_array().unwrap().len(), 2);
+}
+
+#[test]
+fn a_million_items_are_refused_before_parsing() {
+    let w = Workdir::new();
+    // Just under the 16 MiB study limit, two bytes per item: over eight million items, which
+    // the YAML parser would hold at about 130 bytes each (over 1 GB).
+    let n = (16 << 20) / 2 - 16;
+    write_big(
+        &w.path().join("flat.yaml"),
+        "format: 1\nmeshes: [",
+        b"1,",
+        2 * n,
+        "1]\n",
+    );
+    refused(
+        &w,
+        &["assess", "flat.yaml"],
+        &["error: flat.yaml:2:", "more than 1000000 YAML items"],
+        &["flat.yaml"],
+    );
+    // The same in block style (one item per line).
+    let n = (16 << 20) / 4 - 16;
+    write_big(
+        &w.path().join("flat.yaml"),
+        "format: 1\nmeshes:\n",
+        b"- 1\n",
+        4 * n,
+        "",
+    );
+    refused(
+        &w,
+        &["assess", "flat.yaml"],
+        &["more than 1000000 YAML items"],
+        &["flat.yaml"],
+    );
+}
