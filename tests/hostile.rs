@@ -358,3 +358,148 @@ fn a_million_items_are_refused_before_parsing() {
         &["flat.yaml"],
     );
 }
+
+/// A study in `case/` reading sweep CSVs, probe files and measured points, and writing the
+/// per-point results of its field.
+fn reading_study() -> Workdir {
+    let w = Workdir::new();
+    w.write(
+        "case/s.yaml",
+        "format: 1
+title: files read (format test)
+meshes:
+  - {name: A, size: 1}
+  - {name: B, size: 2}
+  - {name: C, size: 4}
+sweeps:
+  cav:
+    x: sigma
+    responses: [efficiency]
+    data:
+      A: {file: sweeps/a.csv}
+      B: {file: sweeps/b.csv}
+      C: {file: sweeps/c.csv}
+reference_data:
+  cav:
+    u_measured: 0.002
+    file: measured/m.csv
+fields:
+  blade:
+    columns: [cp]
+    data: {A: probes/p1.csv, B: probes/p2.csv, C: probes/p3.csv}
+    write: out/points.csv
+",
+    );
+    for f in ["a", "b", "c"] {
+        w.write(&format!("case/sweeps/{f}.csv"), GOOD_CSV);
+    }
+    w.write("case/measured/m.csv", "x,value\n0.3,0.9\n0.2,0.88\n");
+    for (f, v) in [("p1", 1.0), ("p2", 1.1), ("p3", 1.3)] {
+        w.write(
+            &format!("case/probes/{f}.csv"),
+            &format!("id,cp\nq1,{v}\nq2,{}\n", 2.0 * v),
+        );
+    }
+    w
+}
+
+const READ: [&str; 8] = [
+    "case/s.yaml",
+    "case/sweeps/a.csv",
+    "case/sweeps/b.csv",
+    "case/sweeps/c.csv",
+    "case/probes/p1.csv",
+    "case/probes/p2.csv",
+    "case/probes/p3.csv",
+    "case/measured/m.csv",
+];
+const WRITTEN: &str = "case/out/points.csv";
+
+#[test]
+fn every_output_names_the_files_the_study_read() {
+    let w = reading_study();
+    let text_of = |format: &str| {
+        let o = run_in(w.path(), &["assess", "case/s.yaml", "--format", format]);
+        assert_eq!(o.status.code(), Some(0), "{format}\n{}", show(&o));
+        String::from_utf8(o.stdout).unwrap()
+    };
+    // JSON: the lists themselves, in the order read.
+    let v: serde_json::Value = serde_json::from_str(&text_of("json")).unwrap();
+    let read: Vec<&str> = v["files_read"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f.as_str().unwrap())
+        .collect();
+    let mut want = READ.to_vec();
+    want.sort();
+    let mut got = read.clone();
+    got.sort();
+    assert_eq!(got, want);
+    assert_eq!(read[0], "case/s.yaml", "the study file comes first");
+    assert_eq!(v["files_written"][0], WRITTEN);
+    // CSV: one `file_read` row per file, the path in `name`; one `file_written` row.
+    let csv_text = text_of("csv");
+    let mut r = csv::Reader::from_reader(csv_text.as_bytes());
+    let name = r
+        .headers()
+        .unwrap()
+        .iter()
+        .position(|h| h == "name")
+        .unwrap();
+    let rows: Vec<csv::StringRecord> = r.records().map(|x| x.unwrap()).collect();
+    let of_kind = |kind: &str| -> Vec<String> {
+        rows.iter()
+            .filter(|r| &r[0] == kind)
+            .map(|r| r[name].to_string())
+            .collect()
+    };
+    assert_eq!(of_kind("file_read"), read);
+    assert_eq!(of_kind("file_written"), [WRITTEN]);
+    // The gate report: per study, in both formats.
+    let o = run_in(w.path(), &["gate", "case/s.yaml", "-f", "json"]);
+    let g: serde_json::Value = serde_json::from_slice(&o.stdout).expect(&show(&o));
+    assert_eq!(g["files"][0]["study"], "case/s.yaml");
+    assert_eq!(g["files"][0]["read"], serde_json::json!(read));
+    assert_eq!(g["files"][0]["written"], serde_json::json!([WRITTEN]));
+    let o = run_in(w.path(), &["gate", "case/s.yaml"]);
+    let gate_table = String::from_utf8(o.stdout).unwrap();
+    assert!(
+        gate_table.contains(&format!("case/s.yaml read {}", read[1..].join(", "))),
+        "{gate_table}"
+    );
+    assert!(
+        gate_table.contains(&format!("case/s.yaml wrote {WRITTEN}")),
+        "{gate_table}"
+    );
+    // The human formats: every path as given, and the file written.
+    let (_, folder) = {
+        let out = w.path().join("rep");
+        let o = run_in(w.path(), &["report", "case/s.yaml", "--out", "rep"]);
+        assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+        ((), out)
+    };
+    for (what, text) in [
+        ("table", text_of("table")),
+        ("markdown", text_of("markdown")),
+        ("latex", text_of("latex")),
+        (
+            "report.md",
+            std::fs::read_to_string(folder.join("report.md")).unwrap(),
+        ),
+        (
+            "report.html",
+            std::fs::read_to_string(folder.join("report.html")).unwrap(),
+        ),
+    ] {
+        for f in READ.iter().chain([&WRITTEN]) {
+            assert!(text.contains(f), "{what} does not name {f}\n{text}");
+        }
+        let at = |needle: &str| {
+            text.find(needle)
+                .unwrap_or_else(|| panic!("{what}: {needle}"))
+        };
+        // Named near the top, before the first result.
+        assert!(at("case/measured/m.csv") < at("efficiency"), "{what}");
+    }
+}

@@ -52,12 +52,35 @@ pub struct GateReport {
     /// Studies without any acceptance limit.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub without_limits: Vec<String>,
+    /// Per study that was checked, every file it made meshbound read (the study file first)
+    /// and write, as in the assessment's `files_read` and `files_written`.
+    pub files: Vec<StudyFiles>,
 }
 
-fn gate_one(path: &std::path::Path) -> Result<Vec<Check>, String> {
+/// The files one study made meshbound read and write.
+#[derive(Debug, Serialize)]
+pub struct StudyFiles {
+    /// The study file.
+    pub study: String,
+    /// Files read, the study file first.
+    pub read: Vec<String>,
+    /// Files written.
+    pub written: Vec<String>,
+}
+
+fn gate_one(path: &std::path::Path) -> Result<(Vec<Check>, StudyFiles), String> {
     let study = crate::study::load(path).map_err(|e| e.to_string())?;
     let a = crate::assess::run(&study).map_err(|e| e.to_string())?;
-    crate::gate::check(&a, &study.acceptance).map_err(|e| format!("{}: {e}", path.display()))
+    let checks = crate::gate::check(&a, &study.acceptance)
+        .map_err(|e| format!("{}: {e}", path.display()))?;
+    Ok((
+        checks,
+        StudyFiles {
+            study: path.display().to_string(),
+            read: a.files_read,
+            written: a.files_written,
+        },
+    ))
 }
 
 /// Runs `gate`.
@@ -69,14 +92,16 @@ pub fn run(args: Args) -> Result<(), Failure> {
         checks: Vec::new(),
         errors: Vec::new(),
         without_limits: Vec::new(),
+        files: Vec::new(),
     };
     for (p, r) in paths.iter().zip(results) {
         match r {
-            Ok(checks) => {
+            Ok((checks, files)) => {
                 if checks.is_empty() {
                     report.without_limits.push(p.display().to_string());
                 }
                 report.checks.extend(checks);
+                report.files.push(files);
             }
             Err(e) => report.errors.push(GateError {
                 study: p.display().to_string(),
@@ -123,6 +148,14 @@ pub fn run(args: Args) -> Result<(), Failure> {
             }
             for e in &report.errors {
                 s.push_str(&format!("broken: {}\n", e.message));
+            }
+            for f in &report.files {
+                if f.read.len() > 1 {
+                    s.push_str(&format!("{} read {}\n", f.study, f.read[1..].join(", ")));
+                }
+                if !f.written.is_empty() {
+                    s.push_str(&format!("{} wrote {}\n", f.study, f.written.join(", ")));
+                }
             }
             s.push_str(&format!(
                 "{}: {} checks, {} failed, {} broken studies\n",

@@ -3,7 +3,10 @@
 //! Rows, in this order:
 //! 1. one `quantity` row per scalar quantity, then per sweep and per breakdown the breakdown
 //!    abscissa (`<sweep>.breakdown.<response>`) and the reference (`<sweep>.reference.<response>`);
-//! 2. one `band_point` row per point of every sweep's band, increasing abscissa.
+//! 2. one `band_point` row per point of every sweep's band, increasing abscissa;
+//! 3. one `file_read` row per file the study made meshbound read (the study file first, then
+//!    sweep CSVs, probe files and measured points, paths as given), then one `file_written`
+//!    row per file it made meshbound write: the path is in `name`, every other cell is empty.
 //!
 //! Columns (empty where a figure does not exist or does not apply; numbers at full precision,
 //! the shortest text that reads back to the same double; relative measures are fractions):
@@ -11,6 +14,9 @@
 //! | column | `quantity` row | `band_point` row |
 //! |---|---|---|
 //! | `record` | `quantity` | `band_point` |
+//!
+//! (A `file_read` or `file_written` row holds only `record` and `name`, the path.)
+//!
 //! | `sweep` | sweep name for breakdown and reference rows | sweep name |
 //! | `name` | quantity name | band response |
 //! | `unit` | quantity unit | – |
@@ -171,6 +177,16 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
             }
         }
     }
+    let files = |kind: &str, paths: &[String], out: &mut Vec<Vec<String>>| {
+        for path in paths {
+            let mut row = vec![String::new(); COLUMNS.len() + 2];
+            row[0] = kind.into();
+            row[2] = path.clone();
+            out.push(row);
+        }
+    };
+    files("file_read", &a.files_read, &mut out);
+    files("file_written", &a.files_written, &mut out);
     out
 }
 
@@ -229,7 +245,13 @@ mod tests {
         let band = a.sweeps[0].band.as_ref().expect("band");
         let points = rows.iter().filter(|r| &r[0] == "band_point").count();
         assert_eq!(points, band.points.len());
-        assert_eq!(rows.len(), quantities.len() + points);
+        let read: Vec<&str> = rows
+            .iter()
+            .filter(|r| &r[0] == "file_read")
+            .map(|r| r.get(2).unwrap_or(""))
+            .collect();
+        assert_eq!(read, ["demo.yaml"]);
+        assert_eq!(rows.len(), quantities.len() + points + read.len());
     }
 
     #[test]

@@ -599,9 +599,26 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
     let mut out = vec![
         Block::Heading(1, a.title.clone()),
         Block::Paragraph(vec![text("Study file: "), Span::Code(a.study.clone())]),
-        Block::Heading(2, "Meshes".into()),
-        Block::Table(meshes_table(a)),
     ];
+    // Every file the study made meshbound read or write, so that a study from someone else
+    // cannot read files unnoticed.
+    for (label, paths) in [
+        ("Files read: ", a.files_read.get(1..).unwrap_or_default()),
+        ("Files written: ", &a.files_written[..]),
+    ] {
+        if !paths.is_empty() {
+            let mut spans = vec![text(label)];
+            for (i, p) in paths.iter().enumerate() {
+                if i > 0 {
+                    spans.push(text(", "));
+                }
+                spans.push(Span::Code(p.clone()));
+            }
+            out.push(Block::Paragraph(spans));
+        }
+    }
+    out.push(Block::Heading(2, "Meshes".into()));
+    out.push(Block::Table(meshes_table(a)));
     if !a.quantities.is_empty() {
         out.push(Block::Heading(2, "Results".into()));
         let items = a
