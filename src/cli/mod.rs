@@ -7,6 +7,7 @@ pub mod assess;
 pub mod batch;
 pub mod draft;
 pub mod gate;
+pub mod interrupt;
 pub mod manual;
 pub mod plan;
 pub mod report;
@@ -71,6 +72,7 @@ pub enum Command {
 
 /// Runs the parsed command line.
 pub fn run(cli: Cli) -> Result<(), Failure> {
+    interrupt::install();
     match cli.command {
         Command::Assess(a) => assess::run(a),
         Command::Water(a) => water::run(a),

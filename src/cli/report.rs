@@ -2,10 +2,19 @@
 //! figures linked, one SVG file per figure, and `report.html` with the figures inline.
 //!
 //! The folder appears whole or not at all: everything is written into a temporary folder
-//! beside DIR (same parent, so the last step is a rename on one file system), which is then
-//! renamed to DIR. An existing DIR is refused unless `--replace` is given; then the old folder
-//! is renamed aside, the new one renamed in, and only then the old one deleted (it is put back
-//! when the new one cannot be renamed in).
+//! beside DIR (hidden, same parent, so the last step is a rename on one file system, named
+//! `.DIR.meshbound-…`), which is then renamed to DIR. An existing DIR is refused unless
+//! `--replace` is given; then the two folders are swapped in one step where the system offers
+//! it (Linux `renameat2` with `RENAME_EXCHANGE`: DIR always names a whole report, the old or
+//! the new one) and the old one deleted; elsewhere the old folder is renamed aside
+//! (`.DIR.meshbound-old-…`), the new one renamed in, and only then the old one deleted (it is
+//! put back when the new one cannot be renamed in).
+//!
+//! On SIGINT, SIGTERM or SIGHUP the handler ([`super::interrupt`]) waits for a file being
+//! written or a rename in progress, deletes the temporary folder and ends the process: DIR is
+//! then absent (or the old one, untouched) or whole. SIGKILL cannot be handled: the temporary
+//! folder may then stay beside DIR, hidden and recognisable by its name, but DIR itself is
+//! still absent, old or whole.
 
 use super::Failure;
 use crate::assess::Assessment;
@@ -215,19 +224,33 @@ pub fn install(
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => false,
         Err(e) => return Err(output("cannot look at", dir, e)),
     };
-    // Dropping `tmp` on any early return deletes it with everything written so far.
+    // Dropping `tmp` on any early return deletes it with everything written so far; while it
+    // exists it is registered for deletion on SIGINT, SIGTERM and SIGHUP (crate::output).
     let tmp = tempfile::Builder::new()
         .prefix(&format!(".{name}.meshbound-"))
         .tempdir_in(parent)
         .map_err(|e| output("cannot create a temporary folder in", parent, e))?;
+    let _pending = crate::output::Pending::new(tmp.path());
     for (file, bytes) in files {
         let p = tmp.path().join(file);
+        let _hold = crate::output::hold();
         write_file(&p, bytes).map_err(|e| output("cannot write", &p, e))?;
     }
+    // From here to the end the interruption handler waits: the renames are never cut halfway.
+    let _hold = crate::output::hold();
     if !exists {
         std::fs::rename(tmp.path(), dir).map_err(|e| output("cannot create", dir, e))?;
         let _ = tmp.keep();
         return Ok(None);
+    }
+    // Where the system can, swap the two folders in one step: DIR always names a whole report.
+    if exchange(tmp.path(), dir).is_ok() {
+        // The temporary path now holds the old report.
+        let old = tmp.path().to_path_buf();
+        return Ok(match tmp.close() {
+            Ok(()) => None,
+            Err(_) => Some(old),
+        });
     }
     let old = aside(parent, &name)?;
     std::fs::rename(dir, &old).map_err(|e| output("cannot move aside", dir, e))?;
@@ -251,6 +274,21 @@ pub fn install(
         Ok(()) => None,
         Err(_) => Some(old),
     })
+}
+
+/// Swaps two paths in one step (Linux `renameat2` with `RENAME_EXCHANGE`); an error where the
+/// system or the file system does not offer it.
+fn exchange(a: &Path, b: &Path) -> std::io::Result<()> {
+    #[cfg(target_os = "linux")]
+    {
+        use rustix::fs::{renameat_with, RenameFlags, CWD};
+        renameat_with(CWD, a, CWD, b, RenameFlags::EXCHANGE).map_err(std::io::Error::from)
+    }
+    #[cfg(not(target_os = "linux"))]
+    {
+        let _ = (a, b);
+        Err(std::io::Error::from(std::io::ErrorKind::Unsupported))
+    }
 }
 
 /// Runs `report`.

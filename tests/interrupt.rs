@@ -1,0 +1,240 @@
+//! `report --out DIR` interrupted part-way, through the real binary: SIGINT, SIGTERM and
+//! SIGKILL sent while the report's files are being written (the hidden temporary folder beside
+//! DIR exists) and at several moments of the run. DIR must then be absent or whole (with
+//! `--replace`: the old folder untouched, or the new one whole), never half-written; SIGINT and
+//! SIGTERM must leave no temporary folder; SIGKILL may leave one, hidden beside DIR and named
+//! `.DIR.meshbound-…`. The study has many quantities (one figure each), so that writing the
+//! folder takes a moment (invented demo numbers: a format test, no check values).
+#![cfg(unix)]
+
+mod common;
+
+use common::*;
+use std::collections::BTreeMap;
+use std::os::unix::process::ExitStatusExt;
+use std::path::Path;
+use std::process::{Command, Stdio};
+use std::time::{Duration, Instant};
+
+/// A study of `n` quantities on three meshes.
+fn study(n: usize) -> String {
+    let mut s = String::from(
+        "format: 1\ntitle: interrupted report (format test)\nmeshes:\n  - {name: L1, size: 1}\n  - {name: L2, size: 1.5}\n  - {name: L3, size: 2.25}\nquantities:\n",
+    );
+    for i in 0..n {
+        let c = 0.01 * (1 + i % 17) as f64;
+        let v: Vec<f64> = [1.0f64, 1.5, 2.25]
+            .iter()
+            .map(|h| 1.0 + c * h * h)
+            .collect();
+        s.push_str(&format!(
+            "  q{i}: {{values: {{L1: {}, L2: {}, L3: {}}}}}\n",
+            v[0], v[1], v[2]
+        ));
+    }
+    s
+}
+
+/// Every file of a folder, name and bytes.
+fn contents(dir: &Path) -> BTreeMap<String, Vec<u8>> {
+    std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| {
+            let e = e.unwrap();
+            (
+                e.file_name().to_string_lossy().into_owned(),
+                std::fs::read(e.path()).unwrap(),
+            )
+        })
+        .collect()
+}
+
+/// The old report that `--replace` runs start from.
+fn old_report() -> BTreeMap<String, Vec<u8>> {
+    [("old.md".to_string(), b"the old report".to_vec())].into()
+}
+
+/// Names in the work folder other than the study and the reference report.
+fn others(w: &Workdir) -> Vec<String> {
+    w.files()
+        .into_iter()
+        .filter(|n| n != "s.yaml" && n != "ref")
+        .collect()
+}
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum When {
+    /// As soon as the temporary folder is seen.
+    Writing,
+    /// After this long.
+    After(Duration),
+}
+
+/// Runs `report s.yaml --out rep` (with `--replace` over an old report when `replace`), sends
+/// `signal` at `when`, and checks what is left. Returns whether the signal ended the run.
+fn interrupt(
+    w: &Workdir,
+    whole: &BTreeMap<String, Vec<u8>>,
+    signal: &str,
+    when: When,
+    replace: bool,
+) -> bool {
+    let rep = w.path().join("rep");
+    let _ = std::fs::remove_dir_all(&rep);
+    if replace {
+        std::fs::create_dir(&rep).unwrap();
+        for (n, b) in old_report() {
+            std::fs::write(rep.join(n), b).unwrap();
+        }
+    }
+    let mut args = vec!["report", "s.yaml", "--out", "rep"];
+    if replace {
+        args.push("--replace");
+    }
+    let mut child = Command::new(env!("CARGO_BIN_EXE_meshbound"))
+        .args(&args)
+        .current_dir(w.path())
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let start = Instant::now();
+    let deadline = start + Duration::from_secs(120);
+    loop {
+        if child.try_wait().unwrap().is_some() {
+            break;
+        }
+        let due = match when {
+            When::Writing => others(w)
+                .iter()
+                .any(|n| n.starts_with(".rep.meshbound-") && !n.contains("-old-")),
+            When::After(d) => start.elapsed() >= d,
+        };
+        if due {
+            let pid = child.id().to_string();
+            let sent = Command::new("kill")
+                .args(["-s", signal, &pid])
+                .status()
+                .unwrap();
+            assert!(sent.success(), "kill -s {signal} {pid}");
+            break;
+        }
+        assert!(Instant::now() < deadline, "the report took too long");
+        std::thread::sleep(Duration::from_micros(200));
+    }
+    let o = child.wait_with_output().unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    let what = format!("{signal} {when:?} replace={replace}: {:?}\n{err}", o.status);
+    let interrupted = o.status.code().is_none();
+    if !interrupted {
+        assert_eq!(o.status.code(), Some(0), "{what}");
+    }
+    // DIR: absent or whole; with --replace the old one untouched or the new one whole.
+    let state = if rep.exists() {
+        Some(contents(&rep))
+    } else {
+        None
+    };
+    match (&state, replace) {
+        (None, false) => assert!(interrupted, "{what}: finished without a report"),
+        (None, true) => panic!("{what}: the old report is gone and no new one is in place"),
+        (Some(c), false) => assert!(c == whole, "{what}: a half-written report"),
+        (Some(c), true) => assert!(
+            c == whole || *c == old_report(),
+            "{what}: neither the old nor the whole new report ({} files)",
+            c.len()
+        ),
+    }
+    // Leftovers beside DIR.
+    let left: Vec<String> = others(w).into_iter().filter(|n| n != "rep").collect();
+    if signal == "KILL" {
+        for n in &left {
+            assert!(
+                n.starts_with(".rep.meshbound-") && w.path().join(n).is_dir(),
+                "{what}: `{n}` left beside the report"
+            );
+        }
+    } else {
+        assert!(left.is_empty(), "{what}: left behind: {left:?}");
+        if interrupted {
+            let name = format!("SIG{signal}");
+            assert_eq!(
+                o.status.signal().map(|s| s.to_string()),
+                Some(number(signal)),
+                "{what}"
+            );
+            // Once the temporary folder exists the handler is installed and says so (a signal
+            // at the very start may come before it is).
+            if when == When::Writing {
+                assert!(err.contains(&format!("interrupted ({name})")), "{what}");
+            }
+        }
+    }
+    for n in &left {
+        let _ = std::fs::remove_dir_all(w.path().join(n));
+    }
+    interrupted
+}
+
+/// The signal's number (as `kill -l` gives it).
+fn number(signal: &str) -> String {
+    let o = Command::new("kill").args(["-l", signal]).output().unwrap();
+    let n = String::from_utf8_lossy(&o.stdout).trim().to_string();
+    if n.is_empty() {
+        match signal {
+            "INT" => "2",
+            "TERM" => "15",
+            _ => "9",
+        }
+        .to_string()
+    } else {
+        n
+    }
+}
+
+#[test]
+fn an_interrupted_report_leaves_no_half_written_folder() {
+    let w = Workdir::new();
+    w.write("s.yaml", &study(300));
+    // The whole report, for comparison, and how long a run takes.
+    let t = Instant::now();
+    let o = run_in(w.path(), &["report", "s.yaml", "--out", "ref"]);
+    let took = t.elapsed();
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let whole = contents(&w.path().join("ref"));
+    assert_eq!(whole.len(), 302, "report.md, report.html and 300 figures");
+    for signal in ["INT", "TERM", "KILL"] {
+        for replace in [false, true] {
+            // While the files are being written: it must happen at least once in a few tries
+            // (the run may finish between seeing the folder and the signal).
+            let hits = (0..5)
+                .filter(|_| interrupt(&w, &whole, signal, When::Writing, replace))
+                .count();
+            assert!(hits > 0, "{signal}: never interrupted while writing");
+            eprintln!("{signal} replace={replace}: interrupted while writing in {hits} of 5 runs");
+            // And at moments spread over a run.
+            for k in 0..4 {
+                interrupt(&w, &whole, signal, When::After(took * k / 4), replace);
+            }
+        }
+    }
+}
+
+#[test]
+fn an_existing_folder_is_refused_without_replace() {
+    let w = Workdir::new();
+    w.write("s.yaml", &study(3));
+    std::fs::create_dir(w.path().join("rep")).unwrap();
+    std::fs::write(w.path().join("rep/old.md"), "the old report").unwrap();
+    let o = run_in(w.path(), &["report", "s.yaml", "--out", "rep"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("rep exists: give --replace"));
+    assert_eq!(contents(&w.path().join("rep")), old_report());
+    assert_eq!(w.files(), ["rep", "s.yaml"]);
+    // With --replace: the new report whole, the old one gone, nothing beside.
+    let o = run_in(w.path(), &["report", "s.yaml", "--out", "rep", "--replace"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    assert!(w.path().join("rep/report.html").exists());
+    assert!(!w.path().join("rep/old.md").exists());
+    assert_eq!(w.files(), ["rep", "s.yaml"]);
+}
