@@ -458,7 +458,8 @@ fn every_output_names_the_files_the_study_read() {
     assert_eq!(of_kind("file_written"), [WRITTEN]);
     // The gate report: per study, in both formats.
     let o = run_in(w.path(), &["gate", "case/s.yaml", "-f", "json"]);
-    let g: serde_json::Value = serde_json::from_slice(&o.stdout).expect(&show(&o));
+    let g: serde_json::Value =
+        serde_json::from_slice(&o.stdout).unwrap_or_else(|_| panic!("{}", show(&o)));
     assert_eq!(g["files"][0]["study"], "case/s.yaml");
     assert_eq!(g["files"][0]["read"], serde_json::json!(read));
     assert_eq!(g["files"][0]["written"], serde_json::json!([WRITTEN]));
