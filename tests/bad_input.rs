@@ -275,6 +275,11 @@ fn hostile_inputs_are_refused_quickly() {
     w.write("bomb.yaml", &s);
     let o = run_in(w.path(), &["assess", "bomb.yaml"]);
     assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(
+        String::from_utf8_lossy(&o.stderr).contains("aliases (`*name`) expand the document"),
+        "{}",
+        show(&o)
+    );
     // Not UTF-8.
     std::fs::write(w.path().join("bin.yaml"), [0xff, 0xfe, 0x00, 0x41]).unwrap();
     let o = run_in(w.path(), &["assess", "bin.yaml"]);
