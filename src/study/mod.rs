@@ -826,4 +826,35 @@ mod tests {
         assert_eq!(e.key, "format");
         assert!(e.message.contains("newer"), "{e}");
     }
+
+    #[test]
+    fn separators_and_aliases_are_counted_outside_quotes_and_comments() {
+        let path = Path::new("s.yaml");
+        let shape = check_shape("a: [1, 2, 3]\n# x, y, *z\nb: '*q, r'\n\n", path).unwrap();
+        // `: `, `[`, two commas and the line end of line 1; `: ` and the line end of line 3.
+        assert_eq!(shape.separators, 7);
+        assert!(!shape.aliases);
+        assert!(check_shape("a: &x 1\nb: *x\n", path).unwrap().aliases);
+        let many = format!("a: [{}1]\n", "1,".repeat(MAX_ITEMS));
+        let e = check_shape(&many, path).unwrap_err();
+        assert_eq!(e.line, Some(1));
+        assert!(e.message.contains("more than 1000000 YAML items"), "{e}");
+    }
+
+    #[test]
+    fn alias_expansion_is_counted_without_keeping_it() {
+        let path = Path::new("s.yaml");
+        // 1 000 items named 2 000 times: two million after expansion.
+        let mut bomb = format!("a: &l [{}]\n", vec!["0"; 1000].join(", "));
+        for i in 0..2000 {
+            bomb.push_str(&format!("b{i}: *l\n"));
+        }
+        let e = check_expansion(&bomb, path).unwrap_err();
+        assert!(e.message.contains("alias-expansion bomb"), "{e}");
+        assert_eq!(e.line, Some(1), "the repeated item is on line 1");
+        // A few aliases pass, and YAML errors are left to the reading proper.
+        assert!(check_expansion("a: &l [1, 2]\nb: *l\nc: !t {d: *l}\n", path).is_ok());
+        assert!(check_expansion("a: *undefined\n", path).is_ok());
+        assert!(check_expansion("a: [\n", path).is_ok());
+    }
 }
