@@ -504,3 +504,149 @@ fn every_output_names_the_files_the_study_read() {
         assert!(at("case/measured/m.csv") < at("efficiency"), "{what}");
     }
 }
+
+/// The study of the `sweep_csv` fuzz target (its mesh A reads `a.csv`).
+const FUZZ_SWEEP_STUDY: &str = "format: 1
+meshes:
+  - {name: A, size: 1.0}
+  - {name: B, size: 1.5}
+  - {name: C, size: 2.25}
+sweeps:
+  s:
+    x: sigma
+    responses: [efficiency]
+    data:
+      A: {file: a.csv}
+      B: {sigma: [0.1, 0.2, 0.3, 0.4], efficiency: [0.8, 0.88, 0.9, 0.9]}
+      C: {sigma: [0.1, 0.2, 0.3, 0.4], efficiency: [0.78, 0.87, 0.89, 0.89]}
+    breakdown:
+      - {response: efficiency, drop: 1%, reference: highest}
+    band: {response: efficiency}
+";
+
+/// Runs `f` on another thread and fails if it takes longer than `limit` (a hang) or panics.
+fn within<T: Send + 'static>(
+    what: &str,
+    limit: Duration,
+    f: impl FnOnce() -> T + Send + 'static,
+) -> T {
+    let (tx, rx) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        let _ = tx.send(f());
+    });
+    match rx.recv_timeout(limit) {
+        Ok(v) => v,
+        Err(std::sync::mpsc::RecvTimeoutError::Timeout) => {
+            panic!("{what}: still running after {limit:?}")
+        }
+        Err(_) => panic!("{what}: panicked"),
+    }
+}
+
+/// The inputs the fuzz targets reported (`fuzz/fuzz_targets/`, kept in `tests/fuzz_inputs/`),
+/// run the way each target runs them: each must end, quickly, with a result or an error.
+/// (All five were timeouts that did not happen again when run alone: see the fuzzing notes.)
+#[test]
+fn inputs_found_by_fuzzing_end_quickly() {
+    let dir = root().join("tests/fuzz_inputs");
+    let inputs = |target: &str| -> Vec<(String, Vec<u8>)> {
+        let mut v: Vec<(String, Vec<u8>)> = std::fs::read_dir(dir.join(target))
+            .unwrap()
+            .map(|e| {
+                let p = e.unwrap().path();
+                (p.display().to_string(), std::fs::read(&p).unwrap())
+            })
+            .collect();
+        v.sort();
+        v
+    };
+    let limit = Duration::from_secs(30);
+    let mut ran = 0;
+    // study_reader: the bytes as a study, assessed and exported.
+    for (name, data) in inputs("study_reader") {
+        within(&name, limit, move || {
+            if let Ok(text) = std::str::from_utf8(&data) {
+                if let Ok(study) = meshbound::study::parse(text, Path::new("fuzz.yaml")) {
+                    if let Ok(a) = meshbound::assess::run(&study) {
+                        use meshbound::report::Exporter;
+                        let _ = meshbound::report::json::Json.export(&a);
+                        let _ = meshbound::report::table::Table.export(&a);
+                    }
+                }
+            }
+        });
+        ran += 1;
+    }
+    // sweep_csv: the bytes as the finest mesh's sweep CSV, in the target's study.
+    for (name, data) in inputs("sweep_csv") {
+        within(&name, limit, move || {
+            let w = Workdir::new();
+            std::fs::write(w.path().join("a.csv"), &data).unwrap();
+            if let Ok(s) = meshbound::study::parse(FUZZ_SWEEP_STUDY, &w.path().join("s.yaml")) {
+                let _ = meshbound::assess::run(&s);
+            }
+        });
+        ran += 1;
+    }
+    // field_reader: a configuration byte, then three probe files split at 0xFF bytes (a
+    // missing one repeats the one before), tiny chunks and blocks, without and with the
+    // per-point file.
+    for (name, data) in inputs("field_reader") {
+        within(&name, limit, move || {
+            use meshbound::estimate::three_grid::ThreeGridSettings;
+            use meshbound::field::{assess_field_with, FieldOptions, FieldSpec};
+            let Some((&config, rest)) = data.split_first() else {
+                return;
+            };
+            let mut parts: Vec<&[u8]> = rest.splitn(3, |&b| b == 0xFF).collect();
+            while parts.len() < 3 {
+                parts.push(parts[parts.len() - 1]);
+            }
+            let w = Workdir::new();
+            let files: Vec<std::path::PathBuf> = parts
+                .iter()
+                .enumerate()
+                .map(|(i, t)| {
+                    let p = w.path().join(format!("L{}.csv", i + 1));
+                    std::fs::write(&p, t).unwrap();
+                    p
+                })
+                .collect();
+            let first = parts[0].split(|&b| b == b'\n').next().unwrap_or(&[]);
+            let first = String::from_utf8_lossy(first);
+            let header_id = first.split(',').next().unwrap_or("").trim().to_string();
+            let mut columns: Vec<String> = Vec::new();
+            for c in first.split(',').skip(1).map(|s| s.trim().trim_matches('"')) {
+                if !c.is_empty() && c != "id" && c != header_id && !columns.iter().any(|x| x == c) {
+                    columns.push(c.to_string());
+                }
+                if columns.len() == 4 {
+                    break;
+                }
+            }
+            if columns.is_empty() {
+                columns.push("q".into());
+            }
+            let id = (config & 0x80 != 0 && !header_id.is_empty()).then_some(header_id);
+            let opts = FieldOptions {
+                chunk_rows: 1 + usize::from(config & 0x07),
+                block_bytes: 1 + 7 * usize::from((config >> 3) & 0x0F),
+            };
+            let mut spec = FieldSpec {
+                name: "fuzz".into(),
+                id,
+                columns,
+                files,
+                write: None,
+            };
+            let h = [1.0, 1.3, 1.69];
+            let s = ThreeGridSettings::default();
+            let a = assess_field_with(&spec, h, &s, &opts).is_ok();
+            spec.write = Some(w.path().join("points.csv"));
+            let b = assess_field_with(&spec, h, &s, &opts).is_ok();
+            assert_eq!(a, b, "writing the per-point file changed the outcome");
+        });
+        ran += 1;
+    }
+    assert_eq!(ran, 5, "the kept inputs");
+}
