@@ -71,7 +71,9 @@
 //! Numerical uncertainty is not model-test acceptance: defer to the applicable test codes and
 //! licensed engineering judgment.
 
-use crate::estimate::three_grid::{self, Governing, ThreeGridSettings};
+use crate::estimate::three_grid::{
+    self, Governing, ThreeGridSettings, ROUNDOFF_ULPS, SCAN_LO, SCAN_STEPS,
+};
 use crate::estimate::{Convergence, EstimateError};
 use crate::warning::Warning;
 use rayon::prelude::*;
@@ -96,15 +98,8 @@ pub const MAX_RECORD_BYTES: usize = 64 << 20;
 const READ_AHEAD: usize = 8;
 /// Formatted chunks the writer thread may hold ready.
 const WRITE_AHEAD: usize = 16;
-/// Same threshold as `three_grid::estimate`: differences at or below this many ulps of the
-/// values' magnitude are round-off and count as zero.
-const ROUNDOFF_ULPS: f64 = 16.0;
-/// The general solver's search: lower end and number of scan steps (see
-/// `three_grid::observed_order`).
-const SCAN_LO: f64 = 1e-6;
-const SCAN_STEPS: usize = 400;
 /// Intervals of the inverse-order table.
-const TABLE_INTERVALS: usize = 65536;
+const TABLE_INTERVALS: usize = 4096;
 
 /// One field of probes to assess: the plain form the study reader fills in.
 #[derive(Debug, Clone, PartialEq)]
