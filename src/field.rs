@@ -86,9 +86,9 @@ use std::sync::mpsc::{sync_channel, Receiver, SyncSender};
 use std::sync::Arc;
 
 /// Rows per parallel chunk by default.
-pub const DEFAULT_CHUNK_ROWS: usize = 16_384;
+pub const DEFAULT_CHUNK_ROWS: usize = 4_096;
 /// Bytes per raw read block by default.
-pub const DEFAULT_BLOCK_BYTES: usize = 1 << 20;
+pub const DEFAULT_BLOCK_BYTES: usize = 256 << 10;
 /// Bins of the order histogram behind the median (over `(0, order_max]`).
 pub const ORDER_BINS: usize = 20_000;
 /// Longest record accepted, in bytes (a longer one is almost surely an unbalanced quote).
@@ -1144,6 +1144,9 @@ struct Rows {
     /// Line of each row; empty when row `i` stands on line `first_line + i` (no blank lines).
     lines: Vec<u64>,
     first_line: u64,
+    /// Every id is plain (read by the one-pass parser: no quote, separator, line end or outer
+    /// blank), so it is written back without the check for quoting.
+    plain_ids: bool,
 }
 
 impl Rows {
@@ -1157,6 +1160,7 @@ impl Rows {
             values: Vec::with_capacity(rows * ncols),
             lines: Vec::new(),
             first_line: 0,
+            plain_ids: false,
         }
     }
 
@@ -1182,6 +1186,7 @@ impl Rows {
         self.values.clear();
         self.lines.clear();
         self.first_line = 0;
+        self.plain_ids = false;
     }
 
     fn id(&self, i: usize) -> &[u8] {
@@ -1454,6 +1459,7 @@ fn parse_block(layout: &Layout, block: &RawBlock, pool: &RowsPool) -> Result<Row
     if !block.quoted {
         let mut rows = pooled_rows(pool, ncols, block.newlines + 1);
         if parse_fast(layout, block, &mut rows) {
+            rows.plain_ids = true;
             return Ok(rows);
         }
         rows.reset(ncols);
@@ -1628,8 +1634,11 @@ struct ColumnAcc {
     classes: ClassCounts,
     order_n: u64,
     order_sum: f64,
+    /// Count and sum of the orders in each histogram bin (the field's accumulator only).
     hist_n: Vec<u64>,
     hist_sum: Vec<f64>,
+    /// Orders of a chunk, not yet binned.
+    orders: Vec<f64>,
     rel_n: u64,
     rel_sum: f64,
     rel_max: f64,
@@ -1638,7 +1647,9 @@ struct ColumnAcc {
 }
 
 impl ColumnAcc {
-    fn add(&mut self, e: &PointEstimate, phi1: f64, bin_scale: f64) {
+    /// Adds one point. Its order is kept in `orders` until [`ColumnAcc::merge`] bins it, so that
+    /// a chunk's accumulator stays small (no histogram per chunk).
+    fn add(&mut self, e: &PointEstimate, phi1: f64) {
         match e.convergence {
             Convergence::Monotonic => self.classes.monotonic += 1,
             Convergence::Oscillatory => self.classes.oscillatory += 1,
@@ -1653,13 +1664,7 @@ impl ColumnAcc {
         if let Some(p) = e.observed_order {
             self.order_n += 1;
             self.order_sum += p;
-            if self.hist_n.is_empty() {
-                self.hist_n = vec![0; ORDER_BINS];
-                self.hist_sum = vec![0.0; ORDER_BINS];
-            }
-            let k = ((p * bin_scale) as usize).min(ORDER_BINS - 1);
-            self.hist_n[k] += 1;
-            self.hist_sum[k] += p;
+            self.orders.push(p);
         }
         if let Some(u) = e.uncertainty {
             if phi1 != 0.0 {
@@ -1673,25 +1678,22 @@ impl ColumnAcc {
         }
     }
 
-    fn merge(&mut self, o: &ColumnAcc) {
+    /// Adds a chunk's figures and bins its orders (`bin_scale` bins per unit of order).
+    fn merge(&mut self, o: &ColumnAcc, bin_scale: f64) {
         self.classes.monotonic += o.classes.monotonic;
         self.classes.oscillatory += o.classes.oscillatory;
         self.classes.divergent += o.classes.divergent;
         self.classes.no_change += o.classes.no_change;
         self.order_n += o.order_n;
         self.order_sum += o.order_sum;
-        if !o.hist_n.is_empty() {
-            if self.hist_n.is_empty() {
-                self.hist_n = o.hist_n.clone();
-                self.hist_sum = o.hist_sum.clone();
-            } else {
-                for (a, b) in self.hist_n.iter_mut().zip(&o.hist_n) {
-                    *a += b;
-                }
-                for (a, b) in self.hist_sum.iter_mut().zip(&o.hist_sum) {
-                    *a += b;
-                }
-            }
+        if !o.orders.is_empty() && self.hist_n.is_empty() {
+            self.hist_n = vec![0; ORDER_BINS];
+            self.hist_sum = vec![0.0; ORDER_BINS];
+        }
+        for &p in &o.orders {
+            let k = ((p * bin_scale) as usize).min(ORDER_BINS - 1);
+            self.hist_n[k] += 1;
+            self.hist_sum[k] += p;
         }
         self.rel_n += o.rel_n;
         self.rel_sum += o.rel_sum;
@@ -1782,6 +1784,12 @@ fn push_opt(buf: &mut Vec<u8>, v: Option<f64>) {
     }
 }
 
+/// Whether two ids are equal: a byte loop, cheaper than a `memcmp` call for ids of a few bytes.
+#[inline]
+fn same_id(a: &[u8], b: &[u8]) -> bool {
+    a.len() == b.len() && a.iter().zip(b).all(|(x, y)| x == y)
+}
+
 /// Appends one CSV field, quoted when it needs to be.
 fn push_field(buf: &mut Vec<u8>, text: &[u8]) {
     let needs = text
@@ -1853,10 +1861,14 @@ fn compute_chunk(
     chunk: &[Vec<Segment>; 3],
     ncols: usize,
     write: Option<&Pool>,
-    bin_scale: f64,
 ) -> Result<Computed, FieldError> {
     let n: usize = chunk[0].iter().map(|s| s.2 - s.1).sum();
-    let mut accs = vec![ColumnAcc::default(); ncols];
+    let mut accs: Vec<ColumnAcc> = (0..ncols)
+        .map(|_| ColumnAcc {
+            orders: Vec::with_capacity(n),
+            ..ColumnAcc::default()
+        })
+        .collect();
     let mut buf = match write {
         Some(pool) => pooled(pool, out_bound(&chunk[0], ncols)),
         None => Vec::new(),
@@ -1875,7 +1887,7 @@ fn compute_chunk(
         };
         let id = b0.id(i0);
         for (f, (b, i)) in [(1, (b1, i1)), (2, (b2, i2))] {
-            if b.id(i) != id {
+            if !same_id(b.id(i), id) {
                 let l = &layouts[f];
                 return Err(FieldError::IdMismatch(Box::new(IdMismatch {
                     path: l.path.clone(),
@@ -1889,12 +1901,16 @@ fn compute_chunk(
             }
         }
         if write {
-            push_field(&mut buf, id);
+            if b0.plain_ids {
+                buf.extend_from_slice(id);
+            } else {
+                push_field(&mut buf, id);
+            }
         }
         for (c, acc) in accs.iter_mut().enumerate() {
             let phi = [b0.value(i0, c), b1.value(i1, c), b2.value(i2, c)];
             let e = fast.estimate(phi);
-            acc.add(&e, phi[0], bin_scale);
+            acc.add(&e, phi[0]);
             if write {
                 buf.push(b',');
                 match b0.text(i0, c) {
@@ -2193,7 +2209,8 @@ pub fn assess_field_with(
 
     let bin_scale = ORDER_BINS as f64 / fast.order_cap();
     let chunk_rows = opts.chunk_rows;
-    let round_rows = chunk_rows.saturating_mul(2 * rayon::current_num_threads().max(1));
+    // Rounds of eight chunks per thread: small tasks keep both cores busy to a round's end.
+    let round_rows = chunk_rows.saturating_mul(8 * rayon::current_num_threads().max(1));
 
     let pool: Pool = std::sync::Mutex::new(Vec::new());
     let (result, written) = std::thread::scope(|scope| {
@@ -2333,7 +2350,7 @@ fn drive(
             || {
                 chunks
                     .par_iter()
-                    .map(|c| compute_chunk(fast, layouts, c, ncols, write, bin_scale))
+                    .map(|c| compute_chunk(fast, layouts, c, ncols, write))
                     .collect::<Vec<_>>()
             },
         );
@@ -2342,7 +2359,7 @@ fn drive(
         for c in computed {
             let c = c?;
             for (acc, part) in accs.iter_mut().zip(&c.accs) {
-                acc.merge(part);
+                acc.merge(part, bin_scale);
             }
             if let Some(tx) = wtx {
                 tx.send(c.bytes).map_err(|_| gone())?;
@@ -3173,8 +3190,10 @@ mod tests {
         let mut b = Vec::new();
         push_opt(&mut b, e.uncertainty);
         assert!(b.is_empty());
+        let mut part = ColumnAcc::default();
+        part.add(&e, phi[0]);
         let mut acc = ColumnAcc::default();
-        acc.add(&e, phi[0], 1.0);
+        acc.merge(&part, 1.0);
         let c = acc.finish("cp");
         assert_eq!(c.mean_relative, None);
         assert!(serde_json::to_string(&c)
