@@ -151,8 +151,8 @@ pub fn observed_order(
         s: e_ratio.signum(),
     };
     // Scan for the first sign change, then refine it with Brent's method.
-    const STEPS: usize = 400;
-    let lo = 1e-6_f64;
+    const STEPS: usize = SCAN_STEPS;
+    let lo = SCAN_LO;
     let hi = order_max.max(lo * 2.0);
     let mut a = lo;
     let mut fa = eq.residual(a);
@@ -190,8 +190,14 @@ pub fn observed_order(
     )))
 }
 
-/// Differences smaller than this many ulps of the values are round-off, not change.
-const ROUNDOFF_ULPS: f64 = 16.0;
+/// The order search: its lower end and the number of scan steps up to the order cap (shared
+/// with the streamed field estimate, which reproduces the scan's decisions).
+pub(crate) const SCAN_LO: f64 = 1e-6;
+pub(crate) const SCAN_STEPS: usize = 400;
+
+/// Differences at or below this many ulps of the values' magnitude are round-off, not change
+/// (shared with the streamed field estimate).
+pub(crate) const ROUNDOFF_ULPS: f64 = 16.0;
 
 /// Runs the three-mesh estimate. `h` and `phi` are finest first.
 pub fn estimate(
