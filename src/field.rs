@@ -2207,6 +2207,9 @@ pub fn assess_field_with(
         None => None,
     };
 
+    // An interrupt (SIGINT, SIGTERM, SIGHUP) removes the temporary file; kept until the rename.
+    let _pending = tmp.as_ref().map(|t| crate::output::Pending::new(t.path()));
+
     let bin_scale = ORDER_BINS as f64 / fast.order_cap();
     let chunk_rows = opts.chunk_rows;
     // Rounds of eight chunks per thread: small tasks keep both cores busy to a round's end.

@@ -238,3 +238,78 @@ fn an_existing_folder_is_refused_without_replace() {
     assert!(!w.path().join("rep/old.md").exists());
     assert_eq!(w.files(), ["rep", "s.yaml"]);
 }
+
+/// Names in a folder.
+fn names(dir: &Path) -> Vec<String> {
+    let mut v: Vec<String> = std::fs::read_dir(dir)
+        .map(|d| {
+            d.map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+                .collect()
+        })
+        .unwrap_or_default();
+    v.sort();
+    v
+}
+
+#[test]
+fn an_interrupted_field_run_leaves_no_temporary_file() {
+    // Three probe files of 200 000 points (invented smooth values, a format test), so that
+    // the per-point file is being written for a moment.
+    let w = Workdir::new();
+    let n = 200_000;
+    for (m, h) in [1.0f64, 1.5, 2.25].iter().enumerate() {
+        let mut s = String::from("probe,cp\n");
+        for i in 0..n {
+            let x = i as f64 / n as f64;
+            s.push_str(&format!("{i},{}\n", 1.0 + x + 0.01 * (1.0 + x) * h * h));
+        }
+        w.write(&format!("m{m}.csv"), &s);
+    }
+    w.write(
+        "s.yaml",
+        "format: 1\ntitle: interrupted field (format test)\nmeshes:\n  - {name: L1, size: 1}\n  - {name: L2, size: 1.5}\n  - {name: L3, size: 2.25}\nfields:\n  cp_probes:\n    id: probe\n    columns: [cp]\n    data: {L1: m0.csv, L2: m1.csv, L3: m2.csv}\n    write: out/points.csv\n",
+    );
+    let out = w.path().join("out");
+    let mut interrupted = 0;
+    for signal in ["INT", "TERM", "INT", "TERM", "INT", "TERM"] {
+        let _ = std::fs::remove_dir_all(&out);
+        let mut child = Command::new(env!("CARGO_BIN_EXE_meshbound"))
+            .args(["assess", "s.yaml"])
+            .current_dir(w.path())
+            .stdout(Stdio::null())
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap();
+        let deadline = Instant::now() + Duration::from_secs(120);
+        loop {
+            if child.try_wait().unwrap().is_some() {
+                break;
+            }
+            if names(&out).iter().any(|n| n.ends_with(".part")) {
+                let pid = child.id().to_string();
+                let sent = Command::new("kill")
+                    .args(["-s", signal, &pid])
+                    .status()
+                    .unwrap();
+                assert!(sent.success());
+                break;
+            }
+            assert!(Instant::now() < deadline, "the field run took too long");
+            std::thread::sleep(Duration::from_micros(200));
+        }
+        let o = child.wait_with_output().unwrap();
+        let left = names(&out);
+        if o.status.code().is_none() {
+            interrupted += 1;
+            // Killed by the signal: no temporary file and no per-point file.
+            assert!(left.is_empty(), "{signal}: left behind {left:?}");
+        } else {
+            // Finished before the signal: the whole per-point file and nothing else.
+            assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+            assert_eq!(left, ["points.csv"], "{signal}");
+            let text = std::fs::read_to_string(out.join("points.csv")).unwrap();
+            assert_eq!(text.lines().count(), n + 1);
+        }
+    }
+    assert!(interrupted > 0, "never interrupted while writing");
+}
