@@ -90,6 +90,17 @@ pub struct Uncertainty {
     pub upper: f64,
 }
 
+impl Assessment {
+    /// Name of the sweep variable of sweep `name` (`x` when no sweep has that name), the
+    /// abscissa of its comparison with measurements.
+    pub fn sweep_x(&self, name: &str) -> &str {
+        self.sweeps
+            .iter()
+            .find(|s| s.name == name)
+            .map_or("x", |s| s.x.as_str())
+    }
+}
+
 impl Uncertainty {
     /// Builds the statement from a value and an absolute uncertainty.
     pub fn new(method: Method, value: f64, absolute: f64) -> Self {

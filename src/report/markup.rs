@@ -442,11 +442,7 @@ fn comparison_blocks(
     out: &mut Vec<Block>,
 ) {
     let cm = &c.comparison;
-    let x = a
-        .sweeps
-        .iter()
-        .find(|s| s.name == c.name)
-        .map_or("x".to_string(), |s| s.x.clone());
+    let x = a.sweep_x(&c.name);
     out.push(Block::Heading(
         3,
         format!("Comparison with measurements: {}", c.name),
@@ -474,7 +470,7 @@ fn comparison_blocks(
                 .map_or(String::new(), |r| format!(" ({r})"))
         ),
         &[
-            (x.as_str(), Align::Right),
+            (x, Align::Right),
             ("S", Align::Right),
             ("D", Align::Right),
             ("E", Align::Right),

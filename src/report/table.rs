@@ -331,11 +331,7 @@ fn comparison_block(
     out: &mut String,
 ) {
     let cm = &c.comparison;
-    let x = a
-        .sweeps
-        .iter()
-        .find(|s| s.name == c.name)
-        .map_or("x".to_string(), |s| s.x.clone());
+    let x = a.sweep_x(&c.name);
     out.push_str(&format!(
         "\ncomparison with measurements: {}{} (ASME V&V 20; k = {}, u_num = U/{}){}\n",
         c.name,
@@ -351,7 +347,7 @@ fn comparison_block(
         }
     ));
     let mut t = grid(&[
-        x.as_str(),
+        x,
         "S",
         "D",
         "E = S − D",
