@@ -11,7 +11,6 @@
 #![deny(clippy::float_cmp)]
 
 pub mod assess;
-pub mod cli;
 pub mod compare;
 pub mod estimate;
 pub mod field;

@@ -1,6 +1,7 @@
 //! Exporters: each formats the one [`Assessment`] into bytes. No exporter computes a number
 //! that the assessment does not hold, and none does I/O.
 
+pub mod bundle;
 pub mod csv;
 pub mod format;
 pub mod html;
@@ -21,7 +22,7 @@ pub trait Exporter {
 }
 
 /// The output formats.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Format {
     /// Tables for people (default).
     Table,

@@ -776,6 +776,16 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
     })
 }
 
+/// The JSON Schema of the study file as pretty JSON text with a final newline (for YAML
+/// editors: completion and checking as you type; see docs/study-file.md).
+pub fn schema_text() -> String {
+    let mut schema = schemars::schema_for!(raw::RawStudy);
+    schema.insert("title".into(), "meshbound study file (format 1)".into());
+    let mut s = serde_json::to_string_pretty(&schema).unwrap_or_default();
+    s.push('\n');
+    s
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -5,9 +5,11 @@
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-/// The crate root (where `studies/` lives).
+/// The repository root (where `studies/` lives): these tests belong to the command-line crate
+/// in `cli/`, one folder below.
 pub fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+    let cli = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    cli.parent().map(Path::to_path_buf).unwrap_or(cli)
 }
 
 /// A temporary work directory that lives as long as the value.

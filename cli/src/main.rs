@@ -2,17 +2,21 @@
 //!
 //! Exit statuses: 0 done; 1 an acceptance limit was not met; 2 the input or the command line is
 //! wrong (nothing is written); 3 an output could not be written.
+//!
+//! A thin shell over the `meshbound` library: arguments, one module per subcommand, atomic
+//! output files, interrupt handling and the mapping from error kind to exit status.
 
-pub mod assess;
-pub mod batch;
-pub mod draft;
-pub mod gate;
-pub mod interrupt;
-pub mod manual;
-pub mod plan;
-pub mod report;
-pub mod schema;
-pub mod water;
+mod assess;
+mod batch;
+mod draft;
+mod gate;
+mod interrupt;
+mod manual;
+mod output;
+mod plan;
+mod report;
+mod schema;
+mod water;
 
 use clap::{Parser, Subcommand};
 
@@ -83,6 +87,19 @@ pub fn run(cli: Cli) -> Result<(), Failure> {
         Command::Completions(a) => manual::completions(a),
         Command::Manual(a) => manual::manual(a),
         Command::Report(a) => report::run(a),
+    }
+}
+
+fn main() {
+    let cli = Cli::parse();
+    if let Err(failure) = run(cli) {
+        match &failure {
+            Failure::Input(m) | Failure::Output(m) => {
+                eprintln!("error: {m}");
+            }
+            Failure::Limits => {}
+        }
+        std::process::exit(failure.status());
     }
 }
 

@@ -8,8 +8,8 @@
 
 use super::Failure;
 use crate::output::write_atomic;
-use crate::plan::{self, Target};
-use crate::report::format::{num, percent, sig};
+use meshbound::plan::{self, Target};
+use meshbound::report::format::{num, percent, sig};
 use std::path::PathBuf;
 
 /// Options of `plan`.
@@ -111,9 +111,9 @@ pub fn run(a: Args) -> Result<(), Failure> {
                     "plan STUDY needs at least one --target NAME=U".into(),
                 ));
             }
-            let study = crate::study::load(path).map_err(|e| Failure::Input(e.to_string()))?;
+            let study = meshbound::study::load(path).map_err(|e| Failure::Input(e.to_string()))?;
             let assessment =
-                crate::assess::run(&study).map_err(|e| Failure::Input(e.to_string()))?;
+                meshbound::assess::run(&study).map_err(|e| Failure::Input(e.to_string()))?;
             let dim = a.dimension.unwrap_or(study.dimension);
             let mut plans = Vec::new();
             for t in &a.target {
@@ -138,7 +138,7 @@ pub fn run(a: Args) -> Result<(), Failure> {
                             sig(p.current_absolute, 3),
                             sig(p.order, 3),
                             match p.method {
-                                crate::assess::Method::LeastSquares => "least squares",
+                                meshbound::assess::Method::LeastSquares => "least squares",
                                 _ => "three-mesh",
                             },
                             sig(p.size_ratio, 4),

@@ -2,8 +2,8 @@
 //! limit holds, 1 when any fails, 2 when a study is broken (the others are still checked).
 
 use super::{batch, Failure};
-use crate::gate::Check;
 use crate::output::write_atomic;
+use meshbound::gate::Check;
 use serde::Serialize;
 use std::path::PathBuf;
 
@@ -69,9 +69,9 @@ pub struct StudyFiles {
 }
 
 fn gate_one(path: &std::path::Path) -> Result<(Vec<Check>, StudyFiles), String> {
-    let study = crate::study::load(path).map_err(|e| e.to_string())?;
-    let a = crate::assess::run(&study).map_err(|e| e.to_string())?;
-    let checks = crate::gate::check(&a, &study.acceptance)
+    let study = meshbound::study::load(path).map_err(|e| e.to_string())?;
+    let a = meshbound::assess::run(&study).map_err(|e| e.to_string())?;
+    let checks = meshbound::gate::check(&a, &study.acceptance)
         .map_err(|e| format!("{}: {e}", path.display()))?;
     Ok((
         checks,
@@ -131,7 +131,7 @@ pub fn run(args: Args) -> Result<(), Failure> {
                     serde_json::Value::String(x) => x.clone(),
                     serde_json::Value::Number(n) => n
                         .as_f64()
-                        .map_or_else(|| n.to_string(), |x| crate::report::format::sig(x, 5)),
+                        .map_or_else(|| n.to_string(), |x| meshbound::report::format::sig(x, 5)),
                     v => v.to_string(),
                 };
                 s.push_str(&format!(

@@ -4,7 +4,7 @@
 
 use super::{batch, Failure};
 use crate::output::write_atomic;
-use crate::report::Format;
+use meshbound::report::Format;
 use std::path::PathBuf;
 
 /// Output formats of `assess`.
@@ -52,9 +52,9 @@ pub struct Args {
 }
 
 /// Reads, checks and assesses one study.
-pub fn assess_one(path: &std::path::Path) -> Result<crate::assess::Assessment, String> {
-    let study = crate::study::load(path).map_err(|e| e.to_string())?;
-    crate::assess::run(&study).map_err(|e| e.to_string())
+pub fn assess_one(path: &std::path::Path) -> Result<meshbound::assess::Assessment, String> {
+    let study = meshbound::study::load(path).map_err(|e| e.to_string())?;
+    meshbound::assess::run(&study).map_err(|e| e.to_string())
 }
 
 /// Runs `assess`.
@@ -69,14 +69,16 @@ pub fn run(args: Args) -> Result<(), Failure> {
     if paths.len() == 1 {
         // One study: its output or its error, nothing partial.
         drop(results);
-        let study = crate::study::load(&paths[0]).map_err(|e| Failure::Input(e.to_string()))?;
-        let a = crate::assess::run(&study).map_err(|e| match e {
-            crate::assess::AssessError::Output(m) => Failure::Output(m),
+        let study = meshbound::study::load(&paths[0]).map_err(|e| Failure::Input(e.to_string()))?;
+        let a = meshbound::assess::run(&study).map_err(|e| match e {
+            meshbound::assess::AssessError::Output(m) => Failure::Output(m),
             e => Failure::Input(e.to_string()),
         })?;
         let bytes = match args.format.exporter() {
             Some(f) => f.exporter().export(&a),
-            None => crate::report::json::Json.export_one(&a, args.format == AssessFormat::Jsonl),
+            None => {
+                meshbound::report::json::Json.export_one(&a, args.format == AssessFormat::Jsonl)
+            }
         };
         return write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()));
     }
@@ -85,7 +87,9 @@ pub fn run(args: Args) -> Result<(), Failure> {
     for (p, r) in paths.iter().zip(&results) {
         match r {
             Ok(a) => match args.format {
-                AssessFormat::Jsonl => bytes.extend(crate::report::json::Json.export_one(a, true)),
+                AssessFormat::Jsonl => {
+                    bytes.extend(meshbound::report::json::Json.export_one(a, true))
+                }
                 AssessFormat::Json => oks.push(a),
                 f => {
                     if let Some(x) = f.exporter() {

@@ -3,9 +3,9 @@
 //! low-side total pressure that gives a target Thoma number.
 
 use super::Failure;
-use crate::machine::{self, STANDARD_GRAVITY};
 use crate::output::write_atomic;
-use crate::water;
+use meshbound::machine::{self, STANDARD_GRAVITY};
+use meshbound::water;
 use serde::Serialize;
 use std::path::PathBuf;
 
@@ -104,7 +104,7 @@ pub fn answer(a: &Args) -> Result<WaterAnswer, String> {
 }
 
 fn text(w: &WaterAnswer) -> String {
-    use crate::report::format::sig;
+    use meshbound::report::format::sig;
     let mut s = format!(
         "water at {} °C (IAPWS-IF97)\n  vapour pressure p_v   {} Pa\n  density ρ             {} kg/m³ at {} Pa\n",
         w.temperature,

@@ -1,0 +1,177 @@
+//! The report folder's contents as (file name, bytes): `report.md` with the figures linked, one
+//! SVG file per figure, and `report.html` with the figures inline. Only formatting: the command
+//! line decides where and how the folder is written.
+
+use super::markup::Figure;
+use super::{html, markdown, plot};
+use crate::assess::Assessment;
+use std::collections::HashSet;
+
+/// The Markdown report's file name.
+pub const MARKDOWN: &str = "report.md";
+/// The HTML page's file name.
+pub const HTML: &str = "report.html";
+
+/// A file-name part made of `name`: ASCII letters, digits, `.`, `_` and `-` are kept, every
+/// other run of characters becomes one `-`; never empty, never starting with a dot.
+pub fn file_part(name: &str) -> String {
+    let mut out = String::with_capacity(name.len());
+    for c in name.chars() {
+        if c.is_ascii_alphanumeric() || matches!(c, '.' | '_' | '-') {
+            out.push(c);
+        } else if !out.ends_with('-') {
+            out.push('-');
+        }
+    }
+    let trimmed = out.trim_matches(|c| c == '-' || c == '.');
+    if trimmed.is_empty() {
+        "unnamed".to_string()
+    } else {
+        trimmed.to_string()
+    }
+}
+
+/// `stem.svg`, or `stem-2.svg`, `stem-3.svg`, … when that name is taken (compared without
+/// case, for file systems that ignore it).
+fn unique(stem: String, taken: &mut HashSet<String>) -> String {
+    let mut name = format!("{stem}.svg");
+    let mut k = 2;
+    while !taken.insert(name.to_ascii_lowercase()) {
+        name = format!("{stem}-{k}.svg");
+        k += 1;
+    }
+    name
+}
+
+/// The figures of the report with their file names: a convergence plot per quantity with an
+/// estimate (the scalar quantities, then each sweep's breakdown and reference estimates after
+/// that sweep's plot), and one plot per sweep.
+pub fn figures(a: &Assessment) -> Vec<Figure> {
+    let mut taken: HashSet<String> = [MARKDOWN, HTML].iter().map(|s| s.to_string()).collect();
+    let mut out = Vec::new();
+    let convergence = |q: &crate::assess::QuantityResult,
+                       title: String,
+                       taken: &mut HashSet<String>,
+                       out: &mut Vec<Figure>| {
+        if q.three_grid.is_none() && q.least_squares.is_none() {
+            return;
+        }
+        if let Some(svg) = plot::convergence_plot(a, q) {
+            out.push(Figure {
+                title,
+                svg,
+                file: Some(unique(format!("convergence-{}", file_part(&q.name)), taken)),
+            });
+        }
+    };
+    for q in &a.quantities {
+        convergence(
+            q,
+            format!("Convergence of {}", q.name),
+            &mut taken,
+            &mut out,
+        );
+    }
+    for s in &a.sweeps {
+        let plotted = s.band.as_ref().map_or_else(
+            || s.responses.first().cloned(),
+            |b| Some(b.response.clone()),
+        );
+        let measured: Vec<plot::MeasuredPoint> = a
+            .comparisons
+            .iter()
+            .filter(|c| c.name == s.name && !c.comparison.normalised && c.response == plotted)
+            .flat_map(|c| {
+                c.comparison.points.iter().map(|p| plot::MeasuredPoint {
+                    x: p.x,
+                    y: p.measured,
+                    u: p.u_measured,
+                })
+            })
+            .collect();
+        if let Some(svg) = plot::sweep_plot(a, s, &measured) {
+            out.push(Figure {
+                title: format!("Sweep {} along {}", s.name, s.x),
+                svg,
+                file: Some(unique(format!("sweep-{}", file_part(&s.name)), &mut taken)),
+            });
+        }
+        for b in &s.breakdown {
+            let title = format!(
+                "Convergence of the breakdown {} of {} (sweep {})",
+                s.x, b.response, s.name
+            );
+            convergence(&b.x_estimate, title, &mut taken, &mut out);
+            let title = format!(
+                "Convergence of the reference {} (sweep {})",
+                b.response, s.name
+            );
+            convergence(&b.reference_estimate, title, &mut taken, &mut out);
+        }
+    }
+    out
+}
+
+/// Every file of the report folder, name and bytes: `report.md`, the SVG files, `report.html`.
+pub fn files(a: &Assessment) -> Vec<(String, Vec<u8>)> {
+    let figs = figures(a);
+    let mut out = vec![(
+        MARKDOWN.to_string(),
+        markdown::markdown_page(a, &figs).into_bytes(),
+    )];
+    for f in &figs {
+        if let Some(name) = &f.file {
+            out.push((name.clone(), f.svg.clone().into_bytes()));
+        }
+    }
+    out.push((HTML.to_string(), html::html_page(a, &figs).into_bytes()));
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::markup::fixture;
+
+    #[test]
+    fn file_parts_are_safe() {
+        assert_eq!(file_part("efficiency"), "efficiency");
+        assert_eq!(file_part("cav.breakdown.head"), "cav.breakdown.head");
+        assert_eq!(file_part("../etc/passwd"), "etc-passwd");
+        assert_eq!(file_part("η (total)"), "total");
+        assert_eq!(file_part("σ"), "unnamed");
+        assert_eq!(file_part("a  b//c"), "a-b-c");
+        let mut taken = HashSet::new();
+        assert_eq!(unique("x".into(), &mut taken), "x.svg");
+        assert_eq!(unique("X".into(), &mut taken), "X-2.svg");
+        assert_eq!(unique("x".into(), &mut taken), "x-3.svg");
+    }
+
+    #[test]
+    fn every_figure_has_its_own_file_and_the_pages_carry_them() {
+        let a = fixture::assess(fixture::DEMO);
+        let files = files(&a);
+        let names: Vec<&str> = files.iter().map(|(n, _)| n.as_str()).collect();
+        assert_eq!(
+            names,
+            [
+                "report.md",
+                "convergence-efficiency.svg",
+                "convergence-torque.svg",
+                "sweep-cav.svg",
+                "convergence-cav.breakdown.efficiency.svg",
+                "convergence-cav.reference.efficiency.svg",
+                "report.html",
+            ]
+        );
+        let md = String::from_utf8(files[0].1.clone()).unwrap();
+        let page = String::from_utf8(files[files.len() - 1].1.clone()).unwrap();
+        for (n, svg) in &files[1..files.len() - 1] {
+            assert!(md.contains(&format!("]({n})")), "{n} linked");
+            let svg = String::from_utf8(svg.clone()).unwrap();
+            let body = &svg[svg.find('>').unwrap() + 1..];
+            assert!(page.contains(body.trim_end()), "{n} inline");
+        }
+        assert!(!md.contains("<svg"));
+    }
+}
