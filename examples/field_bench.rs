@@ -209,9 +209,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     };
 
     if mode == "full" {
-        spec.write = Some(dir.join("out").join("points.csv"));
+        let out = dir.join("out").join("points.csv");
+        std::fs::create_dir_all(dir.join("out"))?;
+        spec.write = Some(out.clone());
         let (t, c) = (Instant::now(), cpu_s());
-        assess_field_with(&spec, H, &settings, &opts)?;
+        let sink = meshbound::sink::DirectFile::create(&out)?;
+        assess_field_with(&spec, H, &settings, &opts, Some(Box::new(sink)))?;
         let wall = t.elapsed().as_secs_f64();
         println!(
             "full (written) {wall:8.3} s  {:6.2} M points/s  (cpu {:.2} s, peak {:.0} MiB)",
@@ -222,7 +225,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         return Ok(());
     }
     let (t, c) = (Instant::now(), cpu_s());
-    let s = assess_field_with(&spec, H, &settings, &opts)?;
+    let s = assess_field_with(&spec, H, &settings, &opts, None)?;
     let read_only = t.elapsed().as_secs_f64();
     if mode == "read" {
         println!(
@@ -239,9 +242,11 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         cpu_s() - c
     );
     let out = dir.join("out").join("points.csv");
+    std::fs::create_dir_all(dir.join("out"))?;
     spec.write = Some(out.clone());
     let (t, c) = (Instant::now(), cpu_s());
-    let s2 = assess_field_with(&spec, H, &settings, &opts)?;
+    let sink = meshbound::sink::DirectFile::create(&out)?;
+    let s2 = assess_field_with(&spec, H, &settings, &opts, Some(Box::new(sink)))?;
     let full = t.elapsed().as_secs_f64();
     let full_cpu = cpu_s() - c;
     let out_mb = std::fs::metadata(&out).map(|m| m.len()).unwrap_or(0) as f64 / 1e6;

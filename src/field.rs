@@ -75,6 +75,7 @@ use crate::estimate::three_grid::{
     self, Governing, ThreeGridSettings, ROUNDOFF_ULPS, SCAN_LO, SCAN_STEPS,
 };
 use crate::estimate::{Convergence, EstimateError};
+use crate::sink::PointSink;
 use crate::warning::Warning;
 use rayon::prelude::*;
 use serde::Serialize;
@@ -1963,146 +1964,18 @@ fn pooled(pool: &Pool, capacity: usize) -> Vec<u8> {
     }
 }
 
+/// Writes what arrives, in order; the sink is handed back unfinished, for the caller to finish
+/// only when the whole run succeeded.
 fn run_writer(
-    tmp: tempfile::NamedTempFile,
+    mut sink: Box<dyn PointSink>,
     rx: Receiver<Vec<u8>>,
     pool: &Pool,
-) -> std::io::Result<tempfile::NamedTempFile> {
-    let mut sink = Sink::open(tmp);
+) -> std::io::Result<Box<dyn PointSink>> {
     for bytes in rx {
-        sink.write(&bytes)?;
+        sink.write_all(&bytes)?;
         give_back(pool, bytes, OUT_POOL_MAX);
     }
-    sink.finish()
-}
-
-/// Alignment of the direct writes (the page size, a multiple of every block size met).
-const DIRECT_ALIGN: usize = 4096;
-/// Bytes gathered before one direct write.
-const DIRECT_STAGE: usize = 2 << 20;
-
-/// The temporary per-point file, written past the page cache where the system allows it.
-///
-/// Copying nearly a gigabyte into the page cache costs about as much processor time as parsing
-/// the three input files; a direct write (`O_DIRECT`, Linux) leaves the copy to the disk's DMA.
-/// Direct writes need aligned buffers, offsets and lengths: the bytes are gathered in an aligned
-/// stage and written in whole stages, and the last, partial stage goes through the ordinary
-/// handle. Where the file cannot be opened for direct writes, or the first direct write is
-/// refused (`EINVAL`: a file system without direct I/O), everything goes through the ordinary
-/// handle.
-struct Sink {
-    tmp: tempfile::NamedTempFile,
-    direct: Option<File>,
-    stage: Vec<u8>,
-    /// Start of the aligned part of `stage`.
-    off: usize,
-    /// Bytes gathered in the stage.
-    len: usize,
-    /// Bytes in the file.
-    pos: u64,
-}
-
-impl Sink {
-    fn open(tmp: tempfile::NamedTempFile) -> Self {
-        let direct = open_direct(tmp.path());
-        let stage = if direct.is_some() {
-            vec![0; DIRECT_STAGE + DIRECT_ALIGN]
-        } else {
-            Vec::new()
-        };
-        let off = stage.as_ptr().align_offset(DIRECT_ALIGN).min(DIRECT_ALIGN);
-        Sink {
-            tmp,
-            direct,
-            stage,
-            off,
-            len: 0,
-            pos: 0,
-        }
-    }
-
-    fn write(&mut self, mut bytes: &[u8]) -> std::io::Result<()> {
-        if self.direct.is_none() {
-            return self.plain(bytes);
-        }
-        while !bytes.is_empty() {
-            let n = bytes.len().min(DIRECT_STAGE - self.len);
-            let at = self.off + self.len;
-            self.stage[at..at + n].copy_from_slice(&bytes[..n]);
-            self.len += n;
-            bytes = &bytes[n..];
-            if self.len == DIRECT_STAGE {
-                self.flush_stage()?;
-            }
-        }
-        Ok(())
-    }
-
-    /// Writes the full stage directly, or through the ordinary handle from now on when the
-    /// system refuses direct writes.
-    fn flush_stage(&mut self) -> std::io::Result<()> {
-        let Some(file) = &self.direct else {
-            return Ok(());
-        };
-        let staged = &self.stage[self.off..self.off + self.len];
-        match write_at(file, staged, self.pos) {
-            Ok(()) => {}
-            Err(e) if e.kind() == std::io::ErrorKind::InvalidInput && self.pos == 0 => {
-                self.direct = None;
-                let staged = std::mem::take(&mut self.stage);
-                let (off, len) = (self.off, self.len);
-                self.len = 0;
-                return self.plain(&staged[off..off + len]);
-            }
-            Err(e) => return Err(e),
-        }
-        self.pos += self.len as u64;
-        self.len = 0;
-        Ok(())
-    }
-
-    fn plain(&mut self, bytes: &[u8]) -> std::io::Result<()> {
-        write_at(self.tmp.as_file(), bytes, self.pos)?;
-        self.pos += bytes.len() as u64;
-        Ok(())
-    }
-
-    fn finish(mut self) -> std::io::Result<tempfile::NamedTempFile> {
-        if self.len > 0 {
-            let (off, len) = (self.off, self.len);
-            let tail = std::mem::take(&mut self.stage);
-            self.len = 0;
-            self.plain(&tail[off..off + len])?;
-        }
-        Ok(self.tmp)
-    }
-}
-
-#[cfg(target_os = "linux")]
-fn open_direct(path: &Path) -> Option<File> {
-    use std::os::unix::fs::OpenOptionsExt;
-    std::fs::OpenOptions::new()
-        .write(true)
-        .custom_flags(libc::O_DIRECT)
-        .open(path)
-        .ok()
-}
-
-#[cfg(not(target_os = "linux"))]
-fn open_direct(_path: &Path) -> Option<File> {
-    None
-}
-
-#[cfg(unix)]
-fn write_at(file: &File, bytes: &[u8], pos: u64) -> std::io::Result<()> {
-    std::os::unix::fs::FileExt::write_all_at(file, bytes, pos)
-}
-
-#[cfg(not(unix))]
-fn write_at(mut file: &File, bytes: &[u8], pos: u64) -> std::io::Result<()> {
-    use std::io::{Seek, Write};
-    file.seek(std::io::SeekFrom::Start(pos))?;
-    file.write_all(bytes)
+    Ok(sink)
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -2156,18 +2029,21 @@ pub fn assess_field(
     spec: &FieldSpec,
     h: [f64; 3],
     settings: &ThreeGridSettings,
+    sink: Option<Box<dyn PointSink>>,
 ) -> Result<FieldSummary, FieldError> {
-    assess_field_with(spec, h, settings, &FieldOptions::default())
+    assess_field_with(spec, h, settings, &FieldOptions::default(), sink)
 }
 
 /// Assesses a field: the three-mesh estimate at every probe of the three finest meshes' files
-/// (`spec.files`, finest first, with sizes `h`), the per-point file written atomically when
-/// `spec.write` is set, and the summary returned.
+/// (`spec.files`, finest first, with sizes `h`), the per-point file written into `sink` when
+/// one is given (in input order; see "Per-point file" in the module notes), and the summary
+/// returned. `spec.write` names the file the sink stands for.
 pub fn assess_field_with(
     spec: &FieldSpec,
     h: [f64; 3],
     settings: &ThreeGridSettings,
     opts: &FieldOptions,
+    sink: Option<Box<dyn PointSink>>,
 ) -> Result<FieldSummary, FieldError> {
     check_spec(spec, opts)?;
     let fast = FastThreeGrid::new(h, settings).map_err(|e| FieldError::Spec {
@@ -2182,34 +2058,11 @@ pub fn assess_field_with(
         let header = r.read_header()?;
         let mut layout = Layout::new(path, header, spec)?;
         // The finest values are written back as given: the same numbers, no formatting cost.
-        layout.keep_text = layouts.is_empty() && spec.write.is_some();
+        layout.keep_text = layouts.is_empty() && sink.is_some();
         layouts.push(layout);
         readers.push(r);
     }
-    let tmp = match &spec.write {
-        Some(target) => {
-            let fail = |source| FieldError::Write {
-                path: target.clone(),
-                source,
-            };
-            let dir = match target.parent() {
-                Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-                _ => PathBuf::from("."),
-            };
-            std::fs::create_dir_all(&dir).map_err(fail)?;
-            let tmp = tempfile::Builder::new()
-                .prefix(".meshbound-")
-                .suffix(".part")
-                .tempfile_in(&dir)
-                .map_err(fail)?;
-            Some(tmp)
-        }
-        None => None,
-    };
-
-    // An interrupt (SIGINT, SIGTERM, SIGHUP) removes the temporary file; kept until the rename.
-    let _pending = tmp.as_ref().map(|t| crate::output::Pending::new(t.path()));
-
+    let writing = sink.is_some();
     let bin_scale = ORDER_BINS as f64 / fast.order_cap();
     let chunk_rows = opts.chunk_rows;
     // Rounds of eight chunks per thread: small tasks keep both cores busy to a round's end.
@@ -2224,12 +2077,12 @@ pub fn assess_field_with(
             rxs.push(rx);
         }
         let pool = &pool;
-        let (wtx, writer) = match tmp {
-            Some(tmp) => {
+        let (wtx, writer) = match sink {
+            Some(sink) => {
                 let (tx, rx) = sync_channel::<Vec<u8>>(WRITE_AHEAD);
                 (
                     Some(tx),
-                    Some(scope.spawn(move || run_writer(tmp, rx, pool))),
+                    Some(scope.spawn(move || run_writer(sink, rx, pool))),
                 )
             }
             None => (None, None),
@@ -2260,14 +2113,11 @@ pub fn assess_field_with(
 
     let accs = match (result, written) {
         (Ok(accs), None) => accs,
-        (Ok(accs), Some(Ok(tmp))) => {
-            let target = spec.write.clone().unwrap_or_default();
-            let fail = |source| FieldError::Write {
-                path: target.clone(),
+        (Ok(accs), Some(Ok(sink))) => {
+            sink.finish().map_err(|source| FieldError::Write {
+                path: spec.write.clone().unwrap_or_default(),
                 source,
-            };
-            // No fsync before the rename: see "Writing" in the module documentation.
-            tmp.persist(&target).map_err(|e| fail(e.error))?;
+            })?;
             accs
         }
         (_, Some(Err(source))) => {
@@ -2284,7 +2134,11 @@ pub fn assess_field_with(
     Ok(FieldSummary {
         name: spec.name.clone(),
         points,
-        written: spec.write.as_ref().map(|p| p.display().to_string()),
+        written: if writing {
+            spec.write.as_ref().map(|p| p.display().to_string())
+        } else {
+            None
+        },
         columns: spec
             .columns
             .iter()
@@ -2449,6 +2303,49 @@ mod tests {
         }
     }
 
+    /// A test sink: a temporary beside the target, renamed onto it when finished (as the
+    /// command line does), so a failed run leaves an older file untouched.
+    struct FileSink {
+        file: File,
+        tmp: PathBuf,
+        target: PathBuf,
+    }
+
+    impl PointSink for FileSink {
+        fn write_all(&mut self, bytes: &[u8]) -> std::io::Result<()> {
+            std::io::Write::write_all(&mut self.file, bytes)
+        }
+        fn finish(self: Box<Self>) -> std::io::Result<()> {
+            std::fs::rename(&self.tmp, &self.target)
+        }
+    }
+
+    impl Drop for FileSink {
+        fn drop(&mut self) {
+            // Unfinished (the run failed): nothing is left behind. After a rename, nothing is
+            // at the temporary path any more.
+            let _ = std::fs::remove_file(&self.tmp);
+        }
+    }
+
+    fn sink_for(spec: &FieldSpec) -> Option<Box<dyn PointSink>> {
+        sink_to(spec.write.clone())
+    }
+
+    fn sink_to(write: Option<PathBuf>) -> Option<Box<dyn PointSink>> {
+        write.map(|target| {
+            let tmp = target.with_extension("part");
+            if let Some(dir) = target.parent() {
+                std::fs::create_dir_all(dir).unwrap();
+            }
+            Box::new(FileSink {
+                file: File::create(&tmp).unwrap(),
+                tmp,
+                target,
+            }) as Box<dyn PointSink>
+        })
+    }
+
     fn small() -> FieldOptions {
         FieldOptions {
             chunk_rows: 3,
@@ -2497,6 +2394,7 @@ mod tests {
             H,
             &ThreeGridSettings::default(),
             &small(),
+            sink_to(Some(out.clone())),
         )
         .unwrap();
         assert_eq!(s.points, n as u64);
@@ -2560,7 +2458,13 @@ mod tests {
             })
             .collect();
         let files = write_meshes(dir.path(), "id,cp", &rows);
-        let s = assess_field(&spec(files, None), H, &ThreeGridSettings::default()).unwrap();
+        let s = assess_field(
+            &spec(files, None),
+            H,
+            &ThreeGridSettings::default(),
+            sink_to(None),
+        )
+        .unwrap();
         let c = &s.columns[0];
         assert_relative_eq!(c.median_order.unwrap(), 2.0, max_relative = 1e-10);
         assert_relative_eq!(c.mean_order.unwrap(), 2.0, max_relative = 1e-10);
@@ -2599,6 +2503,7 @@ mod tests {
             [1.0, 1.5, 2.25],
             &ThreeGridSettings::default(),
             &small(),
+            sink_to(Some(out.clone())),
         )
         .unwrap();
         let t = read_rows(&out);
@@ -2653,7 +2558,14 @@ mod tests {
         let a = dir.path().join("a.csv");
         let b = dir.path().join("b.csv");
         let set = ThreeGridSettings::default();
-        assess_field_with(&spec(files.clone(), Some(a.clone())), H, &set, &small()).unwrap();
+        assess_field_with(
+            &spec(files.clone(), Some(a.clone())),
+            H,
+            &set,
+            &small(),
+            sink_to(Some(a.clone())),
+        )
+        .unwrap();
         let s2 = assess_field_with(
             &spec(files, Some(b.clone())),
             H,
@@ -2662,6 +2574,7 @@ mod tests {
                 chunk_rows: 1000,
                 block_bytes: 1 << 16,
             },
+            sink_to(Some(b.clone())),
         )
         .unwrap();
         let (ta, tb) = (std::fs::read(&a).unwrap(), std::fs::read(&b).unwrap());
@@ -2693,6 +2606,7 @@ mod tests {
             H,
             &ThreeGridSettings::default(),
             &small(),
+            sink_to(None),
         )
         .unwrap_err();
         assert_eq!(
@@ -2709,6 +2623,7 @@ mod tests {
             H,
             &ThreeGridSettings::default(),
             &small(),
+            sink_to(Some(out.clone())),
         )
         .unwrap();
         assert_eq!(s.points, 3);
@@ -2739,6 +2654,7 @@ mod tests {
             H,
             &ThreeGridSettings::default(),
             &small(),
+            sink_to(Some(out.clone())),
         )
         .unwrap_err();
         // The written file is complete or absent: here absent, and no temporary file is left.
@@ -2846,30 +2762,36 @@ mod tests {
         let files = three_files(dir.path(), [b, b, b]);
         let mut sp = spec(files, None);
         sp.id = Some("probe".into());
-        let s = assess_field(&sp, H, &ThreeGridSettings::default()).unwrap();
+        let s = assess_field(&sp, H, &ThreeGridSettings::default(), sink_for(&sp)).unwrap();
         assert_eq!(s.columns[0].classes.no_change, 2);
         sp.columns = vec!["probe".into()];
-        let e = assess_field(&sp, H, &ThreeGridSettings::default()).unwrap_err();
+        let e = assess_field(&sp, H, &ThreeGridSettings::default(), sink_for(&sp)).unwrap_err();
         assert!(e.to_string().contains("is the id column"), "{e}");
         sp.columns = vec!["cp".into(), "cp".into()];
-        let e = assess_field(&sp, H, &ThreeGridSettings::default()).unwrap_err();
+        let e = assess_field(&sp, H, &ThreeGridSettings::default(), sink_for(&sp)).unwrap_err();
         assert_eq!(e.to_string(), "field `blade`: column `cp` is listed twice");
         sp.columns = vec!["id".into()];
         sp.write = Some(PathBuf::from("points.csv"));
-        let e = assess_field(&sp, H, &ThreeGridSettings::default()).unwrap_err();
+        let e = assess_field(&sp, H, &ThreeGridSettings::default(), sink_for(&sp)).unwrap_err();
         assert_eq!(
             e.to_string(),
             "field `blade`: a column named `id` would clash with the id column of the per-point file"
         );
         sp.write = None;
         sp.columns = vec!["cp".into()];
-        let e = assess_field(&sp, [1.0, 1.0, 2.0], &ThreeGridSettings::default()).unwrap_err();
+        let e = assess_field(
+            &sp,
+            [1.0, 1.0, 2.0],
+            &ThreeGridSettings::default(),
+            sink_for(&sp),
+        )
+        .unwrap_err();
         assert_eq!(
             e.to_string(),
             "field `blade`: sizes must be > 0 and increase from the finest to the coarsest mesh"
         );
         sp.files.pop();
-        let e = assess_field(&sp, H, &ThreeGridSettings::default()).unwrap_err();
+        let e = assess_field(&sp, H, &ThreeGridSettings::default(), sink_for(&sp)).unwrap_err();
         assert!(
             e.to_string().contains("three probe files are needed"),
             "{e}"
@@ -2887,12 +2809,24 @@ mod tests {
         std::fs::write(&out, "old\n").unwrap();
         std::fs::write(&files[2], "id,cp\n1,1.0\n2,nan\n").unwrap();
         let set = ThreeGridSettings::default();
-        assert!(
-            assess_field_with(&spec(files.clone(), Some(out.clone())), H, &set, &small()).is_err()
-        );
+        assert!(assess_field_with(
+            &spec(files.clone(), Some(out.clone())),
+            H,
+            &set,
+            &small(),
+            sink_to(Some(out.clone()))
+        )
+        .is_err());
         assert_eq!(std::fs::read_to_string(&out).unwrap(), "old\n");
         std::fs::write(&files[2], ok).unwrap();
-        assess_field_with(&spec(files, Some(out.clone())), H, &set, &small()).unwrap();
+        assess_field_with(
+            &spec(files, Some(out.clone())),
+            H,
+            &set,
+            &small(),
+            sink_to(Some(out.clone())),
+        )
+        .unwrap();
         let t = read_rows(&out);
         assert_eq!(t.len(), 3);
         // The finest value is written as its file gives it; computed figures in shortest form.
@@ -2917,6 +2851,7 @@ mod tests {
             &spec(files, Some(out.clone())),
             H,
             &ThreeGridSettings::default(),
+            sink_to(Some(out.clone())),
         )
         .unwrap();
         assert_eq!(s.points, 0);
@@ -3202,55 +3137,6 @@ mod tests {
         assert!(serde_json::to_string(&c)
             .unwrap()
             .contains("\"max_relative\":null"));
-    }
-
-    /// Bytes of several whole stages and an unaligned tail, in pieces of odd sizes.
-    fn sink_bytes() -> Vec<u8> {
-        (0..(2 * DIRECT_STAGE + 12_345))
-            .map(|i| (i % 251) as u8)
-            .collect()
-    }
-
-    fn write_through_sink(dir: &Path) -> Vec<u8> {
-        let bytes = sink_bytes();
-        let tmp = tempfile::Builder::new().tempfile_in(dir).unwrap();
-        let mut sink = Sink::open(tmp);
-        let mut rest = &bytes[..];
-        let mut k = 1;
-        while !rest.is_empty() {
-            let n = rest.len().min(k * 7919);
-            sink.write(&rest[..n]).unwrap();
-            rest = &rest[n..];
-            k = k % 300 + 1;
-        }
-        let tmp = sink.finish().unwrap();
-        std::fs::read(tmp.path()).unwrap()
-    }
-
-    #[test]
-    fn sink_writes_every_byte_in_order() {
-        // Direct writes where the file system takes them (ext4 here), else ordinary ones.
-        let dir = tempfile::tempdir().unwrap();
-        assert!(write_through_sink(dir.path()) == sink_bytes());
-        // tmpfs, where direct I/O may be refused: the ordinary handle takes over.
-        if Path::new("/dev/shm").is_dir() {
-            if let Ok(shm) = tempfile::tempdir_in("/dev/shm") {
-                assert!(write_through_sink(shm.path()) == sink_bytes());
-            }
-        }
-    }
-
-    #[test]
-    fn sink_without_direct_handle_writes_plainly() {
-        let dir = tempfile::tempdir().unwrap();
-        let tmp = tempfile::Builder::new().tempfile_in(dir.path()).unwrap();
-        let mut sink = Sink::open(tmp);
-        sink.direct = None;
-        sink.stage = Vec::new();
-        sink.write(b"id,cp\n").unwrap();
-        sink.write(b"1,2\n").unwrap();
-        let tmp = sink.finish().unwrap();
-        assert_eq!(std::fs::read(tmp.path()).unwrap(), b"id,cp\n1,2\n");
     }
 
     #[test]

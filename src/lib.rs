@@ -12,15 +12,18 @@
 
 pub mod assess;
 pub mod compare;
+pub mod error;
 pub mod estimate;
 pub mod field;
 pub mod gate;
 pub mod grid;
 pub mod machine;
-pub mod output;
 pub mod plan;
 pub mod report;
+pub mod sink;
 pub mod study;
 pub mod sweep;
 pub mod warning;
 pub mod water;
+
+pub use error::{Error, ErrorKind};

@@ -132,7 +132,8 @@ fn every_point_of_a_random_field_equals_the_scalar_estimate() {
             chunk_rows: 257,
             block_bytes: 4096,
         };
-        let summary = assess_field_with(&spec, h, &settings, &opts).unwrap();
+        let sink = meshbound::sink::DirectFile::create(&out).unwrap();
+        let summary = assess_field_with(&spec, h, &settings, &opts, Some(Box::new(sink))).unwrap();
         assert_eq!(summary.points, n as u64);
         let table = read_table(&out);
         assert_eq!(
@@ -319,6 +320,7 @@ fn manufactured_field_is_monotonic_with_the_exact_order_everywhere() {
         h,
         &ThreeGridSettings::default(),
         &FieldOptions::default(),
+        Some(Box::new(meshbound::sink::DirectFile::create(&out).unwrap())),
     )
     .unwrap();
     assert_eq!(s.columns[0].classes.monotonic, n as u64);

@@ -48,7 +48,7 @@ fn examples() -> Vec<(PathBuf, String)> {
 
 fn run(text: &str, path: &Path) {
     if let Ok(study) = meshbound::study::parse(text, path) {
-        if let Ok(a) = meshbound::assess::run(&study) {
+        if let Ok(a) = meshbound::assess::run(&study, &meshbound::sink::Skip) {
             let json =
                 String::from_utf8(meshbound::report::json::Json.export_one(&a, true)).unwrap();
             // serde_json writes a non-finite number as null, so the JSON always parses back.

@@ -131,7 +131,7 @@ fn report_writes_the_pages_and_one_svg_per_figure() {
     }
     // The paragraph and the caution, in both pages.
     let study = meshbound::study::load(&root().join(STUDY)).unwrap();
-    let a = meshbound::assess::run(&study).unwrap();
+    let a = meshbound::assess::run(&study, &meshbound::sink::Skip).unwrap();
     let paragraph = meshbound::report::paragraph::uncertainty_paragraph(&a);
     let plain = html.replace('\u{a0}', " ");
     assert!(plain.contains(&meshbound::report::html::escape(&paragraph)));

@@ -4,6 +4,7 @@
 
 use super::{batch, Failure};
 use crate::output::write_atomic;
+use crate::point_file::FileOutputs;
 use meshbound::report::Format;
 use std::path::PathBuf;
 
@@ -51,10 +52,22 @@ pub struct Args {
     pub output: PathBuf,
 }
 
-/// Reads, checks and assesses one study.
-pub fn assess_one(path: &std::path::Path) -> Result<meshbound::assess::Assessment, String> {
-    let study = meshbound::study::load(path).map_err(|e| e.to_string())?;
-    meshbound::assess::run(&study).map_err(|e| e.to_string())
+/// Reads, checks and assesses one study. The per-point files it asks for are written into
+/// temporaries, published by the caller once its own output is written.
+pub fn assess_one(
+    path: &std::path::Path,
+) -> Result<(meshbound::assess::Assessment, FileOutputs), Failure> {
+    let study = meshbound::study::load(path).map_err(|e| Failure::Input(e.to_string()))?;
+    let outputs = FileOutputs::new();
+    let a = meshbound::assess::run(&study, &outputs)?;
+    Ok((a, outputs))
+}
+
+/// Publishes the per-point files of a finished run.
+pub fn publish(outputs: FileOutputs) -> Result<(), Failure> {
+    outputs
+        .publish()
+        .map_err(|(p, e)| Failure::Output(format!("cannot write {}: {e}", p.display())))
 }
 
 /// Runs `assess`.
@@ -69,24 +82,21 @@ pub fn run(args: Args) -> Result<(), Failure> {
     if paths.len() == 1 {
         // One study: its output or its error, nothing partial.
         drop(results);
-        let study = meshbound::study::load(&paths[0]).map_err(|e| Failure::Input(e.to_string()))?;
-        let a = meshbound::assess::run(&study).map_err(|e| match e {
-            meshbound::assess::AssessError::Output(m) => Failure::Output(m),
-            e => Failure::Input(e.to_string()),
-        })?;
+        let (a, outputs) = assess_one(&paths[0])?;
         let bytes = match args.format.exporter() {
             Some(f) => f.exporter().export(&a),
             None => {
                 meshbound::report::json::Json.export_one(&a, args.format == AssessFormat::Jsonl)
             }
         };
-        return write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()));
+        write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()))?;
+        return publish(outputs);
     }
     let mut bytes = Vec::new();
     let mut oks = Vec::new();
     for (p, r) in paths.iter().zip(&results) {
         match r {
-            Ok(a) => match args.format {
+            Ok((a, _)) => match args.format {
                 AssessFormat::Jsonl => {
                     bytes.extend(meshbound::report::json::Json.export_one(a, true))
                 }
@@ -103,7 +113,7 @@ pub fn run(args: Args) -> Result<(), Failure> {
             Err(e) => {
                 eprintln!("error: {e}");
                 if args.format == AssessFormat::Jsonl {
-                    let line = serde_json::json!({"study": p.display().to_string(), "error": e});
+                    let line = serde_json::json!({"study": p.display().to_string(), "error": e.to_string()});
                     bytes.extend(line.to_string().into_bytes());
                     bytes.push(b'\n');
                 }
@@ -115,11 +125,17 @@ pub fn run(args: Args) -> Result<(), Failure> {
         bytes.push(b'\n');
     }
     write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()))?;
+    let output_fault = results.iter().any(|r| matches!(r, Err(Failure::Output(_))));
+    for (_, outputs) in results.into_iter().flatten() {
+        publish(outputs)?;
+    }
     if broken > 0 {
-        return Err(Failure::Input(format!(
-            "{broken} of {} studies could not be assessed",
-            paths.len()
-        )));
+        let message = format!("{broken} of {} studies could not be assessed", paths.len());
+        // The same status as the fault would give for one study: 3 when an output failed.
+        if output_fault {
+            return Err(Failure::Output(message));
+        }
+        return Err(Failure::Input(message));
     }
     Ok(())
 }

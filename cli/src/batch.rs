@@ -49,10 +49,10 @@ fn walk(dir: &Path, out: &mut Vec<PathBuf>) -> std::io::Result<()> {
 
 /// Runs `f` on every study in parallel; results come back in input order. A progress bar is
 /// drawn on standard error when it is a terminal and there is more than one study.
-pub fn run_all<T: Send>(
+pub fn run_all<T: Send, E: Send>(
     paths: &[PathBuf],
-    f: impl Fn(&Path) -> Result<T, String> + Sync,
-) -> Vec<Result<T, String>> {
+    f: impl Fn(&Path) -> Result<T, E> + Sync,
+) -> Vec<Result<T, E>> {
     let bar = if paths.len() > 1 && std::io::stderr().is_terminal() {
         let b = indicatif::ProgressBar::new(paths.len() as u64);
         if let Ok(style) =
@@ -64,7 +64,7 @@ pub fn run_all<T: Send>(
     } else {
         None
     };
-    let out: Vec<Result<T, String>> = paths
+    let out: Vec<Result<T, E>> = paths
         .par_iter()
         .map(|p| {
             let r = f(p);

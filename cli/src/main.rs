@@ -14,6 +14,7 @@ mod interrupt;
 mod manual;
 mod output;
 mod plan;
+mod point_file;
 mod report;
 mod schema;
 mod water;
@@ -38,6 +39,24 @@ impl Failure {
             Failure::Limits => 1,
             Failure::Input(_) => 2,
             Failure::Output(_) => 3,
+        }
+    }
+}
+
+impl std::fmt::Display for Failure {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Failure::Limits => f.write_str("an acceptance limit was not met"),
+            Failure::Input(m) | Failure::Output(m) => f.write_str(m),
+        }
+    }
+}
+
+impl From<meshbound::Error> for Failure {
+    fn from(e: meshbound::Error) -> Self {
+        match e.kind() {
+            meshbound::ErrorKind::Input => Failure::Input(e.to_string()),
+            meshbound::ErrorKind::Output => Failure::Output(e.to_string()),
         }
     }
 }

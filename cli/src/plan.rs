@@ -112,8 +112,8 @@ pub fn run(a: Args) -> Result<(), Failure> {
                 ));
             }
             let study = meshbound::study::load(path).map_err(|e| Failure::Input(e.to_string()))?;
-            let assessment =
-                meshbound::assess::run(&study).map_err(|e| Failure::Input(e.to_string()))?;
+            let assessment = meshbound::assess::run(&study, &meshbound::sink::Skip)
+                .map_err(crate::Failure::from)?;
             let dim = a.dimension.unwrap_or(study.dimension);
             let mut plans = Vec::new();
             for t in &a.target {

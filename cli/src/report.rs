@@ -168,7 +168,7 @@ fn exchange(a: &Path, b: &Path) -> std::io::Result<()> {
 
 /// Runs `report`.
 pub fn run(args: Args) -> Result<(), Failure> {
-    let a = super::assess::assess_one(&args.study).map_err(Failure::Input)?;
+    let (a, outputs) = super::assess::assess_one(&args.study)?;
     let files = meshbound::report::bundle::files(&a);
     if let Some(old) = install(&files, &args.out, args.replace)? {
         eprintln!(
@@ -176,6 +176,7 @@ pub fn run(args: Args) -> Result<(), Failure> {
             old.display()
         );
     }
+    super::assess::publish(outputs)?;
     println!("wrote {} files to {}", files.len(), args.out.display());
     Ok(())
 }

@@ -68,7 +68,7 @@ fuzz_target!(|data: &[u8]| {
     };
     let h = [1.0, 1.3, 1.69];
     let settings = ThreeGridSettings::default();
-    let first = assess_field_with(&spec, h, &settings, &opts);
+    let first = assess_field_with(&spec, h, &settings, &opts, None);
     if let Ok(s) = &first {
         for c in &s.columns {
             let k = &c.classes;
@@ -92,7 +92,10 @@ fuzz_target!(|data: &[u8]| {
     }
     let out = dir.path().join("points.csv");
     spec.write = Some(out.clone());
-    let second = assess_field_with(&spec, h, &settings, &opts);
+    let second = match meshbound::sink::DirectFile::create(&out) {
+        Ok(sink) => assess_field_with(&spec, h, &settings, &opts, Some(Box::new(sink))),
+        Err(_) => return,
+    };
     assert_eq!(
         first.is_ok(),
         second.is_ok(),

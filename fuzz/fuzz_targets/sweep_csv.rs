@@ -27,6 +27,6 @@ fuzz_target!(|data: &[u8]| {
     }
     let path = dir.path().join("s.yaml");
     if let Ok(study) = meshbound::study::parse(STUDY, &path) {
-        let _ = meshbound::assess::run(&study);
+        let _ = meshbound::assess::run(&study, &meshbound::sink::Skip);
     }
 });

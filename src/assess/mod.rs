@@ -7,9 +7,11 @@ use crate::estimate::least_squares::{self, LeastSquares, LsSettings};
 use crate::estimate::three_grid::{self, Governing, ThreeGrid, ThreeGridSettings};
 use crate::estimate::Convergence;
 use crate::grid::Mesh;
+use crate::sink::Outputs;
 use crate::study::raw::EstimatorChoice;
 use crate::study::{Quantity, Study};
 use crate::warning::Warning;
+use crate::Error;
 use serde::Serialize;
 
 pub mod compare;
@@ -322,36 +324,14 @@ pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
     w
 }
 
-/// Why a study could not be assessed.
-#[derive(Debug)]
-pub enum AssessError {
-    /// The data cannot give what the study asks for (exit 2); names file and key.
-    Input(crate::study::StudyError),
-    /// A file the study asks meshbound to write could not be written (exit 3).
-    Output(String),
-}
-
-impl std::fmt::Display for AssessError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            AssessError::Input(e) => write!(f, "{e}"),
-            AssessError::Output(m) => f.write_str(m),
-        }
-    }
-}
-
-impl std::error::Error for AssessError {}
-
-impl From<crate::study::StudyError> for AssessError {
-    fn from(e: crate::study::StudyError) -> Self {
-        AssessError::Input(e)
-    }
-}
-
 /// Assesses a whole study. Fails only where the data cannot give what the study asks for
 /// (for example a sweep that never reaches breakdown, or a probe file that does not match);
 /// the error names the file and key or line.
-pub fn run(study: &Study) -> Result<Assessment, AssessError> {
+///
+/// Files the study asks to write (the per-point files of fields) go into the sinks that
+/// `outputs` hands out; [`crate::sink::Skip`] writes none. Only those handed a sink are listed
+/// in `files_written`.
+pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
     let mut warnings = mesh_warnings(&study.meshes);
     warnings.extend(health_warnings(study));
     let settings = ThreeGridSettings {
@@ -393,24 +373,39 @@ pub fn run(study: &Study) -> Result<Assessment, AssessError> {
         )?);
     }
     let mut fields = Vec::new();
+    let mut written = Vec::new();
     for (spec, idx) in &study.fields {
         let h = [
             study.meshes[idx[0]].size,
             study.meshes[idx[1]].size,
             study.meshes[idx[2]].size,
         ];
-        let summary = crate::field::assess_field(spec, h, &settings).map_err(|e| match e {
-            crate::field::FieldError::Write { .. } => {
-                AssessError::Output(format!("field `{}`: {e}", spec.name))
-            }
-            e => AssessError::Input(crate::study::StudyError {
-                file: study.path.clone(),
-                key: format!("fields.{}", spec.name),
-                line: None,
-                column: None,
-                message: e.to_string(),
-            }),
-        })?;
+        let sink = match &spec.write {
+            Some(target) => outputs.open(target).map_err(|source| Error::Output {
+                what: format!("field `{}`: cannot write", spec.name),
+                path: target.clone(),
+                source,
+            })?,
+            None => None,
+        };
+        let summary =
+            crate::field::assess_field(spec, h, &settings, sink).map_err(|e| match e {
+                crate::field::FieldError::Write { path, source } => Error::Output {
+                    what: format!("field `{}`: cannot write", spec.name),
+                    path,
+                    source,
+                },
+                e => Error::Study(crate::study::StudyError {
+                    file: study.path.clone(),
+                    key: format!("fields.{}", spec.name),
+                    line: None,
+                    column: None,
+                    message: e.to_string(),
+                }),
+            })?;
+        if let Some(w) = &summary.written {
+            written.push(w.clone());
+        }
         warnings.extend(summary.warnings());
         fields.push(summary);
     }
@@ -430,10 +425,6 @@ pub fn run(study: &Study) -> Result<Assessment, AssessError> {
             .iter()
             .map(|p| p.display().to_string())
             .collect(),
-        files_written: study
-            .files_written
-            .iter()
-            .map(|p| p.display().to_string())
-            .collect(),
+        files_written: written,
     })
 }

@@ -733,7 +733,7 @@ quantities:
     /// Runs the real pipeline on a study text.
     pub fn assess(text: &str) -> Assessment {
         let study = crate::study::parse(text, Path::new("demo.yaml")).expect("demo study parses");
-        crate::assess::run(&study).expect("demo study assesses")
+        crate::assess::run(&study, &crate::sink::Skip).expect("demo study assesses")
     }
 }
 
