@@ -41,10 +41,13 @@ impl Outputs for Skip {
     }
 }
 
+/// Finished files shared between [`InMemory`] and its sinks.
+type Shared = Arc<Mutex<Vec<(PathBuf, Vec<u8>)>>>;
+
 /// Keeps every finished file in memory, in the order they were finished.
 #[derive(Debug, Clone, Default)]
 pub struct InMemory {
-    files: Arc<Mutex<Vec<(PathBuf, Vec<u8>)>>>,
+    files: Shared,
 }
 
 impl InMemory {
@@ -65,7 +68,7 @@ impl InMemory {
 struct MemorySink {
     target: PathBuf,
     bytes: Vec<u8>,
-    into: Arc<Mutex<Vec<(PathBuf, Vec<u8>)>>>,
+    into: Shared,
 }
 
 impl PointSink for MemorySink {
