@@ -6,6 +6,7 @@
 //! [`StudyError`] naming the file, the key path and, where known, the line and column.
 
 pub mod csv_input;
+pub mod keys;
 pub mod num;
 pub mod raw;
 pub mod reference;
