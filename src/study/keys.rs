@@ -144,9 +144,14 @@ impl<'a> Parser<'a> {
                     } else {
                         std::slice::from_raw_parts(s.value, s.length as usize)
                     };
-                    Ev::Scalar(String::from_utf8_lossy(bytes).into_owned(), anchor(s.anchor))
+                    Ev::Scalar(
+                        String::from_utf8_lossy(bytes).into_owned(),
+                        anchor(s.anchor),
+                    )
                 }
-                sys::YAML_ALIAS_EVENT => Ev::Alias(anchor((*e).data.alias.anchor).unwrap_or_default()),
+                sys::YAML_ALIAS_EVENT => {
+                    Ev::Alias(anchor((*e).data.alias.anchor).unwrap_or_default())
+                }
                 sys::YAML_DOCUMENT_END_EVENT | sys::YAML_STREAM_END_EVENT => Ev::DocumentEnd,
                 _ => Ev::Other,
             };
