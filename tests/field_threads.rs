@@ -244,6 +244,8 @@ fields:
     write: out/points.csv
 ",
     );
+    // meshbound creates no folder for a study: the per-point file's folder must exist.
+    std::fs::create_dir_all(w.path().join("out")).unwrap();
 }
 
 /// Runs `meshbound assess study.yaml` in `w` with `RAYON_NUM_THREADS` set to `threads` (or

@@ -40,6 +40,8 @@ fn field_summary_and_per_point_file_follow_the_contract() {
     let w = Workdir::new();
     write_probes(&w, 100, 2.0);
     w.write("s.yaml", STUDY);
+    // meshbound creates no folder for a study: the per-point file's folder must exist.
+    std::fs::create_dir_all(w.path().join("out")).unwrap();
     let o = run_in(w.path(), &["assess", "s.yaml", "-f", "json"]);
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
@@ -100,6 +102,8 @@ fn mismatched_probe_files_are_refused_with_file_and_line() {
     let w = Workdir::new();
     write_probes(&w, 10, 2.0);
     w.write("s.yaml", STUDY);
+    // meshbound creates no folder for a study: the per-point file's folder must exist.
+    std::fs::create_dir_all(w.path().join("out")).unwrap();
     let b = std::fs::read_to_string(w.path().join("b.csv"))
         .unwrap()
         .replace("id4,", "id44,");

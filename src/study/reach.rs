@@ -128,9 +128,11 @@ impl Reach {
                     return Err(self.outside(given, Some(&c)))
                 }
                 Ok(_) => {}
-                Err(_) => return Err(format!(
+                Err(_) => {
+                    return Err(format!(
                     "{given} is a symbolic link that leads nowhere: remove it or name another file"
-                )),
+                ))
+                }
             }
         }
         Ok(())
