@@ -239,21 +239,31 @@ fn endless_devices_are_refused_with_bounded_memory() {
         eprintln!("skipped: no /dev/zero here");
         return;
     }
-    // As a sweep file: one endless line of zero bytes.
+    // As a sweep file: outside the study's folder, and not a regular file (changed: devices
+    // used to be read up to the bounds; now none is opened for reading).
     let w = sweep_workdir();
     w.write("s.yaml", &SWEEP_STUDY.replace("a.csv", "/dev/zero"));
     refused(
         &w,
         &["assess", "s.yaml"],
-        &["error: /dev/zero:1: the line is longer than 1048576 bytes"],
+        &["error: s.yaml:11:11: sweeps.cav.data.A.file: /dev/zero lies outside the study's folder"],
         &["b.csv", "c.csv", "s.yaml"],
     );
-    // As the study file itself: its size says 0, the read stops past 16 MiB.
+    let allowed = meshbound::study::LoadOptions {
+        allowed: vec!["/dev".into()],
+    };
+    let e = meshbound::study::load_with(&w.path().join("s.yaml"), &allowed).unwrap_err();
+    assert!(
+        e.to_string()
+            .contains("/dev/zero: is a character device, not a regular file (named by"),
+        "{e}"
+    );
+    // As the study file itself.
     let w = Workdir::new();
     refused(
         &w,
         &["assess", "/dev/zero"],
-        &["error: /dev/zero: more than 16777216 bytes were read; study files larger than 16777216 bytes are refused"],
+        &["error: /dev/zero: cannot read the study file: is a character device, not a regular file"],
         &[],
     );
 }
@@ -648,4 +658,218 @@ fn inputs_found_by_fuzzing_end_quickly() {
         ran += 1;
     }
     assert_eq!(ran, 5, "the kept inputs");
+}
+
+/// Makes a FIFO at `path` (the `mkfifo` command of POSIX) and starts a writer that opens it
+/// and closes it at once, so that a reader that blocked on it would see an empty file and
+/// fail the test on its message instead of hanging it. A reader that refuses the FIFO never
+/// meets the writer, which then waits until the test process ends.
+fn fifo(path: &Path) {
+    let made = Command::new("mkfifo").arg(path).status().unwrap();
+    assert!(made.success(), "mkfifo {}", path.display());
+    let p = path.to_path_buf();
+    std::thread::spawn(move || {
+        let _ = std::fs::OpenOptions::new().write(true).open(p);
+    });
+}
+
+#[test]
+fn inputs_that_are_not_regular_files_are_refused() {
+    // A FIFO as the study.
+    let w = Workdir::new();
+    fifo(&w.path().join("pipe.yaml"));
+    refused(
+        &w,
+        &["assess", "pipe.yaml"],
+        &["error: pipe.yaml: cannot read the study file: is a FIFO (named pipe), not a regular file"],
+        &["pipe.yaml"],
+    );
+    // A FIFO as a sweep CSV: the CSV file, the study and the key are named.
+    let w = sweep_workdir();
+    fifo(&w.path().join("a.csv"));
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &[
+            "a.csv",
+            "is a FIFO (named pipe), not a regular file",
+            "named by s.yaml at sweeps.cav.data.A.file",
+        ],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+    // A folder as a sweep CSV.
+    let w = sweep_workdir();
+    std::fs::create_dir(w.path().join("a.csv")).unwrap();
+    refused(
+        &w,
+        &["assess", "s.yaml"],
+        &[
+            "a.csv",
+            "is a folder, not a regular file",
+            "sweeps.cav.data.A.file",
+        ],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+    // A device as the study.
+    let w = Workdir::new();
+    refused(
+        &w,
+        &["assess", "/dev/null"],
+        &["/dev/null: cannot read the study file: is a character device, not a regular file"],
+        &[],
+    );
+}
+
+#[test]
+fn csv_messages_do_not_echo_other_files() {
+    // A study can name any file as a CSV: the missing-column message shows only header names
+    // that look like column names, and never the raw first line.
+    let w = sweep_workdir();
+    w.write(
+        "a.csv",
+        "root:$6$Zx9Qm2e$kq1vB0s:19000:0:99999:7:::\nbin:x:2:2:bin:/bin:/usr/sbin/nologin\n",
+    );
+    let err = refused(
+        &w,
+        &["assess", "s.yaml"],
+        &[
+            "a.csv:1",
+            "has no column `sigma` (the header row names: no name that looks like a column name)",
+        ],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+    assert!(!err.contains("root") && !err.contains("$6$"), "{err}");
+    // A long header and a long field are cut.
+    let long = "x".repeat(100_000);
+    w.write("a.csv", &format!("{long},y\n1,2\n"));
+    let err = refused(
+        &w,
+        &["assess", "s.yaml"],
+        &["has no column `sigma`"],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+    assert!(err.len() < 1000, "{} bytes of message", err.len());
+    w.write(
+        "a.csv",
+        &format!("sigma,efficiency\n0.4,0.9\n0.3,{long}\n0.2,0.89\n0.1,0.8\n"),
+    );
+    let err = refused(
+        &w,
+        &["assess", "s.yaml"],
+        &["a.csv:3", "column `efficiency`", "is not a number"],
+        &["a.csv", "b.csv", "c.csv", "s.yaml"],
+    );
+    assert!(err.len() < 1000, "{} bytes of message", err.len());
+}
+
+/// A sweep study in `case/` with `A`'s data from `a_file` and a field writing `write`.
+fn confined_study(a_file: &str, write: &str) -> Workdir {
+    let w = Workdir::new();
+    w.write(
+        "case/s.yaml",
+        &format!(
+            "format: 1
+meshes:
+  - {{name: A, size: 1}}
+  - {{name: B, size: 2}}
+  - {{name: C, size: 4}}
+sweeps:
+  cav:
+    x: sigma
+    responses: [efficiency]
+    data:
+      A: {{file: {a_file}}}
+      B: {{file: b.csv}}
+      C: {{file: c.csv}}
+fields:
+  blade:
+    columns: [cp]
+    data: {{A: p1.csv, B: p2.csv, C: p3.csv}}
+    write: {write}
+"
+        ),
+    );
+    for f in ["a", "b", "c"] {
+        w.write(&format!("case/{f}.csv"), GOOD_CSV);
+    }
+    for (f, v) in [("p1", 1.0), ("p2", 1.1), ("p3", 1.3)] {
+        w.write(
+            &format!("case/{f}.csv"),
+            &format!("id,cp\nq1,{v}\nq2,{}\n", 2.0 * v),
+        );
+    }
+    w.write("secret.csv", GOOD_CSV);
+    w
+}
+
+#[test]
+fn a_study_reads_and_writes_only_inside_its_folder() {
+    let inputs = ["case", "secret.csv"];
+    // Inside: passes, and writes its per-point file.
+    let w = confined_study("a.csv", "points.csv");
+    let o = run_in(w.path(), &["assess", "case/s.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    assert!(w.path().join("case/points.csv").exists());
+    // `..` out of the folder.
+    let w = confined_study("../secret.csv", "points.csv");
+    refused(
+        &w,
+        &["assess", "case/s.yaml"],
+        &[
+            "error: case/s.yaml:11:11: sweeps.cav.data.A.file: ../secret.csv lies outside the study's folder",
+            "; allow it on the command line with --reach DIR",
+        ],
+        &inputs,
+    );
+    // An absolute path out.
+    let secret = w.path().join("secret.csv");
+    let w = confined_study(secret.to_str().unwrap(), "points.csv");
+    refused(
+        &w,
+        &["assess", "case/s.yaml"],
+        &["sweeps.cav.data.A.file", "lies outside the study's folder"],
+        &inputs,
+    );
+    // A symbolic link inside that points out.
+    let w = confined_study("l.csv", "points.csv");
+    std::os::unix::fs::symlink(w.path().join("secret.csv"), w.path().join("case/l.csv")).unwrap();
+    refused(
+        &w,
+        &["assess", "case/s.yaml"],
+        &[
+            "sweeps.cav.data.A.file: l.csv leads (through a symbolic link) to",
+            "outside the study's folder",
+        ],
+        &inputs,
+    );
+    // Writing out of the folder, also through a folder that does not exist.
+    let w = confined_study("a.csv", "../points.csv");
+    refused(
+        &w,
+        &["assess", "case/s.yaml"],
+        &["case/s.yaml:18:5: fields.blade.write: ../points.csv lies outside the study's folder"],
+        &inputs,
+    );
+    let w = confined_study("a.csv", "nowhere/../../points.csv");
+    refused(
+        &w,
+        &["assess", "case/s.yaml"],
+        &["fields.blade.write: nowhere/../../points.csv lies outside the study's folder"],
+        &inputs,
+    );
+    assert!(!w.path().join("case/nowhere").exists());
+    // A missing folder inside is made for the per-point file.
+    let w = confined_study("a.csv", "nowhere/points.csv");
+    let o = run_in(w.path(), &["assess", "case/s.yaml"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    assert!(w.path().join("case/nowhere/points.csv").is_file());
+    // The library lets the caller allow more.
+    let w = confined_study("../secret.csv", "points.csv");
+    let study = w.path().join("case/s.yaml");
+    assert!(meshbound::study::load(&study).is_err());
+    let options = meshbound::study::LoadOptions {
+        allowed: vec![w.path().to_path_buf()],
+    };
+    let s = meshbound::study::load_with(&study, &options).unwrap();
+    assert!(s.files_read.iter().any(|p| p.ends_with("secret.csv")));
 }

@@ -273,6 +273,8 @@ fn an_interrupted_field_run_leaves_no_temporary_file() {
     let mut interrupted = 0;
     for signal in ["INT", "TERM", "INT", "TERM", "INT", "TERM"] {
         let _ = std::fs::remove_dir_all(&out);
+        // meshbound creates no folder for a study: the per-point file's folder must exist.
+        std::fs::create_dir(&out).unwrap();
         let mut child = Command::new(env!("CARGO_BIN_EXE_meshbound"))
             .args(["assess", "s.yaml"])
             .current_dir(w.path())

@@ -180,19 +180,21 @@ pub enum OpenError {
 /// Opens a CSV file a study names: its size is checked first, then it is read through
 /// [`Bounded`], trimmed, with `#` comment lines and a header row.
 pub fn open(path: &Path) -> Result<csv::Reader<Bounded<File>>, OpenError> {
-    let meta = std::fs::metadata(path).map_err(OpenError::Io)?;
-    if meta.is_dir() {
-        return Err(OpenError::Refused(
-            "is a folder, not a CSV file".to_string(),
-        ));
-    }
+    // Opened without blocking: a FIFO, a device or a folder is refused before any read.
+    let file = crate::input::open_regular(path).map_err(|e| {
+        if e.kind() == io::ErrorKind::InvalidInput {
+            OpenError::Refused(e.to_string())
+        } else {
+            OpenError::Io(e)
+        }
+    })?;
+    let meta = file.metadata().map_err(OpenError::Io)?;
     if meta.len() > MAX_CSV_BYTES {
         return Err(OpenError::Refused(format!(
             "the file has {} bytes; CSV files above 256 MiB are refused",
             meta.len()
         )));
     }
-    let file = File::open(path).map_err(OpenError::Io)?;
     Ok(csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
@@ -200,9 +202,92 @@ pub fn open(path: &Path) -> Result<csv::Reader<Bounded<File>>, OpenError> {
         .from_reader(Bounded::new(file)))
 }
 
+/// Most header names a message shows.
+pub const MAX_NAMES_SHOWN: usize = 12;
+
+/// Longest header name or field shown in full, in characters; longer ones are cut.
+pub const MAX_NAME_CHARS: usize = 32;
+
+/// Whether a header name looks like a column name: letters, digits, blanks and the signs of
+/// units and indices. Anything else (a line of some other file) is not echoed.
+fn looks_like_name(name: &str) -> bool {
+    !name.is_empty()
+        && name
+            .chars()
+            .all(|c| c.is_alphanumeric() || " _-.()[]/%°·+^".contains(c))
+}
+
+fn cut(text: &str) -> String {
+    if text.chars().count() > MAX_NAME_CHARS {
+        let mut t: String = text.chars().take(MAX_NAME_CHARS).collect();
+        t.push('…');
+        t
+    } else {
+        text.to_string()
+    }
+}
+
+/// The header names of a CSV file as a message may show them: only names that look like
+/// column names, each cut to [`MAX_NAME_CHARS`] characters, at most [`MAX_NAMES_SHOWN`] of
+/// them, and a count of the rest. A message never echoes raw text of a file this way (a study
+/// could name any file).
+pub fn header_names(headers: &csv::StringRecord) -> String {
+    let mut shown = Vec::new();
+    let mut hidden = 0usize;
+    for h in headers.iter() {
+        if shown.len() < MAX_NAMES_SHOWN && looks_like_name(h) {
+            shown.push(format!("`{}`", cut(h)));
+        } else {
+            hidden += 1;
+        }
+    }
+    match (shown.is_empty(), hidden) {
+        (true, _) => "no name that looks like a column name".to_string(),
+        (false, 0) => shown.join(", "),
+        (false, n) => format!(
+            "{} and {n} other{} not shown",
+            shown.join(", "),
+            if n == 1 { "" } else { "s" }
+        ),
+    }
+}
+
+/// A CSV field as a message may show it: cut to [`MAX_NAME_CHARS`] characters, with
+/// control characters replaced.
+pub fn field_text(field: &str) -> String {
+    cut(&field
+        .chars()
+        .map(|c| if c.is_control() { '�' } else { c })
+        .collect::<String>())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn header_names_echo_only_column_like_names() {
+        let rec = |v: &[&str]| csv::StringRecord::from(v.to_vec());
+        assert_eq!(
+            header_names(&rec(&["sigma", "head (m)"])),
+            "`sigma`, `head (m)`"
+        );
+        // A line of some other file: not echoed.
+        let secret = "root:$6$abc$Zx9:19000:0:99999:7:::";
+        let shown = header_names(&rec(&[secret]));
+        assert!(!shown.contains("root"), "{shown}");
+        assert_eq!(shown, "no name that looks like a column name");
+        // Long names are cut, and the count is capped.
+        let long = "a".repeat(1000);
+        let shown = header_names(&rec(&[&long]));
+        assert!(shown.chars().count() < MAX_NAME_CHARS + 5, "{shown}");
+        let many: Vec<String> = (0..100).map(|i| format!("c{i}")).collect();
+        let many: Vec<&str> = many.iter().map(String::as_str).collect();
+        let shown = header_names(&rec(&many));
+        assert!(shown.ends_with("and 88 others not shown"), "{shown}");
+        assert!(field_text(&"9".repeat(5000)).chars().count() <= MAX_NAME_CHARS + 1);
+        assert_eq!(field_text("a\u{1b}[2J"), "a�[2J");
+    }
 
     /// Reads all of `text` through a reader with small limits; the overrun, if any.
     fn overrun(text: &[u8], record: usize, total: u64) -> Option<Overrun> {

@@ -6,8 +6,10 @@
 //! [`StudyError`] naming the file, the key path and, where known, the line and column.
 
 pub mod csv_input;
+pub mod keys;
 pub mod num;
 pub mod raw;
+pub mod reach;
 pub mod reference;
 pub mod sweep;
 
@@ -121,8 +123,22 @@ pub struct Study {
     pub sizes_from_cells: Option<Vec<f64>>,
 }
 
-/// Reads and checks a study file.
+/// What a study may reach besides its own folder.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct LoadOptions {
+    /// Extra folders the study may read from and write into (the study's own folder is
+    /// always allowed).
+    pub allowed: Vec<PathBuf>,
+}
+
+/// Reads and checks a study file; the files it names must lie in its folder.
 pub fn load(path: &Path) -> Result<Study, StudyError> {
+    load_with(path, &LoadOptions::default())
+}
+
+/// Reads and checks a study file; the files it names must lie in its folder or in one of
+/// `options.allowed`.
+pub fn load_with(path: &Path, options: &LoadOptions) -> Result<Study, StudyError> {
     let whole = |message: String| StudyError {
         file: path.to_path_buf(),
         key: String::new(),
@@ -130,11 +146,12 @@ pub fn load(path: &Path) -> Result<Study, StudyError> {
         column: None,
         message,
     };
-    let meta =
-        std::fs::metadata(path).map_err(|e| whole(format!("cannot read the study file: {e}")))?;
-    if meta.is_dir() {
-        return Err(whole("is a directory, not a study file".into()));
-    }
+    // Opened without blocking: a FIFO, a device or a folder is refused before any read.
+    let file = crate::input::open_regular(path)
+        .map_err(|e| whole(format!("cannot read the study file: {e}")))?;
+    let meta = file
+        .metadata()
+        .map_err(|e| whole(format!("cannot read the study file: {e}")))?;
     if meta.len() > MAX_STUDY_BYTES {
         return Err(whole(format!(
             "the file has {} bytes; study files larger than {} bytes are refused (put large data in CSV files beside it)",
@@ -144,12 +161,11 @@ pub fn load(path: &Path) -> Result<Study, StudyError> {
     }
     // Read at most one byte past the limit: a device or a file that grows is refused too.
     let mut bytes = Vec::with_capacity(meta.len().min(MAX_STUDY_BYTES) as usize);
-    std::fs::File::open(path)
-        .and_then(|f| {
-            use std::io::Read;
-            f.take(MAX_STUDY_BYTES + 1).read_to_end(&mut bytes)
-        })
-        .map_err(|e| whole(format!("cannot read the study file: {e}")))?;
+    {
+        use std::io::Read;
+        file.take(MAX_STUDY_BYTES + 1).read_to_end(&mut bytes)
+    }
+    .map_err(|e| whole(format!("cannot read the study file: {e}")))?;
     if bytes.len() as u64 > MAX_STUDY_BYTES {
         return Err(whole(format!(
             "more than {MAX_STUDY_BYTES} bytes were read; study files larger than {MAX_STUDY_BYTES} bytes are refused (put large data in CSV files beside it)"
@@ -161,7 +177,7 @@ pub fn load(path: &Path) -> Result<Study, StudyError> {
             e.utf8_error().valid_up_to()
         ))
     })?;
-    parse(&text, path)
+    parse_with(&text, path, options)
 }
 
 /// Splits a serde_yaml message into key path and the rest.
@@ -414,10 +430,36 @@ fn check_expansion(text: &str, path: &Path) -> Result<(), StudyError> {
 }
 
 /// Deserializes YAML text into `T`, turning any failure into a [`StudyError`] with the exact
-/// key path (serde_path_to_error) and the best line and column available: serde_yaml points
-/// at the enclosing mapping for values refused after reading, so the key is looked up from
-/// there.
+/// key path (serde_path_to_error) and the position of that key (from the file's
+/// [`keys::KeyIndex`]). A key given twice in one mapping is refused.
 pub fn read_yaml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Result<T, StudyError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let index = build_index(text, path)?;
+    read_yaml_indexed(text, path, &index)
+}
+
+/// Builds the key-path index of a study's text; a duplicate key is refused with both
+/// positions. A text the YAML parser refuses gives an empty index (the reading proper words
+/// that error).
+pub fn build_index(text: &str, path: &Path) -> Result<keys::KeyIndex, StudyError> {
+    match keys::KeyIndex::build(text) {
+        Ok(ix) => Ok(ix),
+        Err(keys::IndexError::Syntax) => Ok(keys::KeyIndex::default()),
+        Err(keys::IndexError::Duplicate(d)) => Err(StudyError {
+            file: path.to_path_buf(),
+            key: d.path.clone(),
+            line: Some(d.second.line),
+            column: Some(d.second.column),
+            message: d.message(),
+        }),
+    }
+}
+
+fn read_yaml_indexed<T: serde::de::DeserializeOwned>(
+    text: &str,
+    path: &Path,
+    index: &keys::KeyIndex,
+) -> Result<T, StudyError> {
     let de = serde_yaml::Deserializer::from_str(text);
     serde_path_to_error::deserialize::<_, T>(de).map_err(|e| {
         let key = e.path().to_string();
@@ -426,30 +468,18 @@ pub fn read_yaml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Res
         let (_, message) = split_yaml_message(&inner.to_string());
         let mut line = inner.location().map(|l| l.line());
         let mut column = inner.location().map(|l| l.column());
-        if let Some(last) = key
-            .rsplit('.')
-            .next()
-            .filter(|s| !s.is_empty() && !s.ends_with(']'))
-        {
-            let from = line.unwrap_or(1);
-            let needle = format!("{last}:");
-            if let Some((li, col)) = text
-                .lines()
-                .enumerate()
-                .skip(from.saturating_sub(1))
-                .find_map(|(i, l)| {
-                    l.find(&needle)
-                        .filter(|&c| {
-                            c == 0
-                                || !l.as_bytes()[c - 1].is_ascii_alphanumeric()
-                                    && l.as_bytes()[c - 1] != b'_'
-                        })
-                        .map(|c| (i + 1, c + 1))
-                })
-            {
-                line = Some(li);
-                column = Some(col);
+        // The key's own position when the file holds it; else serde_yaml's, else the
+        // position of the longest part of the path the file holds.
+        match index.find(&key) {
+            Some((p, true)) => {
+                line = Some(p.line);
+                column = Some(p.column);
             }
+            Some((p, false)) if line.is_none() => {
+                line = Some(p.line);
+                column = Some(p.column);
+            }
+            _ => {}
         }
         StudyError {
             file: path.to_path_buf(),
@@ -461,43 +491,50 @@ pub fn read_yaml<T: serde::de::DeserializeOwned>(text: &str, path: &Path) -> Res
     })
 }
 
-/// Finds the 1-based line of the first line matching `pred` at or after line `from`.
-fn find_line(text: &str, from: usize, pred: impl Fn(&str) -> bool) -> Option<usize> {
-    text.lines()
-        .enumerate()
-        .skip(from.saturating_sub(1))
-        .find(|(_, l)| pred(l))
-        .map(|(i, _)| i + 1)
+/// Errors at a key path, placed with the file's key index.
+pub struct At<'a> {
+    /// The study file.
+    pub file: &'a Path,
+    /// Its key index.
+    pub index: &'a keys::KeyIndex,
+}
+
+impl At<'_> {
+    /// An error at `key` (its position, or that of its longest prefix in the file).
+    pub fn err(&self, key: impl Into<String>, message: String) -> StudyError {
+        let key = key.into();
+        let pos = self.index.pos(&key);
+        StudyError {
+            file: self.file.to_path_buf(),
+            key,
+            line: pos.map(|p| p.line),
+            column: pos.map(|p| p.column),
+            message,
+        }
+    }
 }
 
 /// Parses and checks the text of a study file; `path` is used in messages and to resolve
 /// files the study names.
 pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
-    let err = |key: String, line: Option<usize>, message: String| StudyError {
-        file: path.to_path_buf(),
-        key,
-        line,
-        column: None,
-        message,
-    };
+    parse_with(text, path, &LoadOptions::default())
+}
+
+/// [`parse`] with the folders the study may reach besides its own.
+pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Study, StudyError> {
+    // A byte-order mark is no part of the first key (and no column an editor shows).
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     if check_shape(text, path)?.aliases {
         check_expansion(text, path)?;
     }
-    let raw: RawStudy = read_yaml(text, path)?;
-    let meshes_line = find_line(text, 1, |l| l.trim_start().starts_with("meshes:"));
-    // The line of the i-th mesh entry: the i-th `name:` key after `meshes:`.
-    let mesh_line = |index: usize| {
-        text.lines()
-            .enumerate()
-            .skip(meshes_line.unwrap_or(1))
-            .filter(|(_, l)| {
-                let t = l.trim_start().trim_start_matches('-').trim_start();
-                let t = t.trim_start_matches('{').trim_start();
-                t.starts_with("name:")
-            })
-            .nth(index)
-            .map(|(i, _)| i + 1)
+    let index = build_index(text, path)?;
+    let at = At {
+        file: path,
+        index: &index,
     };
+    let err = |key: String, message: String| at.err(key, message);
+    let raw: RawStudy = read_yaml_indexed(text, path, &index)?;
+    let reach = reach::Reach::new(path, &options.allowed);
     let index_of = |name: &str| raw.meshes.iter().position(|m| m.name == name).unwrap_or(0);
 
     // Meshes: names, then sizes.
@@ -506,14 +543,12 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         if m.name.trim().is_empty() {
             return Err(err(
                 format!("meshes[{i}].name"),
-                mesh_line(i),
                 "the mesh name is empty: give every mesh a unique, non-empty name".into(),
             ));
         }
         if !seen.insert(m.name.as_str()) {
             return Err(err(
                 format!("meshes[{i}].name"),
-                mesh_line(i),
                 format!(
                     "the mesh name `{}` is used twice: mesh names must be unique",
                     m.name
@@ -523,14 +558,12 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         if m.cells.is_none() && m.size.is_none() {
             return Err(err(
                 format!("meshes[{i}]"),
-                mesh_line(i),
                 format!("mesh `{}` gives neither `cells` nor `size`: one is needed for its representative size", m.name),
             ));
         }
         if m.extent.is_some() && m.cells.is_none() {
             return Err(err(
                 format!("meshes[{i}].extent"),
-                mesh_line(i),
                 format!("mesh `{}` gives `extent` without `cells`: h = (extent/cells)^(1/dimension) needs both", m.name),
             ));
         }
@@ -538,7 +571,6 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
     if raw.meshes.len() < 3 {
         return Err(err(
             "meshes".into(),
-            meshes_line,
             format!(
                 "the study has {} mesh{}; at least three are needed for an observed order",
                 raw.meshes.len(),
@@ -558,27 +590,24 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         })
         .collect();
     let (meshes, order, size_basis) = grid::sizes(&specs, dimension).map_err(|e| {
-        let line = match &e {
-            GridError::SameSize(_, b, _) => mesh_line(index_of(b)),
-            GridError::NoSize(n) | GridError::BadSize(n) => mesh_line(index_of(n)),
-            _ => meshes_line,
+        let key = match &e {
+            GridError::SameSize(_, b, _) => format!("meshes[{}]", index_of(b)),
+            GridError::NoSize(n) | GridError::BadSize(n) => format!("meshes[{}]", index_of(n)),
+            _ => "meshes".into(),
         };
-        err("meshes".into(), line, e.to_string())
+        let mut e = err(key, e.to_string());
+        e.key = "meshes".into();
+        e
     })?;
 
     // Quantities: one finite value per mesh, no unknown mesh names.
-    let quantities_line = find_line(text, 1, |l| l.trim_start().starts_with("quantities:"));
     let mut quantities = Vec::new();
     for (qname, q) in &raw.quantities {
-        let qline = find_line(text, quantities_line.unwrap_or(1), |l| {
-            l.trim_start().starts_with(&format!("{qname}:"))
-        });
         for name in q.values.keys() {
             if !seen.contains(name.as_str()) {
                 let known: Vec<&str> = raw.meshes.iter().map(|m| m.name.as_str()).collect();
                 return Err(err(
                     format!("quantities.{qname}.values.{name}"),
-                    qline,
                     format!(
                         "names the mesh `{name}`, which is not in `meshes` (known: {})",
                         known.join(", ")
@@ -593,7 +622,6 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
                 None => {
                     return Err(err(
                         format!("quantities.{qname}.values"),
-                        qline,
                         format!(
                             "has no value for the mesh `{}`: give one value per mesh",
                             m.name
@@ -633,7 +661,6 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         {
             return Err(err(
                 format!("acceptance[{i}]"),
-                find_line(text, 1, |l| l.contains(&format!("target: {}", a.target))),
                 format!("the limit for `{}` sets nothing: give max_relative, max_absolute, require or min_meshes", a.target),
             ));
         }
@@ -641,7 +668,6 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
     if raw.settings.estimator == Some(EstimatorChoice::LeastSquares) && meshes.len() < 4 {
         return Err(err(
             "settings.estimator".into(),
-            find_line(text, 1, |l| l.trim_start().starts_with("estimator:")),
             format!(
                 "`least_squares` needs at least four meshes; the study has {}: use `auto` or `three_grid`",
                 meshes.len()
@@ -658,21 +684,17 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         &raw.sweeps,
         &mesh_names,
         gravity,
-        path,
-        text,
+        &at,
+        &reach,
         &mut files_read,
     )?;
     let mut fields = Vec::new();
     let mut files_written = Vec::new();
     for (fname, f) in &raw.fields {
         let key = format!("fields.{fname}");
-        let fline = find_line(text, 1, |l| {
-            l.trim_start().starts_with(&format!("{fname}:"))
-        });
         if f.columns.is_empty() {
             return Err(err(
                 format!("{key}.columns"),
-                fline,
                 "names no column: list the quantities to estimate at every probe".into(),
             ));
         }
@@ -680,7 +702,6 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
             if !mesh_names.contains(m) {
                 return Err(err(
                     format!("{key}.data.{m}"),
-                    fline,
                     format!(
                         "names the mesh `{m}`, which is not in `meshes` (known: {})",
                         mesh_names.join(", ")
@@ -695,7 +716,6 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         if idx.len() < 3 {
             return Err(err(
                 format!("{key}.data"),
-                fline,
                 format!(
                     "gives probe files for {} mesh(es); three are needed",
                     idx.len()
@@ -703,17 +723,24 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
             ));
         }
         let base = path.parent().unwrap_or(Path::new(""));
-        let files: Vec<PathBuf> = idx
-            .iter()
-            .map(|&i| base.join(&f.data[&meshes[i].name]))
-            .collect();
+        let mut files: Vec<PathBuf> = Vec::with_capacity(3);
+        for &i in &idx {
+            let given = &f.data[&meshes[i].name];
+            let file = base.join(given);
+            reach
+                .read(given, &file)
+                .map_err(|m| err(format!("{key}.data.{}", meshes[i].name), m))?;
+            files.push(file);
+        }
         files_read.extend(files.iter().cloned());
         let write = f.write.as_ref().map(|w| base.join(w));
-        if let Some(w) = &write {
+        if let (Some(w), Some(given)) = (&write, &f.write) {
+            reach
+                .write(given, w)
+                .map_err(|m| err(format!("{key}.write"), m))?;
             if files.contains(w) || w == path {
                 return Err(err(
                     format!("{key}.write"),
-                    fline,
                     "would overwrite an input file".into(),
                 ));
             }
@@ -734,7 +761,8 @@ pub fn parse(text: &str, path: &Path) -> Result<Study, StudyError> {
         &raw.reference_data,
         &quantities,
         &sweeps,
-        path,
+        &at,
+        &reach,
         &mut files_read,
     )?;
     let title = raw.title.clone().unwrap_or_else(|| {
@@ -811,7 +839,146 @@ mod tests {
         let e = p(&t).unwrap_err();
         assert_eq!(e.key, "meshes[2].cells");
         assert_eq!(e.line, Some(7));
-        assert!(e.message.contains("finite number > 0"), "{e}");
+        // Cell counts below 1 are refused with what a cell count is (a changed message:
+        // before, any number > 0 passed).
+        assert!(e.message.contains("a cell count ≥ 1"), "{e}");
+        let e = p(&GOOD.replace("cells: 8000", "cells: 0.5")).unwrap_err();
+        assert_eq!(e.key, "meshes[2].cells");
+        assert!(e.message.contains("a mesh has at least one cell"), "{e}");
+    }
+
+    #[test]
+    fn order_max_above_100_is_refused() {
+        let t = format!("{GOOD}settings:\n  order_max: 1e8\n");
+        let e = p(&t).unwrap_err();
+        assert_eq!(e.key, "settings.order_max");
+        assert_eq!((e.line, e.column), (Some(12), Some(3)));
+        assert!(e.message.contains("at most 100"), "{e}");
+        let ok = format!("{GOOD}settings:\n  order_max: 100\n");
+        assert_eq!(p(&ok).unwrap().settings.order_max, 100.0);
+    }
+
+    #[test]
+    fn duplicate_keys_are_refused_at_every_level() {
+        // (what, text, key path, line, column, lines named)
+        let cases: &[(&str, String, &str, usize, usize, &str)] = &[
+            (
+                "a quantity defined twice",
+                format!("{GOOD}  q:\n    values: {{a: 1, b: 2, c: 3}}\n"),
+                "quantities.q",
+                11,
+                3,
+                "lines 9 and 11",
+            ),
+            (
+                "a mesh twice in one values map",
+                GOOD.replace("c: 5.863}", "c: 5.863, a: 6.1}"),
+                "quantities.q.values.a",
+                10,
+                44,
+                "line 10, columns 14 and 44",
+            ),
+            (
+                "a setting twice",
+                format!("{GOOD}settings:\n  safety_factor: 1.25\n  'safety_factor': 3\n"),
+                "settings.safety_factor",
+                13,
+                3,
+                "lines 12 and 13",
+            ),
+            (
+                "a top-level key twice",
+                format!("{GOOD}title: u\n"),
+                "title",
+                11,
+                1,
+                "lines 2 and 11",
+            ),
+            (
+                "a key of a mesh twice",
+                GOOD.replace("{name: c, cells: 4500}", "{name: c, cells: 4500, cells: 9}"),
+                "meshes[0].cells",
+                5,
+                28,
+                "line 5, columns 15 and 28",
+            ),
+        ];
+        for (what, text, key, line, column, lines) in cases {
+            let e = p(text).unwrap_err();
+            assert_eq!(e.key, *key, "{what}: {e}");
+            assert_eq!(
+                (e.line, e.column),
+                (Some(*line), Some(*column)),
+                "{what}: {e}"
+            );
+            assert!(e.message.contains("defined twice"), "{what}: {e}");
+            assert!(e.message.contains(lines), "{what}: {e}");
+        }
+    }
+
+    #[test]
+    fn a_byte_order_mark_before_the_first_key_is_read() {
+        let t = format!("\u{feff}{GOOD}");
+        assert_eq!(p(&t).unwrap().quantities.len(), 1);
+        // Positions stay those an editor shows.
+        let t = format!("\u{feff}{}", GOOD.replace("format: 1", "format: 9"));
+        let e = p(&t).unwrap_err();
+        assert_eq!(
+            (e.key.as_str(), e.line, e.column),
+            ("format", Some(1), Some(1)),
+            "{e}"
+        );
+        let t = format!("\u{feff}{}", GOOD.replace("cells: 8000", "cells: -1"));
+        let e = p(&t).unwrap_err();
+        assert_eq!((e.line, e.column), (Some(7), Some(15)), "{e}");
+    }
+
+    #[test]
+    fn a_field_named_like_a_quantity_is_placed_at_the_field() {
+        // Before the key index, `q:` was searched from the top and the quantity's line given.
+        let t = format!("{GOOD}fields:\n  q:\n    columns: []\n    data: {{a: a.csv}}\n");
+        let e = p(&t).unwrap_err();
+        assert_eq!(e.key, "fields.q.columns");
+        assert_eq!(e.line, Some(13), "{e}");
+    }
+
+    /// A study with `n` more quantities.
+    fn many(n: usize) -> String {
+        let mut t = GOOD.to_string();
+        for i in 0..n {
+            t.push_str(&format!(
+                "  q{i}:\n    values: {{a: 6.063, b: 5.972, c: 5.863}}\n"
+            ));
+        }
+        t
+    }
+
+    #[test]
+    fn reading_is_linear_in_the_number_of_quantities() {
+        // The work of the key index (events, key bytes, look-ups) is counted, not timed:
+        // twice the quantities must cost about twice the work (a quadratic reader, four times).
+        let work = |n: usize| {
+            let t = many(n);
+            let ix = keys::KeyIndex::build(&t).unwrap();
+            for i in (0..n).step_by(100) {
+                let _ = ix.pos(&format!("quantities.q{i}.values.c"));
+            }
+            ix.work()
+        };
+        let (w1, w2) = (work(5_000), work(10_000));
+        let ratio = w2 as f64 / w1 as f64;
+        assert!(
+            (1.8..2.3).contains(&ratio),
+            "work {w1} → {w2}, ratio {ratio}"
+        );
+        // The whole reader goes through 20 000 quantities and places an error in the last.
+        let t = many(20_000).replace(
+            "q19999:\n    values: {a: 6.063",
+            "q19999:\n    values: {a: .nan",
+        );
+        let e = p(&t).unwrap_err();
+        assert_eq!(e.key, "quantities.q19999.values.a");
+        assert_eq!(e.line, Some(12 + 2 * 19_999), "{e}");
     }
 
     #[test]

@@ -125,3 +125,50 @@ checked!(
     Fraction, true, |v: f64| v.is_finite() && v > 0.0 && v < 1.0, "a fraction between 0 and 1 (or a percentage such as `1%`)",
     percent_schema(serde_json::json!({"type": "number", "exclusiveMinimum": 0, "exclusiveMaximum": 1}))
 );
+/// Largest `settings.order_max` accepted. The observed-order search scans (0, order_max];
+/// discretisations have formal orders of a few units, and a bound far above that only spreads
+/// the search over orders no scheme reaches (at 1e8 it broke the search).
+pub const MAX_ORDER_MAX: f64 = 100.0;
+
+checked!(
+    /// A cell count: a finite number ≥ 1.
+    CellCount, false, |v: f64| v.is_finite() && v >= 1.0,
+    "a cell count ≥ 1 (a mesh has at least one cell)",
+    serde_json::json!({"type": "number", "minimum": 1, "description": "a cell count ≥ 1"})
+);
+checked!(
+    /// The upper end of the observed-order search: a finite number in (0, [`MAX_ORDER_MAX`]].
+    OrderMax, false, |v: f64| v.is_finite() && v > 0.0 && v <= MAX_ORDER_MAX,
+    "a finite number > 0 and at most 100 (the observed-order search scans (0, order_max]; formal orders are a few units, so a larger bound only spreads the search over orders no scheme reaches)",
+    serde_json::json!({"type": "number", "exclusiveMinimum": 0, "maximum": 100, "description": "upper end of the observed-order search, at most 100"})
+);
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn read<T: serde::de::DeserializeOwned>(text: &str) -> Result<T, String> {
+        serde_yaml::from_str(text).map_err(|e| e.to_string())
+    }
+
+    #[test]
+    fn cell_counts_below_one_are_refused() {
+        assert_eq!(read::<CellCount>("1").unwrap(), CellCount(1.0));
+        assert_eq!(read::<CellCount>("3.4e6").unwrap(), CellCount(3.4e6));
+        for bad in ["0.5", "0", "-3", ".inf", ".nan"] {
+            let e = read::<CellCount>(bad).unwrap_err();
+            assert!(e.contains("a cell count ≥ 1"), "{bad}: {e}");
+        }
+    }
+
+    #[test]
+    fn order_max_is_bounded() {
+        assert_eq!(read::<OrderMax>("100").unwrap(), OrderMax(100.0));
+        assert_eq!(read::<OrderMax>("20").unwrap(), OrderMax(20.0));
+        for bad in ["100.5", "1e8", "0", "-1", ".inf"] {
+            let e = read::<OrderMax>(bad).unwrap_err();
+            assert!(e.contains("at most 100"), "{bad}: {e}");
+            assert!(e.contains("(0, order_max]"), "{bad}: {e}");
+        }
+    }
+}

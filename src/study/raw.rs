@@ -138,9 +138,9 @@ impl<'de> Deserialize<'de> for Dimension {
 pub struct RawMesh {
     /// Unique, non-empty name.
     pub name: String,
-    /// Cell count.
+    /// Cell count (≥ 1).
     #[serde(default)]
-    pub cells: Option<Positive>,
+    pub cells: Option<super::num::CellCount>,
     /// Representative size h.
     #[serde(default)]
     pub size: Option<Positive>,
@@ -189,9 +189,9 @@ pub struct RawSettings {
     /// Safety factor of the three-mesh GCI (default 1.25).
     #[serde(default)]
     pub safety_factor: Option<Positive>,
-    /// Upper end of the observed-order search (default 20).
+    /// Upper end of the observed-order search (default 20, at most 100).
     #[serde(default)]
-    pub order_max: Option<Positive>,
+    pub order_max: Option<super::num::OrderMax>,
     /// Which estimator governs.
     #[serde(default)]
     pub estimator: Option<EstimatorChoice>,

@@ -189,7 +189,10 @@ fn read_points_csv(
                 Ok(v) if v.is_finite() => Ok(v),
                 _ => Err(e(
                     line,
-                    format!("column `{name}`: `{f}` is not a finite number"),
+                    format!(
+                        "column `{name}`: `{}` is not a finite number",
+                        super::csv_input::field_text(f)
+                    ),
                 )),
             }
         };
@@ -213,16 +216,12 @@ pub fn check(
     raw: &IndexMap<String, RawReference>,
     quantities: &[super::Quantity],
     sweeps: &[super::sweep::Sweep],
-    file: &Path,
+    at: &super::At,
+    reach: &super::reach::Reach,
     files_read: &mut Vec<PathBuf>,
 ) -> Result<Vec<Reference>, StudyError> {
-    let err = |key: String, message: String| StudyError {
-        file: file.to_path_buf(),
-        key,
-        line: None,
-        column: None,
-        message,
-    };
+    let file = at.file;
+    let err = |key: String, message: String| at.err(key, message);
     let base = file.parent().unwrap_or(Path::new(""));
     let mut out = Vec::new();
     for (name, r) in raw {
@@ -281,6 +280,9 @@ pub fn check(
                 }
                 if let Some(f) = &r.file {
                     let p = base.join(f);
+                    reach
+                        .read(f, &p)
+                        .map_err(|m| err(format!("{key}.file"), m))?;
                     for (x, v, u) in read_points_csv(&p, &format!("{key}.file"), file)? {
                         pts.push((x, v, u.map(AbsOrPercent::Absolute)));
                     }

@@ -327,43 +327,7 @@ pub struct Sweep {
     pub band: Option<BandSpec>,
 }
 
-struct Ctx<'a> {
-    file: &'a Path,
-    text: &'a str,
-}
-
-impl Ctx<'_> {
-    fn err(&self, key: String, message: String) -> StudyError {
-        // Best line: the last path segment that names a key, searched after `sweeps:`.
-        let from = self
-            .text
-            .lines()
-            .position(|l| l.trim_start().starts_with("sweeps:"))
-            .unwrap_or(0);
-        let mut line = None;
-        for seg in key.split('.').skip(1) {
-            let seg = seg.split('[').next().unwrap_or(seg);
-            let start = line.unwrap_or(from);
-            if let Some(i) = self
-                .text
-                .lines()
-                .enumerate()
-                .skip(start)
-                .find(|(_, l)| l.contains(&format!("{seg}:")))
-                .map(|(i, _)| i)
-            {
-                line = Some(i);
-            }
-        }
-        StudyError {
-            file: self.file.to_path_buf(),
-            key,
-            line: line.map(|l| l + 1),
-            column: None,
-            message,
-        }
-    }
-}
+type Ctx<'a> = super::At<'a>;
 
 /// Reads the needed numeric columns of a CSV file. Errors name the CSV file, its line and the
 /// column.
@@ -413,7 +377,7 @@ fn read_csv(
                     line: Some(1),
                     ..data_err(format!(
                         "has no column `{n}` (the header row names: {})",
-                        headers.iter().collect::<Vec<_>>().join(", ")
+                        super::csv_input::header_names(&headers)
                     ))
                 })
             }
@@ -439,14 +403,19 @@ fn read_csv(
             let field = rec.get(i).unwrap_or("");
             let v: f64 = field.parse().map_err(|_| StudyError {
                 line,
-                ..data_err(format!("column `{}`: `{field}` is not a number", needed[k]))
+                ..data_err(format!(
+                    "column `{}`: `{}` is not a number",
+                    needed[k],
+                    super::csv_input::field_text(field)
+                ))
             })?;
             if !v.is_finite() {
                 return Err(StudyError {
                     line,
                     ..data_err(format!(
-                        "column `{}`: {field} is not a finite number",
-                        needed[k]
+                        "column `{}`: {} is not a finite number",
+                        needed[k],
+                        super::csv_input::field_text(field)
                     ))
                 });
             }
@@ -461,12 +430,11 @@ pub fn check(
     raw: &IndexMap<String, RawSweep>,
     mesh_names: &[String],
     gravity: f64,
-    file: &Path,
-    text: &str,
+    ctx: &Ctx,
+    reach: &super::reach::Reach,
     files_read: &mut Vec<PathBuf>,
 ) -> Result<Vec<Sweep>, StudyError> {
-    let ctx = Ctx { file, text };
-    let base = file.parent().unwrap_or(Path::new(""));
+    let base = ctx.file.parent().unwrap_or(Path::new(""));
     let mut out = Vec::new();
     for (name, s) in raw {
         let at = |k: &str| format!("sweeps.{name}.{k}");
@@ -522,7 +490,10 @@ pub fn check(
             let key = at(&format!("data.{mname}"));
             let cols = if let Some(f) = &d.file {
                 let p = base.join(f);
-                let c = read_csv(&p, &wanted, &format!("{key}.file"), &ctx)?;
+                reach
+                    .read(f, &p)
+                    .map_err(|m| ctx.err(format!("{key}.file"), m))?;
+                let c = read_csv(&p, &wanted, &format!("{key}.file"), ctx)?;
                 files_read.push(p);
                 c
             } else {
