@@ -12,7 +12,7 @@
 
 use std::collections::HashMap;
 use std::mem::MaybeUninit;
-use unsafe_libyaml as sys;
+use unsafe_libyaml as yaml_unsafe;
 
 /// A 1-based line and column (columns count characters, as an editor shows them).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -80,7 +80,7 @@ pub enum IndexError {
 
 /// A libyaml parser over a borrowed string; boxed because the parser points at itself.
 struct Parser<'a> {
-    raw: Box<MaybeUninit<sys::yaml_parser_t>>,
+    raw: Box<MaybeUninit<yaml_unsafe::yaml_parser_t>>,
     _input: &'a [u8],
 }
 
@@ -110,36 +110,38 @@ unsafe fn anchor(p: *const u8) -> Option<Vec<u8>> {
 
 impl<'a> Parser<'a> {
     fn new(input: &'a [u8]) -> Option<Self> {
-        let mut raw = Box::new(MaybeUninit::<sys::yaml_parser_t>::uninit());
+        let mut raw = Box::new(MaybeUninit::<yaml_unsafe::yaml_parser_t>::uninit());
         // SAFETY: the parser lives in a box that never moves while in use and is deleted in
         // `drop`; the input outlives the parser (lifetime 'a).
         unsafe {
             let p = raw.as_mut_ptr();
-            if sys::yaml_parser_initialize(p).fail {
+            if yaml_unsafe::yaml_parser_initialize(p).fail {
                 return None;
             }
-            sys::yaml_parser_set_encoding(p, sys::YAML_UTF8_ENCODING);
-            sys::yaml_parser_set_input_string(p, input.as_ptr(), input.len() as _);
+            yaml_unsafe::yaml_parser_set_encoding(p, yaml_unsafe::YAML_UTF8_ENCODING);
+            yaml_unsafe::yaml_parser_set_input_string(p, input.as_ptr(), input.len() as _);
         }
         Some(Parser { raw, _input: input })
     }
 
     fn next(&mut self) -> Result<(Ev, Pos), ()> {
-        let mut event = MaybeUninit::<sys::yaml_event_t>::uninit();
+        let mut event = MaybeUninit::<yaml_unsafe::yaml_event_t>::uninit();
         // SAFETY: the parser is initialised (see `new`); a parsed event is read according to
         // its type and deleted before returning.
         unsafe {
             let p = self.raw.as_mut_ptr();
             let e = event.as_mut_ptr();
-            if sys::yaml_parser_parse(p, e).fail {
+            if yaml_unsafe::yaml_parser_parse(p, e).fail {
                 return Err(());
             }
             let mark = (*e).start_mark;
             let ev = match (*e).type_ {
-                sys::YAML_MAPPING_START_EVENT => Ev::MapStart,
-                sys::YAML_SEQUENCE_START_EVENT => Ev::SeqStart,
-                sys::YAML_MAPPING_END_EVENT | sys::YAML_SEQUENCE_END_EVENT => Ev::End,
-                sys::YAML_SCALAR_EVENT => {
+                yaml_unsafe::YAML_MAPPING_START_EVENT => Ev::MapStart,
+                yaml_unsafe::YAML_SEQUENCE_START_EVENT => Ev::SeqStart,
+                yaml_unsafe::YAML_MAPPING_END_EVENT | yaml_unsafe::YAML_SEQUENCE_END_EVENT => {
+                    Ev::End
+                }
+                yaml_unsafe::YAML_SCALAR_EVENT => {
                     let s = (*e).data.scalar;
                     let bytes = if s.value.is_null() {
                         &[][..]
@@ -151,13 +153,15 @@ impl<'a> Parser<'a> {
                         anchor(s.anchor),
                     )
                 }
-                sys::YAML_ALIAS_EVENT => {
+                yaml_unsafe::YAML_ALIAS_EVENT => {
                     Ev::Alias(anchor((*e).data.alias.anchor).unwrap_or_default())
                 }
-                sys::YAML_DOCUMENT_END_EVENT | sys::YAML_STREAM_END_EVENT => Ev::DocumentEnd,
+                yaml_unsafe::YAML_DOCUMENT_END_EVENT | yaml_unsafe::YAML_STREAM_END_EVENT => {
+                    Ev::DocumentEnd
+                }
                 _ => Ev::Other,
             };
-            sys::yaml_event_delete(e);
+            yaml_unsafe::yaml_event_delete(e);
             let pos = Pos {
                 line: mark.line as usize + 1,
                 column: mark.column as usize + 1,
@@ -170,7 +174,7 @@ impl<'a> Parser<'a> {
 impl Drop for Parser<'_> {
     fn drop(&mut self) {
         // SAFETY: initialised in `new` (a parser is only built when that succeeded).
-        unsafe { sys::yaml_parser_delete(self.raw.as_mut_ptr()) }
+        unsafe { yaml_unsafe::yaml_parser_delete(self.raw.as_mut_ptr()) }
     }
 }
 

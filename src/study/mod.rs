@@ -855,7 +855,10 @@ mod tests {
         assert_eq!((e.line, e.column), (Some(12), Some(3)));
         assert!(e.message.contains("at most 100"), "{e}");
         let ok = format!("{GOOD}settings:\n  order_max: 100\n");
-        assert_eq!(p(&ok).unwrap().settings.order_max, 100.0);
+        assert_eq!(
+            p(&ok).unwrap().settings.order_max.to_bits(),
+            100f64.to_bits()
+        );
     }
 
     #[test]
