@@ -436,4 +436,35 @@ quantities:
         field("plain", &mut out);
         assert_eq!(out, "\"'+1\"\"a,b\"plain");
     }
+
+    #[test]
+    fn sweep_results_carry_their_role_and_meshes() {
+        let a = fixture::assess(fixture::DEMO);
+        let s = &a.sweeps[0];
+        let b = &s.breakdown[0];
+        let (sweep, response) = (s.name.clone(), b.response.clone());
+        assert_eq!(
+            b.x_estimate.role,
+            crate::assess::Role::Breakdown {
+                sweep: sweep.clone(),
+                response: response.clone()
+            }
+        );
+        assert_eq!(
+            b.reference_estimate.role,
+            crate::assess::Role::Reference { sweep, response }
+        );
+        assert_eq!(b.x_estimate.meshes, s.meshes);
+        assert_eq!(a.quantities[0].role, crate::assess::Role::Quantity);
+        let names: Vec<String> = a.meshes.iter().map(|m| m.name.clone()).collect();
+        assert_eq!(a.quantities[0].meshes, names);
+        let (head, rows) = parse(&Csv.export(&a));
+        let col = |name: &str| head.iter().position(|h| h == name).expect(name);
+        let row = rows
+            .iter()
+            .find(|r| r[col("name")] == b.x_estimate.name)
+            .expect("breakdown row");
+        assert_eq!(&row[col("sweep")], s.name.as_str());
+        assert_eq!(&row[col("meshes")], s.meshes.join(";").as_str());
+    }
 }
