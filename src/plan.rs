@@ -173,14 +173,9 @@ pub fn for_target(
         .uncertainty
         .as_ref()
         .ok_or_else(|| PlanError::Invalid(format!("`{name}` has no uncertainty estimate")))?;
-    let order = match u.method {
-        Method::LeastSquares => q.least_squares.as_ref().and_then(|l| l.order),
-        _ => q
-            .three_grid
-            .as_ref()
-            .and_then(|t| t.estimate.observed_order),
-    }
-    .ok_or_else(|| PlanError::Invalid(format!("`{name}` has no observed order to plan with")))?;
+    let order = q.governing.as_ref().and_then(|g| g.order).ok_or_else(|| {
+        PlanError::Invalid(format!("`{name}` has no observed order to plan with"))
+    })?;
     if order <= 0.0 {
         return Err(PlanError::Invalid(format!(
             "`{name}` has a non-positive order {order}"

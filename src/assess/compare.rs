@@ -1,7 +1,7 @@
 //! Comparisons with measurements: the simulation value and its discretisation uncertainty at
 //! every measured point, then the V&V 20 comparison of [`crate::compare`].
 
-use super::{quantity, QuantityResult};
+use super::{quantity, QuantityResult, Role};
 use crate::compare::{compare, CompareSettings, Comparison, Measured, Simulated};
 use crate::estimate::three_grid::ThreeGridSettings;
 use crate::study::reference::{AbsOrPercent, Reference, ReferenceTarget};
@@ -108,6 +108,10 @@ pub fn run(
                     let mut ignored = Vec::new();
                     let q = quantity(
                         "",
+                        Role::ComparisonPoint {
+                            comparison: r.name.clone(),
+                            x: m.x,
+                        },
                         None,
                         &meshes,
                         &values,

@@ -4,7 +4,7 @@
 //! design notes): field names here are fixed.
 
 use crate::estimate::least_squares::{self, LeastSquares, LsSettings};
-use crate::estimate::three_grid::{self, Governing, ThreeGrid, ThreeGridSettings};
+use crate::estimate::three_grid::{self, ThreeGrid, ThreeGridSettings};
 use crate::estimate::Convergence;
 use crate::grid::Mesh;
 use crate::sink::Outputs;
@@ -15,7 +15,10 @@ use crate::Error;
 use serde::Serialize;
 
 pub mod compare;
+mod govern;
 pub mod sweep;
+
+pub use govern::{govern, GoverningEstimate, Role, Rule};
 
 /// The caution carried by every report.
 pub const CAUTION: &str =
@@ -126,10 +129,15 @@ impl Uncertainty {
 pub struct QuantityResult {
     /// Name.
     pub name: String,
+    /// The role this result plays (a quantity, a sweep's breakdown or reference, …).
+    pub role: Role,
     /// Unit.
     pub unit: Option<String>,
     /// Values finest first.
     pub values: Vec<f64>,
+    /// Names of the meshes the values lie on, finest first (the study's meshes for a quantity,
+    /// the sweep's meshes for a sweep's result).
+    pub meshes: Vec<String>,
     /// Convergence class that the governing estimate found.
     pub convergence: Option<Convergence>,
     /// Three-mesh estimate on the three finest meshes.
@@ -138,13 +146,17 @@ pub struct QuantityResult {
     pub least_squares: Option<LeastSquares>,
     /// The uncertainty statement (`None` when divergent).
     pub uncertainty: Option<Uncertainty>,
+    /// The governing estimate chosen by [`govern`] (`None` when there is no estimate).
+    pub governing: Option<GoverningEstimate>,
 }
 
 /// Estimates one quantity over the meshes (finest first): the three-mesh estimate on the three
-/// finest meshes, and the least-squares estimate over all meshes from four on. `estimator`
-/// says which governs the uncertainty.
+/// finest meshes, and the least-squares estimate over all meshes from four on. [`govern`]
+/// decides with `estimator` which governs the uncertainty.
+#[allow(clippy::too_many_arguments)]
 pub fn quantity(
     name: &str,
+    role: Role,
     unit: Option<&str>,
     meshes: &[Mesh],
     values: &[f64],
@@ -152,16 +164,19 @@ pub fn quantity(
     estimator: EstimatorChoice,
     warnings: &mut Vec<Warning>,
 ) -> QuantityResult {
+    let n = meshes.len().min(values.len());
     let mut out = QuantityResult {
         name: name.to_string(),
+        role,
         unit: unit.map(str::to_string),
         values: values.to_vec(),
+        meshes: meshes[..n].iter().map(|m| m.name.clone()).collect(),
         convergence: None,
         three_grid: None,
         least_squares: None,
         uncertainty: None,
+        governing: None,
     };
-    let n = meshes.len().min(values.len());
     if n < 3 {
         warnings.push(
             Warning::new("too_few_meshes", "fewer than three meshes: no estimate").about(name),
@@ -173,15 +188,6 @@ pub fn quantity(
     match three_grid::estimate(h, phi, settings) {
         Ok(mut tg) => {
             warnings.extend(tg.warnings.drain(..).map(|w| w.about(name)));
-            out.convergence = Some(tg.convergence);
-            out.uncertainty = tg.uncertainty.map(|u| {
-                let method = if tg.governing == Some(Governing::OscillationRange) {
-                    Method::OscillationRange
-                } else {
-                    Method::ThreeGrid
-                };
-                Uncertainty::new(method, values[0], u)
-            });
             out.three_grid = Some(ThreeGridResult {
                 meshes: meshes[..3].iter().map(|m| m.name.clone()).collect(),
                 estimate: tg,
@@ -190,13 +196,12 @@ pub fn quantity(
         Err(e) => warnings.push(Warning::new("estimate_failed", e.to_string()).about(name)),
     }
     if n >= 4 {
-        let names: Vec<String> = meshes[..n].iter().map(|m| m.name.clone()).collect();
         let hs: Vec<f64> = meshes[..n].iter().map(|m| m.size).collect();
-        match least_squares::estimate(&names, &hs, &values[..n], &LsSettings::default()) {
+        match least_squares::estimate(&out.meshes, &hs, &values[..n], &LsSettings::default()) {
             Ok(mut ls) => {
                 warnings.extend(ls.warnings.drain(..).map(|w| w.about(name)));
                 let ls_u = ls.per_mesh.first().map(|m| m.uncertainty);
-                let tg_u = out.uncertainty.as_ref().map(|u| u.absolute);
+                let tg_u = out.three_grid.as_ref().and_then(|t| t.estimate.uncertainty);
                 if let (Some(a), Some(b)) = (ls_u, tg_u) {
                     let (lo, hi) = (a.min(b), a.max(b));
                     if hi > 2.0 * lo {
@@ -211,19 +216,20 @@ pub fn quantity(
                         );
                     }
                 }
-                if estimator != EstimatorChoice::ThreeGrid {
-                    out.convergence = Some(ls.convergence);
-                    out.uncertainty = if ls.convergence == Convergence::Divergent {
-                        None
-                    } else {
-                        ls_u.map(|u| Uncertainty::new(Method::LeastSquares, values[0], u))
-                    };
-                }
                 out.least_squares = Some(ls);
             }
             Err(e) => warnings
                 .push(Warning::new("estimate_failed", format!("least squares: {e}")).about(name)),
         }
+    }
+    out.governing = govern(
+        out.three_grid.as_ref().map(|t| &t.estimate),
+        out.least_squares.as_ref(),
+        estimator,
+    );
+    if let Some(g) = &out.governing {
+        out.convergence = Some(g.convergence);
+        out.uncertainty = g.absolute.map(|u| Uncertainty::new(g.method, values[0], u));
     }
     out
 }
@@ -345,6 +351,7 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
         .map(|q: &Quantity| {
             quantity(
                 &q.name,
+                Role::Quantity,
                 q.unit.as_deref(),
                 &study.meshes,
                 &q.values,

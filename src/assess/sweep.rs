@@ -1,7 +1,7 @@
 //! Sweeps: the breakdown x and the reference of every mesh, each estimated like a scalar
 //! quantity, and the uncertainty band along a response curve at common abscissae.
 
-use super::{quantity, QuantityResult};
+use super::{quantity, QuantityResult, Role};
 use crate::estimate::three_grid::ThreeGridSettings;
 use crate::estimate::Convergence;
 use crate::grid::Mesh;
@@ -235,8 +235,32 @@ pub fn assess_sweep(
             relative: matches!(b.drop, DropRule::Relative(_)),
             reference_rule: b.reference,
             per_mesh,
-            x_estimate: quantity(&bname, Some(&s.x), &sub, &bx, settings, estimator, warnings),
-            reference_estimate: quantity(&rname, None, &sub, &refs, settings, estimator, warnings),
+            x_estimate: quantity(
+                &bname,
+                Role::Breakdown {
+                    sweep: s.name.clone(),
+                    response: b.response.clone(),
+                },
+                Some(&s.x),
+                &sub,
+                &bx,
+                settings,
+                estimator,
+                warnings,
+            ),
+            reference_estimate: quantity(
+                &rname,
+                Role::Reference {
+                    sweep: s.name.clone(),
+                    response: b.response.clone(),
+                },
+                None,
+                &sub,
+                &refs,
+                settings,
+                estimator,
+                warnings,
+            ),
         });
     }
     let band = match &s.band {
@@ -331,6 +355,11 @@ fn band(
         let Some(values) = values else { continue };
         let q = quantity(
             "",
+            Role::BandPoint {
+                sweep: s.name.clone(),
+                response: b.response.clone(),
+                x,
+            },
             None,
             sub,
             &values,
@@ -338,16 +367,8 @@ fn band(
             estimator,
             &mut point_warnings,
         );
-        let (extrapolated, order) = match (&q.least_squares, &q.three_grid) {
-            (Some(ls), _)
-                if q.uncertainty.as_ref().map(|u| u.method)
-                    == Some(super::Method::LeastSquares) =>
-            {
-                (ls.selected_fit().map(|f| f.phi0), ls.order)
-            }
-            (_, Some(tg)) => (tg.estimate.extrapolated, tg.estimate.observed_order),
-            _ => (None, None),
-        };
+        let g = q.governing.as_ref();
+        let (extrapolated, order) = (g.and_then(|g| g.extrapolated), g.and_then(|g| g.order));
         match q.convergence {
             Some(Convergence::Monotonic) => classes.monotonic += 1,
             Some(Convergence::Oscillatory) => classes.oscillatory += 1,

@@ -36,9 +36,13 @@
 //! | `meshes` | mesh names finest first, `;`-separated | the sweep's meshes |
 //! | `mesh_values` | values finest first, `;`-separated | – |
 //!
+//! Text cells (names, units, mesh lists, paths, labels) that begin with `=`, `+`, `-`, `@`, tab
+//! or carriage return get a leading `'` and are quoted, so that a spreadsheet shows them as text
+//! ([`text`]); numeric cells are never changed.
+//!
 //! The same table is in `docs/exports.md`.
 
-use super::format::{full, governing_extrapolated, governing_order};
+use super::format::full;
 use super::Exporter;
 use crate::assess::sweep::{BandPoint, SweepResult};
 use crate::assess::{Assessment, Method, QuantityResult};
@@ -91,20 +95,33 @@ fn method(m: Method) -> &'static str {
     }
 }
 
-fn quantity_row(sweep: &str, meshes: &[String], q: &QuantityResult) -> Vec<String> {
+/// The first characters that make a spreadsheet read a cell as a formula (or, for tab and
+/// carriage return, that some spreadsheets strip before reading one).
+pub const FORMULA_STARTS: [char; 6] = ['=', '+', '-', '@', '\t', '\r'];
+
+/// A text cell (a name, unit, path or label from the study) made safe for spreadsheets: when it
+/// begins with one of [`FORMULA_STARTS`] it gets a leading `'` (and the writer quotes it), so
+/// that a spreadsheet shows it as text instead of running it as a formula. Numbers never go
+/// through here: `-0.5` written by meshbound stays a number. A lone `-` (the usual unit of a
+/// dimensionless quantity) is left as it is: with nothing after it, it cannot form a formula.
+pub fn text(s: &str) -> String {
+    if s != "-" && s.starts_with(FORMULA_STARTS) {
+        format!("'{s}")
+    } else {
+        s.to_string()
+    }
+}
+
+fn quantity_row(q: &QuantityResult) -> Vec<String> {
     let u = q.uncertainty.as_ref();
+    let g = q.governing.as_ref();
     let tg = q.three_grid.as_ref().map(|t| &t.estimate);
     let ls = q.least_squares.as_ref();
-    let mesh_names: Vec<String> = match (&q.least_squares, &q.three_grid) {
-        (Some(ls), _) => ls.per_mesh.iter().map(|m| m.mesh.clone()).collect(),
-        (None, Some(t)) => t.meshes.clone(),
-        (None, None) => meshes.iter().take(q.values.len()).cloned().collect(),
-    };
     vec![
         "quantity".into(),
-        sweep.into(),
-        q.name.clone(),
-        q.unit.clone().unwrap_or_default(),
+        text(q.role.sweep().unwrap_or_default()),
+        text(&q.name),
+        text(q.unit.as_deref().unwrap_or_default()),
         String::new(),
         o(u.map(|u| u.value).or(q.values.first().copied())),
         o(u.map(|u| u.absolute)),
@@ -113,8 +130,8 @@ fn quantity_row(sweep: &str, meshes: &[String], q: &QuantityResult) -> Vec<Strin
         o(u.map(|u| u.upper)),
         q.convergence.map_or("", |c| c.label()).into(),
         u.map_or("", |u| method(u.method)).into(),
-        o(governing_order(q)),
-        o(governing_extrapolated(q)),
+        o(g.and_then(|g| g.order)),
+        o(g.and_then(|g| g.extrapolated)),
         o(tg.and_then(|e| e.observed_order)),
         o(tg.and_then(|e| e.extrapolated)),
         o(tg.and_then(|e| e.uncertainty)),
@@ -127,7 +144,7 @@ fn quantity_row(sweep: &str, meshes: &[String], q: &QuantityResult) -> Vec<Strin
         o(ls.and_then(|l| l.per_mesh.first()).map(|m| m.uncertainty)),
         ls.map_or("", |l| l.selected.kind.label()).into(),
         ls.map_or(String::new(), |l| l.selected.weighted.to_string()),
-        mesh_names.join(";"),
+        text(&q.meshes.join(";")),
         q.values
             .iter()
             .map(|v| full(*v))
@@ -139,8 +156,8 @@ fn quantity_row(sweep: &str, meshes: &[String], q: &QuantityResult) -> Vec<Strin
 fn band_row(s: &SweepResult, response: &str, p: &BandPoint) -> Vec<String> {
     let mut row = vec![String::new(); COLUMNS.len() + 2];
     row[0] = "band_point".into();
-    row[1] = s.name.clone();
-    row[2] = response.into();
+    row[1] = text(&s.name);
+    row[2] = text(response);
     row[4] = full(p.x);
     row[5] = full(p.value);
     row[6] = o(p.absolute);
@@ -149,25 +166,24 @@ fn band_row(s: &SweepResult, response: &str, p: &BandPoint) -> Vec<String> {
     row[10] = p.convergence.map_or("", |c| c.label()).into();
     row[12] = o(p.order);
     row[13] = o(p.extrapolated);
-    row[COLUMNS.len()] = s.meshes.join(";");
+    row[COLUMNS.len()] = text(&s.meshes.join(";"));
     row
 }
 
-/// Every row of the export, header first.
+/// Every row of the export, header first, text cells already made safe by [`text`].
 pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
     let mut out = vec![COLUMNS
         .iter()
         .chain(&[MESHES, MESH_VALUES])
         .map(|c| c.to_string())
         .collect::<Vec<_>>()];
-    let names: Vec<String> = a.meshes.iter().map(|m| m.name.clone()).collect();
     for q in &a.quantities {
-        out.push(quantity_row("", &names, q));
+        out.push(quantity_row(q));
     }
     for s in &a.sweeps {
         for b in &s.breakdown {
-            out.push(quantity_row(&s.name, &s.meshes, &b.x_estimate));
-            out.push(quantity_row(&s.name, &s.meshes, &b.reference_estimate));
+            out.push(quantity_row(&b.x_estimate));
+            out.push(quantity_row(&b.reference_estimate));
         }
     }
     for s in &a.sweeps {
@@ -181,7 +197,7 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
         for path in paths {
             let mut row = vec![String::new(); COLUMNS.len() + 2];
             row[0] = kind.into();
-            row[2] = path.clone();
+            row[2] = text(path);
             out.push(row);
         }
     };
@@ -190,17 +206,31 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
     out
 }
 
+/// One cell as CSV (RFC 4180): quoted, with quotes doubled, when it holds a comma, a quote or a
+/// line break, and always when it begins with `'` (a cell neutralised by [`text`]).
+fn field(cell: &str, out: &mut String) {
+    if cell.starts_with('\'') || cell.contains([',', '"', '\n', '\r']) {
+        out.push('"');
+        out.push_str(&cell.replace('"', "\"\""));
+        out.push('"');
+    } else {
+        out.push_str(cell);
+    }
+}
+
 impl Exporter for Csv {
     fn export(&self, a: &Assessment) -> Vec<u8> {
-        let mut w = csv::Writer::from_writer(Vec::new());
+        let mut out = String::new();
         for r in rows(a) {
-            if let Err(e) = w.write_record(&r) {
-                return format!("error\nthe CSV could not be written: {e}\n").into_bytes();
+            for (i, cell) in r.iter().enumerate() {
+                if i > 0 {
+                    out.push(',');
+                }
+                field(cell, &mut out);
             }
+            out.push('\n');
         }
-        w.into_inner().unwrap_or_else(|e| {
-            format!("error\nthe CSV could not be written: {}\n", e.error()).into_bytes()
-        })
+        out.into_bytes()
     }
 }
 
@@ -328,5 +358,113 @@ mod tests {
         assert_eq!(&torque[col("value")], "101");
         let text = String::from_utf8(Csv.export(&a)).expect("UTF-8");
         assert!(!text.contains("NaN") && !text.contains("inf"));
+    }
+
+    /// Manufactured: φ = −0.4 − 0.1 h² on h = 1, 2, 4 gives −0.5, −0.8, −2.0; r = 2 and p = 2
+    /// exactly, φ_ext21 = −0.4, U = Fs |ε21| / (r^p − 1) = 1.25 · 0.3 / 3 = 0.125 (Celik et al.
+    /// 2008, eqs. 3–7 in absolute form), so value − U = −0.625. The names are hostile on
+    /// purpose: a formula, a unit that a spreadsheet would take for a number, a mesh name
+    /// beginning with `@`.
+    const HOSTILE: &str = r#"format: 1
+title: hostile names
+meshes:
+  - {name: "@m1", size: 1.0}
+  - {name: m2, size: 2.0}
+  - {name: m3, size: 4.0}
+quantities:
+  '=HYPERLINK("x")':
+    unit: "+1"
+    values: {"@m1": -0.5, m2: -0.8, m3: -2.0}
+"#;
+
+    #[test]
+    fn formula_text_is_neutralised_and_numbers_stay_numbers() {
+        let a = fixture::assess(HOSTILE);
+        let bytes = Csv.export(&a);
+        let text = String::from_utf8(bytes.clone()).expect("UTF-8");
+        // Exact text of the hostile cells: a leading quote, and the cell quoted.
+        assert!(
+            text.contains("\nquantity,,\"'=HYPERLINK(\"\"x\"\")\",\"'+1\",,-0.5,"),
+            "{text}"
+        );
+        assert!(text.contains(",\"'@m1;m2;m3\",-0.5;-0.8;-2\n"), "{text}");
+        let (head, rows) = parse(&bytes);
+        let col = |name: &str| head.iter().position(|h| h == name).expect(name);
+        let q = rows.iter().find(|r| &r[0] == "quantity").expect("row");
+        assert_eq!(&q[col("name")], "'=HYPERLINK(\"x\")");
+        assert_eq!(&q[col("unit")], "'+1");
+        assert_eq!(&q[col("meshes")], "'@m1;m2;m3");
+        // Negative figures written by meshbound stay numbers (manufactured values above).
+        assert_eq!(&q[col("value")], "-0.5");
+        assert_eq!(&q[col("mesh_values")], "-0.5;-0.8;-2");
+        let num = |c: &str| -> f64 { q[col(c)].parse().expect(c) };
+        assert_relative_eq!(num("absolute"), 0.125, max_relative = 1e-12);
+        assert_relative_eq!(num("lower"), -0.625, max_relative = 1e-12);
+        assert_relative_eq!(num("extrapolated"), -0.4, max_relative = 1e-12);
+        assert_relative_eq!(num("observed_order"), 2.0, max_relative = 1e-12);
+        // No cell of the file begins with a formula character unless it is a number.
+        for r in &rows {
+            for cell in r.iter() {
+                if cell.starts_with(FORMULA_STARTS) && cell != "-" {
+                    assert!(cell.split(';').all(|v| v.parse::<f64>().is_ok()), "{cell}");
+                }
+            }
+        }
+        // The JSON keeps the names as written.
+        assert_eq!(a.quantities[0].name, "=HYPERLINK(\"x\")");
+    }
+
+    #[test]
+    fn text_cells_beginning_with_a_formula_character_get_a_quote() {
+        for (raw, safe) in [
+            ("=1+1", "'=1+1"),
+            ("+1", "'+1"),
+            ("-x", "'-x"),
+            ("@SUM(A1)", "'@SUM(A1)"),
+            ("\t=1", "'\t=1"),
+            ("\r=1", "'\r=1"),
+            ("-", "-"),
+            ("efficiency", "efficiency"),
+            ("a=b", "a=b"),
+            ("", ""),
+        ] {
+            assert_eq!(text(raw), safe, "{raw:?}");
+        }
+        let mut out = String::new();
+        field("'+1", &mut out);
+        field("a,b", &mut out);
+        field("plain", &mut out);
+        assert_eq!(out, "\"'+1\"\"a,b\"plain");
+    }
+
+    #[test]
+    fn sweep_results_carry_their_role_and_meshes() {
+        let a = fixture::assess(fixture::DEMO);
+        let s = &a.sweeps[0];
+        let b = &s.breakdown[0];
+        let (sweep, response) = (s.name.clone(), b.response.clone());
+        assert_eq!(
+            b.x_estimate.role,
+            crate::assess::Role::Breakdown {
+                sweep: sweep.clone(),
+                response: response.clone()
+            }
+        );
+        assert_eq!(
+            b.reference_estimate.role,
+            crate::assess::Role::Reference { sweep, response }
+        );
+        assert_eq!(b.x_estimate.meshes, s.meshes);
+        assert_eq!(a.quantities[0].role, crate::assess::Role::Quantity);
+        let names: Vec<String> = a.meshes.iter().map(|m| m.name.clone()).collect();
+        assert_eq!(a.quantities[0].meshes, names);
+        let (head, rows) = parse(&Csv.export(&a));
+        let col = |name: &str| head.iter().position(|h| h == name).expect(name);
+        let row = rows
+            .iter()
+            .find(|r| r[col("name")] == b.x_estimate.name)
+            .expect("breakdown row");
+        assert_eq!(&row[col("sweep")], s.name.as_str());
+        assert_eq!(&row[col("meshes")], s.meshes.join(";").as_str());
     }
 }

@@ -97,34 +97,16 @@ pub fn method_label(m: crate::assess::Method) -> &'static str {
     }
 }
 
-/// Whether the least-squares estimate governed the quantity's uncertainty.
-fn least_squares_governs(q: &crate::assess::QuantityResult) -> bool {
-    q.uncertainty.as_ref().map(|u| u.method) == Some(crate::assess::Method::LeastSquares)
-}
-
-/// The observed order of the estimate that governed a quantity: the least-squares order when
-/// the least-squares fit governed, else the three-mesh observed order (as held, not computed).
+/// The observed order of the estimate that governed a quantity, as [`crate::assess::govern`]
+/// recorded it (`None` without one).
 pub fn governing_order(q: &crate::assess::QuantityResult) -> Option<f64> {
-    if least_squares_governs(q) {
-        q.least_squares.as_ref().and_then(|ls| ls.order)
-    } else {
-        q.three_grid
-            .as_ref()
-            .and_then(|t| t.estimate.observed_order)
-    }
+    q.governing.as_ref().and_then(|g| g.order)
 }
 
-/// The extrapolated value of the estimate that governed a quantity: φ0 of the selected
-/// least-squares fit when that governed, else the three-mesh φ_ext21.
+/// The extrapolated value of the estimate that governed a quantity, as
+/// [`crate::assess::govern`] recorded it (`None` without one).
 pub fn governing_extrapolated(q: &crate::assess::QuantityResult) -> Option<f64> {
-    if least_squares_governs(q) {
-        q.least_squares
-            .as_ref()
-            .and_then(|ls| ls.selected_fit())
-            .map(|f| f.phi0)
-    } else {
-        q.three_grid.as_ref().and_then(|t| t.estimate.extrapolated)
-    }
+    q.governing.as_ref().and_then(|g| g.extrapolated)
 }
 
 /// Indices of at most about `max` rows out of `n`, evenly spaced, always with the last row:

@@ -294,7 +294,12 @@ fn both_estimates_table(a: &Assessment) -> Option<TableBlock> {
     for q in &a.quantities {
         let Some(ls) = &q.least_squares else { continue };
         let tg = q.three_grid.as_ref().map(|t| &t.estimate);
-        let governs = match q.uncertainty.as_ref().map(|u| u.method) {
+        let governs = match q
+            .governing
+            .as_ref()
+            .filter(|g| g.absolute.is_some())
+            .map(|g| g.method)
+        {
             Some(Method::LeastSquares) => "least squares",
             Some(Method::ThreeGrid | Method::OscillationRange) => "three-mesh",
             None => "neither",

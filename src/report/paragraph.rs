@@ -15,9 +15,8 @@
 use super::format::{num, percent, sig, with_uncertainty};
 use super::table::{breakdown_rule, symbol};
 use crate::assess::sweep::SweepResult;
-use crate::assess::{Assessment, Method, QuantityResult};
+use crate::assess::{Assessment, Method, QuantityResult, Rule};
 use crate::estimate::least_squares::FitKind;
-use crate::estimate::three_grid::Governing;
 use crate::estimate::Convergence;
 
 /// The drafted uncertainty paragraph of an assessment: sentences separated by single spaces,
@@ -214,13 +213,14 @@ fn basis(q: &QuantityResult, method: Method) -> String {
             }
             None => format!("with {class}"),
         },
-        Method::ThreeGrid => match &q.three_grid {
-            Some(tg) => {
-                let e = &tg.estimate;
-                let fs = num(e.safety_factor, 3);
-                match (e.governing, e.observed_order) {
-                    (Some(Governing::NoChange), _) => format!("with {}", class_phrase(Convergence::NoChange)),
-                    (Some(Governing::FormalOrder), _) | (_, None) => format!(
+        Method::ThreeGrid => match (&q.governing, &q.three_grid) {
+            (Some(g), Some(tg)) => {
+                let fs = num(tg.estimate.safety_factor, 3);
+                match (g.rule, g.order) {
+                    (Some(Rule::NoChange), _) => {
+                        format!("with {}", class_phrase(Convergence::NoChange))
+                    }
+                    (Some(Rule::FormalOrder), _) | (_, None) => format!(
                         "with {class} but no observed order, so the formal order and safety factor Fs = {fs} were used"
                     ),
                     (_, Some(p)) => format!(
@@ -229,7 +229,7 @@ fn basis(q: &QuantityResult, method: Method) -> String {
                     ),
                 }
             }
-            None => format!("with {class}"),
+            _ => format!("with {class}"),
         },
     }
 }

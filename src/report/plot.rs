@@ -15,7 +15,7 @@
 use super::format::{governing_order, method_label, num, sig};
 use super::table::{breakdown_rule, statement, symbol};
 use crate::assess::sweep::SweepResult;
-use crate::assess::{Assessment, Method, QuantityResult};
+use crate::assess::{Assessment, Method, QuantityResult, Role};
 use crate::grid::Mesh;
 use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged};
 use plotters::coord::types::RangedCoordf64;
@@ -737,24 +737,9 @@ pub fn render(s: &Scene) -> Option<String> {
 // ---------------------------------------------------------------------------------------------
 // Convergence plot.
 
-/// The meshes of a quantity, aligned with its values (finest first): the least-squares or
-/// three-mesh meshes when it has those estimates, else the sweep's meshes for a sweep quantity
-/// (`<sweep>.…`), else the study's meshes.
+/// The meshes of a quantity, aligned with its values (finest first), as the result holds them.
 fn quantity_meshes<'a>(a: &'a Assessment, q: &QuantityResult) -> Option<Vec<&'a Mesh>> {
-    let names: Vec<String> = if let Some(ls) = &q.least_squares {
-        ls.per_mesh.iter().map(|m| m.mesh.clone()).collect()
-    } else if let Some(tg) = &q.three_grid {
-        tg.meshes.clone()
-    } else if let Some(s) = a
-        .sweeps
-        .iter()
-        .find(|s| q.name.starts_with(&format!("{}.", s.name)))
-    {
-        s.meshes.clone()
-    } else {
-        a.meshes.iter().map(|m| m.name.clone()).collect()
-    };
-    names
+    q.meshes
         .iter()
         .map(|n| a.meshes.iter().find(|m| &m.name == n))
         .collect()
@@ -763,22 +748,14 @@ fn quantity_meshes<'a>(a: &'a Assessment, q: &QuantityResult) -> Option<Vec<&'a 
 /// The axis label of a sweep's breakdown or reference estimate (its "unit" is the abscissa's
 /// name, not a unit); `None` for any other quantity.
 fn quantity_label(a: &Assessment, q: &QuantityResult) -> Option<String> {
-    a.sweeps.iter().find_map(|s| {
-        s.breakdown.iter().find_map(|b| {
-            if b.x_estimate.name == q.name {
-                Some(format!(
-                    "breakdown {} of {} ({}_b)",
-                    s.x,
-                    b.response,
-                    symbol(&s.x)
-                ))
-            } else if b.reference_estimate.name == q.name {
-                Some(format!("reference {}", axis_name(&b.response)))
-            } else {
-                None
-            }
-        })
-    })
+    match &q.role {
+        Role::Breakdown { sweep, response } => {
+            let x = a.sweep_x(sweep);
+            Some(format!("breakdown {x} of {response} ({}_b)", symbol(x)))
+        }
+        Role::Reference { response, .. } => Some(format!("reference {}", axis_name(response))),
+        _ => None,
+    }
 }
 
 /// A fitted curve to draw, with the extrapolated value it reaches at h = 0.
@@ -797,8 +774,12 @@ pub fn convergence_scene(a: &Assessment, q: &QuantityResult) -> Option<Scene> {
         return None;
     }
     let u = q.uncertainty.as_ref();
-    let ls_governs = u.map(|u| u.method) == Some(Method::LeastSquares);
-    let estimate = "three-mesh estimate";
+    let governing = q.governing.as_ref().filter(|_| u.is_some());
+    let ls_governs = governing.map(|g| g.method) == Some(Method::LeastSquares);
+    let estimate = match q.governing.as_ref().map(|g| g.method) {
+        Some(Method::LeastSquares) => "least-squares estimate",
+        _ => "three-mesh estimate",
+    };
     // The abscissa's order: with the least-squares fit governing, the order of the selected
     // fit (so that a first- or second-order fit draws straight); else the observed order.
     let selected = q
@@ -879,7 +860,7 @@ pub fn convergence_scene(a: &Assessment, q: &QuantityResult) -> Option<Scene> {
                 name: "φ0",
             });
         }
-    } else if u.map(|u| u.method) == Some(Method::ThreeGrid) {
+    } else if governing.map(|g| g.method) == Some(Method::ThreeGrid) {
         if let (Some(tg), Some(phi1)) = (&q.three_grid, q.values.first()) {
             if let (Some(ext), Some(_)) = (tg.estimate.extrapolated, tg.estimate.observed_order) {
                 // φ(h) = φ_ext + (φ1 − φ_ext)(h/h1)^p: a straight line against (h/h1)^p.

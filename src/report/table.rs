@@ -1,6 +1,6 @@
 //! Tables for people, built with comfy-table. Only formats the assessment.
 
-use super::format::{num, opt, opt_percent, percent, sig, with_uncertainty};
+use super::format::{method_label, num, opt, opt_percent, percent, sig, with_uncertainty};
 use super::Exporter;
 use crate::assess::{Assessment, Method, QuantityResult};
 use comfy_table::{presets, CellAlignment, ContentArrangement, Table as Grid, TableComponent};
@@ -30,11 +30,7 @@ pub fn statement(q: &QuantityResult) -> String {
     let class = q.convergence.map_or("no estimate", |c| c.label());
     match &q.uncertainty {
         Some(u) => {
-            let how = match u.method {
-                Method::ThreeGrid => "three-mesh GCI",
-                Method::OscillationRange => "half range of the oscillation",
-                Method::LeastSquares => "least-squares fit",
-            };
+            let how = method_label(u.method);
             let rel = u
                 .relative
                 .map_or_else(|| "value is zero".to_string(), percent);
@@ -55,13 +51,13 @@ fn quantity_block(a: &Assessment, q: &QuantityResult, out: &mut String) {
         .map_or(String::new(), |u| format!(" [{u}]"));
     out.push_str(&format!("\n{}{unit}\n  {}\n", q.name, statement(q)));
     let mut t = grid(&["mesh", "value", "Δ to next finer"]);
-    for (i, (m, v)) in a.meshes.iter().zip(&q.values).enumerate() {
+    for (i, (m, v)) in q.meshes.iter().zip(&q.values).enumerate() {
         let change = if i == 0 {
             "–".to_string()
         } else {
             sig(v - q.values[i - 1], 4)
         };
-        t.add_row(vec![m.name.clone(), num(*v, 8), change]);
+        t.add_row(vec![m.clone(), num(*v, 8), change]);
     }
     out.push_str(&format!("{t}\n"));
     if let Some(tg) = &q.three_grid {
@@ -107,7 +103,12 @@ fn least_squares_block(
     ls: &crate::estimate::least_squares::LeastSquares,
     out: &mut String,
 ) {
-    let governing = q.uncertainty.as_ref().map(|u| u.method);
+    // The estimate that governed, when it gave an uncertainty.
+    let governing = q
+        .governing
+        .as_ref()
+        .filter(|g| g.absolute.is_some())
+        .map(|g| g.method);
     let tg = q.three_grid.as_ref().map(|t| &t.estimate);
     let tg_head = q.three_grid.as_ref().map_or("three-mesh".to_string(), |t| {
         format!("three-mesh ({})", t.meshes.join(", "))

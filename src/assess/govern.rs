@@ -1,0 +1,269 @@
+//! The one place that decides which estimate governs a quantity's uncertainty, and the facts a
+//! result carries about itself (its meshes and its role), so that no exporter decides again or
+//! rebuilds them from names.
+//!
+//! The rule (docs/method.md): the least-squares estimate of Eça & Hoekstra (2014) governs when
+//! it exists (four or more meshes) and the study does not ask for the three-mesh estimate;
+//! otherwise the three-mesh estimate of Celik et al. (2008) governs, and within it the estimate
+//! itself says whether the GCI, half the range of an oscillation (Stern et al. 2001), the formal
+//! order with Fs = 3 (Roache 1998) or "no change" fixed U.
+
+use super::Method;
+use crate::estimate::least_squares::{FitChoice, LeastSquares};
+use crate::estimate::three_grid::{Governing, ThreeGrid};
+use crate::estimate::Convergence;
+use crate::study::raw::EstimatorChoice;
+use serde::Serialize;
+
+/// What fixed the uncertainty inside the governing estimate.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Rule {
+    /// The fine-mesh GCI with the observed order (Celik et al. 2008).
+    Gci,
+    /// Half the range of an oscillation (Stern et al. 2001).
+    OscillationRange,
+    /// The formal order with Fs = 3, no observed order being found (Roache 1998).
+    FormalOrder,
+    /// Nothing changed between the meshes: U = 0.
+    NoChange,
+    /// The selected least-squares fit (Eça & Hoekstra 2014).
+    LeastSquares,
+}
+
+/// The governing estimate of a quantity, as decided by [`govern`]: every exporter reads this
+/// record instead of choosing between the three-mesh and least-squares figures itself.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct GoverningEstimate {
+    /// The estimate that governs (the same word as `uncertainty.method`).
+    pub method: Method,
+    /// What fixed U inside it (`None` when it diverges and no U exists).
+    pub rule: Option<Rule>,
+    /// Its convergence class.
+    pub convergence: Convergence,
+    /// The selected least-squares fit, when the least-squares estimate governs.
+    pub fit: Option<FitChoice>,
+    /// Its observed order: the three-mesh p, or the least-squares free order (`None` where it
+    /// does not exist, e.g. when the formal order was assumed).
+    pub order: Option<f64>,
+    /// Its extrapolated value: the three-mesh φ_ext21, or φ0 of the selected least-squares fit.
+    pub extrapolated: Option<f64>,
+    /// Its absolute uncertainty U of the finest mesh (`None` when divergent).
+    pub absolute: Option<f64>,
+}
+
+/// Decides which estimate governs: the least-squares estimate when it exists and `estimator`
+/// is not [`EstimatorChoice::ThreeGrid`], else the three-mesh estimate; `None` when neither
+/// exists. A divergent least-squares estimate still governs (its class is the quantity's
+/// class) but gives no U.
+pub fn govern(
+    three_grid: Option<&ThreeGrid>,
+    least_squares: Option<&LeastSquares>,
+    estimator: EstimatorChoice,
+) -> Option<GoverningEstimate> {
+    if let Some(ls) = least_squares.filter(|_| estimator != EstimatorChoice::ThreeGrid) {
+        let absolute = if ls.convergence == Convergence::Divergent {
+            None
+        } else {
+            ls.per_mesh.first().map(|m| m.uncertainty)
+        };
+        return Some(GoverningEstimate {
+            method: Method::LeastSquares,
+            rule: absolute.map(|_| Rule::LeastSquares),
+            convergence: ls.convergence,
+            fit: Some(ls.selected),
+            order: ls.order,
+            extrapolated: ls.selected_fit().map(|f| f.phi0),
+            absolute,
+        });
+    }
+    let tg = three_grid?;
+    let rule = tg.governing.map(|g| match g {
+        Governing::Gci => Rule::Gci,
+        Governing::OscillationRange => Rule::OscillationRange,
+        Governing::FormalOrder => Rule::FormalOrder,
+        Governing::NoChange => Rule::NoChange,
+    });
+    Some(GoverningEstimate {
+        method: if rule == Some(Rule::OscillationRange) {
+            Method::OscillationRange
+        } else {
+            Method::ThreeGrid
+        },
+        rule,
+        convergence: tg.convergence,
+        fit: None,
+        order: tg.observed_order,
+        extrapolated: tg.extrapolated,
+        absolute: tg.uncertainty,
+    })
+}
+
+/// The role a result plays in the assessment.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum Role {
+    /// A scalar quantity of the study.
+    Quantity,
+    /// A sweep's breakdown abscissa, estimated over the sweep's meshes.
+    Breakdown {
+        /// The sweep.
+        sweep: String,
+        /// The response that breaks down.
+        response: String,
+    },
+    /// A sweep's non-cavitating reference of a response, estimated over the sweep's meshes.
+    Reference {
+        /// The sweep.
+        sweep: String,
+        /// The response.
+        response: String,
+    },
+    /// One point of a sweep's uncertainty band (kept in the band point, not in the JSON).
+    BandPoint {
+        /// The sweep.
+        sweep: String,
+        /// The band's response.
+        response: String,
+        /// The abscissa.
+        x: f64,
+    },
+    /// The simulation at one measured point of a comparison (not in the JSON).
+    ComparisonPoint {
+        /// The comparison.
+        comparison: String,
+        /// The abscissa (0 for a scalar quantity).
+        x: f64,
+    },
+}
+
+impl Role {
+    /// The sweep a breakdown, reference or band point belongs to.
+    pub fn sweep(&self) -> Option<&str> {
+        match self {
+            Role::Breakdown { sweep, .. }
+            | Role::Reference { sweep, .. }
+            | Role::BandPoint { sweep, .. } => Some(sweep),
+            Role::Quantity | Role::ComparisonPoint { .. } => None,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::estimate::least_squares::{self, LsSettings};
+    use crate::estimate::three_grid::{self, ThreeGridSettings};
+    use approx::assert_relative_eq;
+
+    fn tg(h: [f64; 3], phi: [f64; 3]) -> ThreeGrid {
+        three_grid::estimate(h, phi, &ThreeGridSettings::default()).expect("an estimate")
+    }
+
+    /// Celik et al. (2008) Table 1, first column: 2-D, N = 18000, 8000, 4500, so
+    /// h = √(N1/N) relative to the finest mesh.
+    fn celik() -> ThreeGrid {
+        tg(
+            [
+                1.0,
+                (18000.0_f64 / 8000.0).sqrt(),
+                (18000.0_f64 / 4500.0).sqrt(),
+            ],
+            [6.063, 5.972, 5.863],
+        )
+    }
+
+    #[test]
+    fn the_gci_governs_the_celik_case() {
+        // Celik et al. (2008) Table 1, first column (values from memory of the table, confirmed
+        // by the equations in the three-mesh tests): p = 1.534, φ_ext21 = 6.1685,
+        // GCI_fine21 = 2.175 %, so U = 0.02175 · 6.063 ≈ 0.1319.
+        let t = celik();
+        for choice in [
+            EstimatorChoice::Auto,
+            EstimatorChoice::ThreeGrid,
+            EstimatorChoice::LeastSquares,
+        ] {
+            // With three meshes there is no least-squares estimate, whatever the choice.
+            let g = govern(Some(&t), None, choice).expect("governs");
+            assert_eq!(g.method, Method::ThreeGrid);
+            assert_eq!(g.rule, Some(Rule::Gci));
+            assert_eq!(g.convergence, Convergence::Monotonic);
+            assert_eq!(g.fit, None);
+            assert_relative_eq!(g.order.expect("p"), 1.534, epsilon = 5e-4);
+            assert_relative_eq!(g.extrapolated.expect("ext"), 6.1685, epsilon = 5e-5);
+            assert_relative_eq!(g.absolute.expect("U") / 6.063, 0.02175, epsilon = 5e-5);
+        }
+    }
+
+    #[test]
+    fn the_half_range_governs_an_oscillation() {
+        // Manufactured: φ = 1.0, 0.99, 1.02 on h = 1, 1.5, 2.25: R = −1/3, oscillatory
+        // (Stern et al. 2001 classes); p = ln 3 / ln 1.5 (analytic, r21 = r32), GCI form
+        // 1.25 · 0.01 / (3 − 1) = 0.00625 below the half range ½(1.02 − 0.99) = 0.015.
+        let t = tg([1.0, 1.5, 2.25], [1.0, 0.99, 1.02]);
+        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        assert_eq!(g.method, Method::OscillationRange);
+        assert_eq!(g.rule, Some(Rule::OscillationRange));
+        assert_eq!(g.convergence, Convergence::Oscillatory);
+        assert_relative_eq!(g.absolute.expect("U"), 0.015, max_relative = 1e-12);
+        assert_relative_eq!(
+            g.order.expect("p"),
+            3.0_f64.ln() / 1.5_f64.ln(),
+            max_relative = 1e-10
+        );
+    }
+
+    #[test]
+    fn the_formal_order_governs_when_no_order_exists() {
+        // Manufactured: φ = 1.0, 1.0, 1.1 on h = 1, 1.5, 2.25: ε21 = 0, so no observed order;
+        // Roache's fallback U = 3 · max(|ε21|/(r21² − 1), |ε32|/(r32² − 1))
+        // = 3 · 0.1 / (1.5² − 1) = 0.24 (formula, formal order 2).
+        let t = tg([1.0, 1.5, 2.25], [1.0, 1.0, 1.1]);
+        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        assert_eq!(g.method, Method::ThreeGrid);
+        assert_eq!(g.rule, Some(Rule::FormalOrder));
+        assert_eq!(g.order, None);
+        assert_eq!(g.extrapolated, None);
+        assert_relative_eq!(g.absolute.expect("U"), 0.24, max_relative = 1e-12);
+    }
+
+    #[test]
+    fn a_divergent_three_mesh_estimate_gives_no_u() {
+        // R = 0.02/0.01 = 2 > 1: monotonic divergence (Stern et al. 2001 classes).
+        let t = tg([1.0, 1.5, 2.25], [1.0, 1.02, 1.03]);
+        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        assert_eq!(g.convergence, Convergence::Divergent);
+        assert_eq!((g.rule, g.absolute, g.order), (None, None, None));
+        assert!(govern(None, None, EstimatorChoice::Auto).is_none());
+    }
+
+    #[test]
+    fn least_squares_governs_with_four_or_more_meshes() {
+        // Manufactured: φ = 2 + 0.01 h^1.5 on five meshes, r = 1.3: the free fit recovers
+        // φ0 = 2 and p = 1.5 (analytic; Eça & Hoekstra 2014 for the procedure).
+        let h: Vec<f64> = (0..5).map(|i| 1.3_f64.powi(i)).collect();
+        let phi: Vec<f64> = h.iter().map(|x| 2.0 + 0.01 * x.powf(1.5)).collect();
+        let names: Vec<String> = (1..=5).map(|i| format!("G{i}")).collect();
+        let ls =
+            least_squares::estimate(&names, &h, &phi, &LsSettings::default()).expect("an estimate");
+        let t = tg([h[0], h[1], h[2]], [phi[0], phi[1], phi[2]]);
+        for choice in [EstimatorChoice::Auto, EstimatorChoice::LeastSquares] {
+            let g = govern(Some(&t), Some(&ls), choice).expect("governs");
+            assert_eq!(g.method, Method::LeastSquares);
+            assert_eq!(g.rule, Some(Rule::LeastSquares));
+            assert_eq!(g.convergence, Convergence::Monotonic);
+            assert_eq!(g.fit, Some(ls.selected));
+            assert_relative_eq!(g.order.expect("p"), 1.5, epsilon = 1e-6);
+            assert_relative_eq!(g.extrapolated.expect("φ0"), 2.0, epsilon = 1e-8);
+            assert_eq!(g.absolute, ls.per_mesh.first().map(|m| m.uncertainty));
+        }
+        // The study can ask for the three-mesh estimate: it then governs (same manufactured
+        // data, p = 1.5 exactly on three meshes too).
+        let g = govern(Some(&t), Some(&ls), EstimatorChoice::ThreeGrid).expect("governs");
+        assert_eq!(g.method, Method::ThreeGrid);
+        assert_eq!(g.rule, Some(Rule::Gci));
+        assert_relative_eq!(g.order.expect("p"), 1.5, epsilon = 1e-8);
+        assert_relative_eq!(g.extrapolated.expect("ext"), 2.0, epsilon = 1e-10);
+    }
+}
