@@ -110,6 +110,7 @@ pub fn run(cli: Cli) -> Result<(), Failure> {
 }
 
 fn main() {
+    output::guard_std_streams();
     let cli = Cli::parse();
     if let Err(failure) = run(cli) {
         match &failure {
