@@ -32,7 +32,10 @@ fn write_probes(w: &Workdir, n: usize) {
     for (mesh, h) in [("a", 1.0f64), ("b", 2.0), ("c", 4.0)] {
         let mut s = String::from("probe,q\n");
         for i in 0..n {
-            s.push_str(&format!("id{i},{}\n", 1.0 + 0.01 * i as f64 + 0.001 * h * h));
+            s.push_str(&format!(
+                "id{i},{}\n",
+                1.0 + 0.01 * i as f64 + 0.001 * h * h
+            ));
         }
         w.write(&format!("{mesh}.csv"), &s);
     }
@@ -101,13 +104,21 @@ fn only_regular_files_are_replaced() {
     w.write("s.yaml", SCALAR);
     // A FIFO (no reader: opening it for writing would block forever).
     let fifo = w.path().join("pipe");
-    assert!(Command::new("mkfifo").arg(&fifo).status().unwrap().success());
+    assert!(Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .unwrap()
+        .success());
     // A link to the null device: without the check the rename would replace the link with a
     // file; following it, the target is a device and is refused. (A test never names
     // /dev/null itself: run as root, a regression would replace the system's.)
     std::os::unix::fs::symlink("/dev/null", w.path().join("null")).unwrap();
     std::fs::create_dir(w.path().join("folder")).unwrap();
-    for (target, what) in [("pipe", "a FIFO"), ("null", "a device"), ("folder", "a folder")] {
+    for (target, what) in [
+        ("pipe", "a FIFO"),
+        ("null", "a device"),
+        ("folder", "a folder"),
+    ] {
         let before = tree(w.path());
         let o = run_in(w.path(), &["assess", "s.yaml", "-o", target]);
         assert_eq!(o.status.code(), Some(3), "{target}: {}", show(&o));
@@ -115,9 +126,17 @@ fn only_regular_files_are_replaced() {
         assert!(err.contains(target) && err.contains(what), "{err}");
         assert_eq!(tree(w.path()), before, "{target}: something changed");
     }
-    assert!(std::fs::symlink_metadata(&fifo).unwrap().file_type().is_fifo());
-    assert!(std::fs::symlink_metadata(w.path().join("null")).unwrap().is_symlink());
-    assert!(std::fs::metadata("/dev/null").unwrap().file_type().is_char_device());
+    assert!(std::fs::symlink_metadata(&fifo)
+        .unwrap()
+        .file_type()
+        .is_fifo());
+    assert!(std::fs::symlink_metadata(w.path().join("null"))
+        .unwrap()
+        .is_symlink());
+    assert!(std::fs::metadata("/dev/null")
+        .unwrap()
+        .file_type()
+        .is_char_device());
     // The same for a per-point file: an output fault, exit 3, nothing written.
     write_probes(&w, 5);
     w.write("f.yaml", &field_study("pipe"));
@@ -133,7 +152,10 @@ fn a_full_device_or_a_closed_standard_output_is_an_error() {
     w.write("s.yaml", SCALAR);
     // /dev/full: every write fails with "no space left on device" (its documented purpose).
     for extra in [&[][..], &["-o", "-"][..]] {
-        let full = std::fs::OpenOptions::new().write(true).open("/dev/full").unwrap();
+        let full = std::fs::OpenOptions::new()
+            .write(true)
+            .open("/dev/full")
+            .unwrap();
         let o = Command::new(BIN)
             .args(["assess", "s.yaml", "-f", "json"])
             .args(extra)
@@ -157,10 +179,20 @@ fn a_full_device_or_a_closed_standard_output_is_an_error() {
     let o = sh(w.path(), "022", ">/dev/null", &["assess", "s.yaml"]);
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     // ... but not needed with -o FILE, and `report` prints its line there too.
-    let o = sh(w.path(), "022", "1>&-", &["assess", "s.yaml", "-o", "r.txt"]);
+    let o = sh(
+        w.path(),
+        "022",
+        "1>&-",
+        &["assess", "s.yaml", "-o", "r.txt"],
+    );
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     assert!(w.path().join("r.txt").exists());
-    let o = sh(w.path(), "022", "1>&-", &["report", "s.yaml", "--out", "rep"]);
+    let o = sh(
+        w.path(),
+        "022",
+        "1>&-",
+        &["report", "s.yaml", "--out", "rep"],
+    );
     assert_eq!(o.status.code(), Some(3), "{}", show(&o));
     // A reader that went away (`| head -1`) is a quiet exit 0 (common practice for
     // command-line tools, no source).
@@ -184,9 +216,17 @@ fn output_naming_an_input_is_refused() {
     let sub = w.path().join("d");
     write_probes(&w, 5);
     for m in ["a", "b", "c"] {
-        std::fs::rename(w.path().join(format!("{m}.csv")), sub.join(format!("{m}.csv"))).unwrap();
+        std::fs::rename(
+            w.path().join(format!("{m}.csv")),
+            sub.join(format!("{m}.csv")),
+        )
+        .unwrap();
     }
-    let study = format!("{}{}", field_study("out/p.csv"), "quantities:\n  head: {values: {a: 1.01, b: 1.04, c: 1.16}}\n");
+    let study = format!(
+        "{}{}",
+        field_study("out/p.csv"),
+        "quantities:\n  head: {values: {a: 1.01, b: 1.04, c: 1.16}}\n"
+    );
     std::fs::write(sub.join("s.yaml"), &study).unwrap();
     std::os::unix::fs::symlink("s.yaml", sub.join("link.yaml")).unwrap();
     std::fs::hard_link(sub.join("s.yaml"), sub.join("hard.yaml")).unwrap();
@@ -215,7 +255,11 @@ fn output_naming_an_input_is_refused() {
     for (cwd, args) in cases {
         let o = run_in(&w.path().join(cwd), args);
         assert_eq!(o.status.code(), Some(2), "{args:?}: {}", show(&o));
-        assert!(stderr(&o).contains("choose another output"), "{args:?}: {}", show(&o));
+        assert!(
+            stderr(&o).contains("choose another output"),
+            "{args:?}: {}",
+            show(&o)
+        );
         let now: Vec<(String, Vec<u8>)> = tree(w.path())
             .into_iter()
             .filter_map(|n| std::fs::read(w.path().join(&n)).ok().map(|b| (n, b)))
@@ -243,10 +287,16 @@ fn modes_follow_the_umask_or_the_replaced_file() {
     assert_eq!(mode(&w.path().join("out/p.csv")), 0o644);
     assert_eq!(mode(&w.path().join("out")), 0o755);
     // A replaced file keeps its mode, whatever the umask.
-    std::fs::set_permissions(w.path().join("r.txt"), std::fs::Permissions::from_mode(0o640))
-        .unwrap();
-    std::fs::set_permissions(w.path().join("out/p.csv"), std::fs::Permissions::from_mode(0o604))
-        .unwrap();
+    std::fs::set_permissions(
+        w.path().join("r.txt"),
+        std::fs::Permissions::from_mode(0o640),
+    )
+    .unwrap();
+    std::fs::set_permissions(
+        w.path().join("out/p.csv"),
+        std::fs::Permissions::from_mode(0o604),
+    )
+    .unwrap();
     let o = sh(w.path(), "077", "", &["assess", "s.yaml", "-o", "r.txt"]);
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     assert_eq!(mode(&w.path().join("r.txt")), 0o640);
@@ -264,7 +314,12 @@ fn modes_follow_the_umask_or_the_replaced_file() {
     assert_eq!(mode(&w.path().join("rep")), 0o755);
     assert_eq!(mode(&w.path().join("rep/report.md")), 0o644);
     std::fs::set_permissions(w.path().join("rep"), std::fs::Permissions::from_mode(0o750)).unwrap();
-    let o = sh(w.path(), "022", "", &["report", "s.yaml", "--out", "rep", "--replace"]);
+    let o = sh(
+        w.path(),
+        "022",
+        "",
+        &["report", "s.yaml", "--out", "rep", "--replace"],
+    );
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     assert_eq!(mode(&w.path().join("rep")), 0o750);
     // Nothing else left beside them.
@@ -282,8 +337,11 @@ fn an_unwritable_per_point_file_gives_3_from_every_command() {
     // root included).
     std::fs::create_dir_all(w.path().join("d/taken")).unwrap();
     for m in ["a", "b", "c"] {
-        std::fs::copy(w.path().join(format!("{m}.csv")), w.path().join(format!("d/{m}.csv")))
-            .unwrap();
+        std::fs::copy(
+            w.path().join(format!("{m}.csv")),
+            w.path().join(format!("d/{m}.csv")),
+        )
+        .unwrap();
     }
     std::fs::write(w.path().join("d/s.yaml"), field_study("taken")).unwrap();
     std::fs::write(w.path().join("d/t.yaml"), SCALAR).unwrap();
@@ -341,7 +399,11 @@ fn concurrent_reports_into_one_new_folder_refuse_as_if_it_existed() {
         assert_eq!(won, 1, "round {round}: one report is made");
         for o in outs.iter().filter(|o| o.status.code() != Some(0)) {
             assert_eq!(o.status.code(), Some(2), "round {round}: {}", show(o));
-            assert!(stderr(o).contains("rep exists: give --replace"), "{}", show(o));
+            assert!(
+                stderr(o).contains("rep exists: give --replace"),
+                "{}",
+                show(o)
+            );
         }
         assert_eq!(w.files(), ["rep", "s.yaml"], "round {round}");
         assert!(w.path().join("rep/report.html").exists());

@@ -3,9 +3,9 @@
 //! reported and the others still run; the exit status is then 2.
 
 use super::{batch, Failure};
+use crate::output::same_file;
 use crate::output::write_atomic;
 use crate::point_file::FileOutputs;
-use crate::output::same_file;
 use meshbound::assess::Assessment;
 use meshbound::report::Format;
 use meshbound::study::Study;

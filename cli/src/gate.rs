@@ -197,7 +197,11 @@ pub fn run(args: Args) -> Result<(), Failure> {
         for e in &report.errors {
             eprintln!("error: {}", e.message);
         }
-        let message = format!("{} of {} studies are broken", report.errors.len(), paths.len());
+        let message = format!(
+            "{} of {} studies are broken",
+            report.errors.len(),
+            paths.len()
+        );
         // The same status as the fault would give alone: 3 when an output failed.
         return Err(if output_fault {
             Failure::Output(message)
