@@ -172,7 +172,7 @@ pub fn run(args: Args) -> Result<(), Failure> {
                 }
                 if !f.not_written.is_empty() {
                     s.push_str(&format!(
-                        "{} wrote nothing (gate writes no per-point file; assess writes {})\n",
+                        "{}: nothing written (gate writes no per-point file; assess would write {})\n",
                         f.study,
                         f.not_written.join(", ")
                     ));
