@@ -251,6 +251,10 @@ fn output_naming_an_input_is_refused() {
         ("e", &["assess", "../d", "-o", "../d/c.csv"]),
         ("d", &["gate", "s.yaml", "-o", "a.csv"]),
         ("e", &["gate", "../d", "-o", "../d/hard.yaml"]),
+        (
+            "d",
+            &["plan", "s.yaml", "--target", "head=1%", "-o", "./s.yaml"],
+        ),
     ];
     for (cwd, args) in cases {
         let o = run_in(&w.path().join(cwd), args);

@@ -111,7 +111,8 @@ pub fn run(a: Args) -> Result<(), Failure> {
                     "plan STUDY needs at least one --target NAME=U".into(),
                 ));
             }
-            let study = meshbound::study::load(path).map_err(|e| Failure::Input(e.to_string()))?;
+            let study = crate::assess::load(path)?;
+            crate::assess::refuse_overwriting_inputs(&a.output, [&study])?;
             let assessment = meshbound::assess::run(&study, &meshbound::sink::Skip)
                 .map_err(crate::Failure::from)?;
             let dim = a.dimension.unwrap_or(study.dimension);
