@@ -208,10 +208,12 @@ pub fn run(args: Args) -> Result<(), Failure> {
         );
     }
     super::assess::publish(outputs)?;
-    crate::output::write_stdout(
+    // The report is the folder, in place by now: this line only tells of it, so a closed or
+    // full standard output does not turn a written report into a failure.
+    let _ = crate::output::write_stdout(
         format!("wrote {} files to {}\n", files.len(), args.out.display()).as_bytes(),
-    )
-    .map_err(|e| Failure::Output(format!("cannot write to standard output: {e}")))
+    );
+    Ok(())
 }
 
 /// Refuses `--replace` of a folder that holds a file the study reads or writes (the study
