@@ -873,3 +873,29 @@ fn a_study_reads_and_writes_only_inside_its_folder() {
     let s = meshbound::study::load_with(&study, &options).unwrap();
     assert!(s.files_read.iter().any(|p| p.ends_with("secret.csv")));
 }
+
+#[test]
+fn the_user_lets_a_study_reach_further_with_an_option() {
+    // Refused without the option (see the test above), read with `--reach` naming the folder
+    // that holds the file; the per-point file may go there too.
+    let w = confined_study("../secret.csv", "../points.csv");
+    for cmd in ["assess", "gate", "report"] {
+        let mut args = vec![cmd, "case/s.yaml", "--reach", "."];
+        if cmd == "report" {
+            args.extend(["--out", "case/rep"]);
+        }
+        let o = run_in(w.path(), &args);
+        assert_eq!(o.status.code(), Some(0), "{cmd}: {}", show(&o));
+    }
+    assert!(w.path().join("points.csv").is_file());
+    // The folder must exist: a typo allows nothing, loudly.
+    let o = run_in(w.path(), &["assess", "case/s.yaml", "--reach", "nowhere"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--reach nowhere: no such folder"));
+    // A folder beside the one allowed stays out of reach.
+    let w = confined_study("../secret.csv", "points.csv");
+    std::fs::create_dir(w.path().join("other")).unwrap();
+    let o = run_in(w.path(), &["assess", "case/s.yaml", "--reach", "other"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("lies outside the study's folder"));
+}

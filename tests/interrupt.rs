@@ -315,3 +315,108 @@ fn an_interrupted_field_run_leaves_no_temporary_file() {
     }
     assert!(interrupted > 0, "never interrupted while writing");
 }
+
+/// Where a temporary appears for each kind of output, and the command that makes it.
+#[derive(Debug, Clone, Copy)]
+enum Made {
+    /// `-o FILE`: `.meshbound-….part` beside it.
+    OutputFile,
+    /// A per-point file: `.meshbound-….part` in the folder `out` (already there).
+    PointFile,
+    /// The folder `out` made for a per-point file.
+    PointFolder,
+    /// `report --out rep`: the folder `.rep.meshbound-…` beside it.
+    ReportFolder,
+}
+
+/// With the test hook `MESHBOUND_TEST_PAUSE_MS` the binary pauses right after creating each
+/// temporary: the signal is sent exactly there, where a temporary created before it was
+/// registered would be left behind. Each run must end by the signal, say so, and leave nothing.
+fn signal_right_after_creation(signal: &str, made: Made, runs: usize) {
+    let w = Workdir::new();
+    for (m, h) in [1.0f64, 1.5, 2.25].iter().enumerate() {
+        let mut s = String::from("probe,cp\n");
+        for i in 0..5 {
+            s.push_str(&format!("{i},{}\n", 1.0 + i as f64 + 0.01 * h * h));
+        }
+        w.write(&format!("m{m}.csv"), &s);
+    }
+    let yaml = match made {
+        Made::PointFile | Made::PointFolder => "format: 1\ntitle: paused (format test)\nmeshes:\n  - {name: L1, size: 1}\n  - {name: L2, size: 1.5}\n  - {name: L3, size: 2.25}\nfields:\n  cp_probes:\n    id: probe\n    columns: [cp]\n    data: {L1: m0.csv, L2: m1.csv, L3: m2.csv}\n    write: out/points.csv\n".to_string(),
+        _ => study(3),
+    };
+    w.write("s.yaml", &yaml);
+    if let Made::PointFile = made {
+        std::fs::create_dir(w.path().join("out")).unwrap();
+    }
+    let before = w.files();
+    let args: &[&str] = match made {
+        Made::OutputFile => &["assess", "s.yaml", "-o", "r.txt"],
+        Made::PointFile | Made::PointFolder => &["assess", "s.yaml"],
+        Made::ReportFolder => &["report", "s.yaml", "--out", "rep"],
+    };
+    for run in 0..runs {
+        let mut child = Command::new(env!("CARGO_BIN_EXE_meshbound"))
+            .args(args)
+            .env("MESHBOUND_TEST_PAUSE_MS", "20000")
+            .current_dir(w.path())
+            .stdout(Stdio::null())
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap();
+        let deadline = Instant::now() + Duration::from_secs(60);
+        loop {
+            let seen = match made {
+                Made::OutputFile => w.files().iter().any(|n| n.ends_with(".part")),
+                Made::PointFile => names(&w.path().join("out"))
+                    .iter()
+                    .any(|n| n.ends_with(".part")),
+                Made::PointFolder => w.path().join("out").exists(),
+                Made::ReportFolder => w.files().iter().any(|n| n.starts_with(".rep.meshbound-")),
+            };
+            if seen {
+                break;
+            }
+            assert!(
+                child.try_wait().unwrap().is_none(),
+                "{made:?} run {run}: ended before its temporary was seen"
+            );
+            assert!(Instant::now() < deadline, "{made:?}: no temporary appeared");
+            std::thread::sleep(Duration::from_micros(200));
+        }
+        let pid = child.id().to_string();
+        assert!(Command::new("kill")
+            .args(["-s", signal, &pid])
+            .status()
+            .unwrap()
+            .success());
+        let o = child.wait_with_output().unwrap();
+        let what = format!("{signal} {made:?} run {run}: {:?}", o.status);
+        assert_eq!(
+            o.status.signal().map(|s| s.to_string()),
+            Some(number(signal)),
+            "{what}"
+        );
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(
+            err.contains(&format!("interrupted (SIG{signal}); ")),
+            "{what}: {err}"
+        );
+        assert_eq!(w.files(), before, "{what}: left behind");
+        assert_eq!(names(&w.path().join("out")), Vec::<String>::new(), "{what}");
+    }
+}
+
+#[test]
+fn a_signal_right_after_a_temporary_is_made_leaves_nothing() {
+    for signal in ["INT", "TERM"] {
+        for made in [
+            Made::OutputFile,
+            Made::PointFile,
+            Made::PointFolder,
+            Made::ReportFolder,
+        ] {
+            signal_right_after_creation(signal, made, 20);
+        }
+    }
+}

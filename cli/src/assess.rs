@@ -3,10 +3,14 @@
 //! reported and the others still run; the exit status is then 2.
 
 use super::{batch, Failure};
+use crate::output::same_file;
 use crate::output::write_atomic;
 use crate::point_file::FileOutputs;
+use crate::reach::Reach;
+use meshbound::assess::Assessment;
 use meshbound::report::Format;
-use std::path::PathBuf;
+use meshbound::study::Study;
+use std::path::{Path, PathBuf};
 
 /// Output formats of `assess`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
@@ -50,16 +54,59 @@ pub struct Args {
     /// Write to this file (atomically) instead of standard output; `-` is standard output.
     #[arg(long, short = 'o', default_value = "-")]
     pub output: PathBuf,
+    /// Folders the study may read and write besides its own.
+    #[command(flatten)]
+    pub reach: crate::reach::Reach,
 }
 
-/// Reads, checks and assesses one study. The per-point files it asks for are written into
-/// temporaries, published by the caller once its own output is written.
-pub fn assess_one(
-    path: &std::path::Path,
-) -> Result<(meshbound::assess::Assessment, FileOutputs), Failure> {
-    let study = meshbound::study::load(path).map_err(|e| Failure::Input(e.to_string()))?;
+/// Reads and checks one study, letting it reach the folders of `--reach` besides its own.
+pub fn load(path: &Path, reach: &Reach) -> Result<Study, Failure> {
+    reach.check()?;
+    meshbound::study::load_with(path, &reach.options())
+        .map_err(|e| Failure::from(meshbound::Error::from(e)))
+}
+
+/// Refuses an output path (`-o`) that names a file one of `studies` reads (the study itself,
+/// under any spelling or link) or a per-point file it writes: exit 2, before anything is
+/// written. Standard output (`-`) names no file.
+pub fn refuse_overwriting_inputs<'a>(
+    output: &Path,
+    studies: impl IntoIterator<Item = &'a Study>,
+) -> Result<(), Failure> {
+    if output.as_os_str() == "-" {
+        return Ok(());
+    }
+    for study in studies {
+        let read = std::iter::once(&study.path).chain(&study.files_read);
+        for f in read {
+            if same_file(output, f) {
+                return Err(Failure::Input(format!(
+                    "-o {}: that is {} read by the study {}; choose another output",
+                    output.display(),
+                    f.display(),
+                    study.path.display()
+                )));
+            }
+        }
+        for f in &study.files_written {
+            if same_file(output, f) {
+                return Err(Failure::Input(format!(
+                    "-o {}: the study {} writes its per-point file {} there; choose another output",
+                    output.display(),
+                    study.path.display(),
+                    f.display()
+                )));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Assesses one checked study. The per-point files it asks for are written into temporaries,
+/// published by the caller once its own output is written.
+pub fn assess_study(study: &Study) -> Result<(Assessment, FileOutputs), Failure> {
     let outputs = FileOutputs::new();
-    let a = meshbound::assess::run(&study, &outputs)?;
+    let a = meshbound::assess::run(study, &outputs)?;
     Ok((a, outputs))
 }
 
@@ -70,28 +117,29 @@ pub fn publish(outputs: FileOutputs) -> Result<(), Failure> {
         .map_err(|(p, e)| Failure::Output(format!("cannot write {}: {e}", p.display())))
 }
 
+fn export(a: &Assessment, format: AssessFormat) -> Vec<u8> {
+    match format.exporter() {
+        Some(f) => f.exporter().export(a),
+        None => meshbound::report::json::Json.export_one(a, format == AssessFormat::Jsonl),
+    }
+}
+
 /// Runs `assess`.
 pub fn run(args: Args) -> Result<(), Failure> {
     let paths = batch::expand(&args.studies)?;
-    let results = if paths.len() == 1 {
-        Vec::new()
-    } else {
-        batch::run_all(&paths, assess_one)
-    };
-    let broken = results.iter().filter(|r| r.is_err()).count();
-    if paths.len() == 1 {
+    if let [path] = paths.as_slice() {
         // One study: its output or its error, nothing partial.
-        drop(results);
-        let (a, outputs) = assess_one(&paths[0])?;
-        let bytes = match args.format.exporter() {
-            Some(f) => f.exporter().export(&a),
-            None => {
-                meshbound::report::json::Json.export_one(&a, args.format == AssessFormat::Jsonl)
-            }
-        };
-        write_atomic(&args.output, &bytes).map_err(|e| Failure::Output(e.to_string()))?;
+        let study = load(path, &args.reach)?;
+        refuse_overwriting_inputs(&args.output, [&study])?;
+        let (a, outputs) = assess_study(&study)?;
+        write_atomic(&args.output, &export(&a, args.format))
+            .map_err(|e| Failure::Output(e.to_string()))?;
         return publish(outputs);
     }
+    let studies = batch::run_all(paths.clone(), |p| load(&p, &args.reach));
+    refuse_overwriting_inputs(&args.output, studies.iter().flatten())?;
+    let results = batch::run_all(studies, |s| s.and_then(|s| assess_study(&s)));
+    let broken = results.iter().filter(|r| r.is_err()).count();
     let mut bytes = Vec::new();
     let mut oks = Vec::new();
     for (p, r) in paths.iter().zip(&results) {
@@ -102,12 +150,10 @@ pub fn run(args: Args) -> Result<(), Failure> {
                 }
                 AssessFormat::Json => oks.push(a),
                 f => {
-                    if let Some(x) = f.exporter() {
-                        if !bytes.is_empty() {
-                            bytes.extend_from_slice(b"\n");
-                        }
-                        bytes.extend(x.exporter().export(a));
+                    if !bytes.is_empty() {
+                        bytes.extend_from_slice(b"\n");
                     }
+                    bytes.extend(export(a, f));
                 }
             },
             Err(e) => {

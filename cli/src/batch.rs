@@ -47,12 +47,14 @@ fn walk(dir: &Path, out: &mut Vec<PathBuf>) -> std::io::Result<()> {
     Ok(())
 }
 
-/// Runs `f` on every study in parallel; results come back in input order. A progress bar is
-/// drawn on standard error when it is a terminal and there is more than one study.
-pub fn run_all<T: Send, E: Send>(
-    paths: &[PathBuf],
-    f: impl Fn(&Path) -> Result<T, E> + Sync,
-) -> Vec<Result<T, E>> {
+/// Runs `f` on every study (a path, or a study already read) in parallel; results come back
+/// in input order, each error typed ([`Failure`], so its kind gives the exit status). A
+/// progress bar is drawn on standard error when it is a terminal and there is more than one
+/// study.
+pub fn run_all<I: Send, T: Send>(
+    paths: Vec<I>,
+    f: impl Fn(I) -> Result<T, Failure> + Sync,
+) -> Vec<Result<T, Failure>> {
     let bar = if paths.len() > 1 && std::io::stderr().is_terminal() {
         let b = indicatif::ProgressBar::new(paths.len() as u64);
         if let Ok(style) =
@@ -64,8 +66,8 @@ pub fn run_all<T: Send, E: Send>(
     } else {
         None
     };
-    let out: Vec<Result<T, E>> = paths
-        .par_iter()
+    let out: Vec<Result<T, Failure>> = paths
+        .into_par_iter()
         .map(|p| {
             let r = f(p);
             if let Some(b) = &bar {

@@ -28,6 +28,9 @@ pub struct Args {
     /// Write to this file (atomically) instead of standard output.
     #[arg(long, short = 'o', default_value = "-")]
     pub output: PathBuf,
+    /// Folders the study may read and write besides its own.
+    #[command(flatten)]
+    pub reach: crate::reach::Reach,
 }
 
 /// A broken study in the gate report.
@@ -64,21 +67,29 @@ pub struct StudyFiles {
     pub study: String,
     /// Files read, the study file first.
     pub read: Vec<String>,
-    /// Files written.
+    /// Files written: always none, `gate` writes no per-point file.
     pub written: Vec<String>,
+    /// Per-point files the study asks for, not written by `gate` (`assess` writes them).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub not_written: Vec<String>,
 }
 
-fn gate_one(path: &std::path::Path) -> Result<(Vec<Check>, StudyFiles), String> {
-    let study = meshbound::study::load(path).map_err(|e| e.to_string())?;
-    let a = meshbound::assess::run(&study, &meshbound::sink::Skip).map_err(|e| e.to_string())?;
+fn gate_one(study: meshbound::study::Study) -> Result<(Vec<Check>, StudyFiles), Failure> {
+    // Per-point files are never written by `gate` (sink::Skip): it only checks limits.
+    let a = meshbound::assess::run(&study, &meshbound::sink::Skip)?;
     let checks = meshbound::gate::check(&a, &study.acceptance)
-        .map_err(|e| format!("{}: {e}", path.display()))?;
+        .map_err(|e| Failure::Input(format!("{}: {e}", study.path.display())))?;
     Ok((
         checks,
         StudyFiles {
-            study: path.display().to_string(),
+            study: study.path.display().to_string(),
             read: a.files_read,
             written: a.files_written,
+            not_written: study
+                .files_written
+                .iter()
+                .map(|p| p.display().to_string())
+                .collect(),
         },
     ))
 }
@@ -86,7 +97,10 @@ fn gate_one(path: &std::path::Path) -> Result<(Vec<Check>, StudyFiles), String> 
 /// Runs `gate`.
 pub fn run(args: Args) -> Result<(), Failure> {
     let paths = batch::expand(&args.studies)?;
-    let results = batch::run_all(&paths, gate_one);
+    let studies = batch::run_all(paths.clone(), |p| super::assess::load(&p, &args.reach));
+    super::assess::refuse_overwriting_inputs(&args.output, studies.iter().flatten())?;
+    let results = batch::run_all(studies, |s| s.and_then(gate_one));
+    let mut output_fault = false;
     let mut report = GateReport {
         passed: true,
         checks: Vec::new(),
@@ -103,10 +117,13 @@ pub fn run(args: Args) -> Result<(), Failure> {
                 report.checks.extend(checks);
                 report.files.push(files);
             }
-            Err(e) => report.errors.push(GateError {
-                study: p.display().to_string(),
-                message: e,
-            }),
+            Err(e) => {
+                output_fault |= matches!(e, Failure::Output(_));
+                report.errors.push(GateError {
+                    study: p.display().to_string(),
+                    message: e.to_string(),
+                })
+            }
         }
     }
     let failed = report.checks.iter().filter(|c| !c.passed).count();
@@ -156,6 +173,13 @@ pub fn run(args: Args) -> Result<(), Failure> {
                 if !f.written.is_empty() {
                     s.push_str(&format!("{} wrote {}\n", f.study, f.written.join(", ")));
                 }
+                if !f.not_written.is_empty() {
+                    s.push_str(&format!(
+                        "{}: nothing written (gate writes no per-point file; assess would write {})\n",
+                        f.study,
+                        f.not_written.join(", ")
+                    ));
+                }
             }
             s.push_str(&format!(
                 "{}: {} checks, {} failed, {} broken studies\n",
@@ -176,11 +200,17 @@ pub fn run(args: Args) -> Result<(), Failure> {
         for e in &report.errors {
             eprintln!("error: {}", e.message);
         }
-        return Err(Failure::Input(format!(
+        let message = format!(
             "{} of {} studies are broken",
             report.errors.len(),
             paths.len()
-        )));
+        );
+        // The same status as the fault would give alone: 3 when an output failed.
+        return Err(if output_fault {
+            Failure::Output(message)
+        } else {
+            Failure::Input(message)
+        });
     }
     if failed > 0 {
         return Err(Failure::Limits);

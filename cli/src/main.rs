@@ -15,6 +15,7 @@ mod manual;
 mod output;
 mod plan;
 mod point_file;
+mod reach;
 mod report;
 mod schema;
 mod water;
@@ -110,6 +111,7 @@ pub fn run(cli: Cli) -> Result<(), Failure> {
 }
 
 fn main() {
+    output::guard_std_streams();
     let cli = Cli::parse();
     if let Err(failure) = run(cli) {
         match &failure {

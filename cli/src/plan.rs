@@ -41,6 +41,9 @@ pub struct Args {
     /// Write to this file instead of standard output.
     #[arg(long, short = 'o', default_value = "-")]
     pub output: PathBuf,
+    /// Folders the study may read and write besides its own.
+    #[command(flatten)]
+    pub reach: crate::reach::Reach,
 }
 
 /// Output formats of `plan`.
@@ -111,7 +114,8 @@ pub fn run(a: Args) -> Result<(), Failure> {
                     "plan STUDY needs at least one --target NAME=U".into(),
                 ));
             }
-            let study = meshbound::study::load(path).map_err(|e| Failure::Input(e.to_string()))?;
+            let study = crate::assess::load(path, &a.reach)?;
+            crate::assess::refuse_overwriting_inputs(&a.output, [&study])?;
             let assessment = meshbound::assess::run(&study, &meshbound::sink::Skip)
                 .map_err(crate::Failure::from)?;
             let dim = a.dimension.unwrap_or(study.dimension);

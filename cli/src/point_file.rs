@@ -19,22 +19,17 @@ use std::sync::{Mutex, PoisonError};
 
 /// A requested file being written: its temporary (deleted on drop) and its target.
 struct Staged {
-    tmp: tempfile::TempPath,
+    tmp: Pending,
     target: PathBuf,
-    _pending: Pending,
-}
-
-/// A folder made for a requested file; removed again (when still empty) unless published.
-struct MadeDir {
-    path: PathBuf,
-    _pending: Pending,
 }
 
 /// The sinks of one run; see the module notes.
 #[derive(Default)]
 pub struct FileOutputs {
     staged: Mutex<Vec<Staged>>,
-    made: Mutex<Vec<MadeDir>>,
+    /// Folders made for requested files, outermost first; each removed again (when still
+    /// empty) unless published.
+    made: Mutex<Vec<Pending>>,
 }
 
 impl Drop for FileOutputs {
@@ -47,7 +42,7 @@ impl Drop for FileOutputs {
             .clear();
         let made = self.made.get_mut().unwrap_or_else(PoisonError::into_inner);
         while let Some(d) = made.pop() {
-            let _ = std::fs::remove_dir(&d.path);
+            drop(d);
         }
     }
 }
@@ -60,26 +55,23 @@ impl FileOutputs {
 
     /// Renames every temporary onto its target, in the order they were opened. Returns the
     /// target and error of the first rename that failed (the temporaries not yet renamed are
-    /// deleted).
+    /// deleted, and so are the folders made for them where they stay empty).
     pub fn publish(mut self) -> Result<(), (PathBuf, std::io::Error)> {
         let staged = std::mem::take(
             self.staged
                 .get_mut()
                 .unwrap_or_else(PoisonError::into_inner),
         );
-        // The folders stay: they hold the published files.
-        self.made
-            .get_mut()
-            .unwrap_or_else(PoisonError::into_inner)
-            .clear();
-        for s in staged {
-            let Staged {
-                tmp,
-                target,
-                _pending,
-            } = s;
-            tmp.persist(&target)
-                .map_err(|e| (target.clone(), e.error))?;
+        let mut staged = staged.into_iter();
+        for s in staged.by_ref() {
+            if let Err(e) = std::fs::rename(s.tmp.path(), &s.target) {
+                return Err((s.target, e));
+            }
+            s.tmp.keep();
+        }
+        // Every file is in place: the folders stay, they hold the published files.
+        for d in std::mem::take(self.made.get_mut().unwrap_or_else(PoisonError::into_inner)) {
+            d.keep();
         }
         Ok(())
     }
@@ -101,12 +93,12 @@ impl FileOutputs {
         }
         let mut made = self.made.lock().unwrap_or_else(PoisonError::into_inner);
         for d in missing.into_iter().rev() {
-            let pending = Pending::new(&d);
-            std::fs::create_dir(&d)?;
-            made.push(MadeDir {
-                path: d,
-                _pending: pending,
-            });
+            match Pending::create_folder(&d) {
+                Ok(p) => made.push(p),
+                // Made meanwhile by another field of the same run or someone else: not ours.
+                Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {}
+                Err(e) => return Err(e),
+            }
         }
         Ok(())
     }
@@ -114,25 +106,23 @@ impl FileOutputs {
 
 impl Outputs for FileOutputs {
     fn open(&self, target: &Path) -> std::io::Result<Option<Box<dyn PointSink>>> {
+        let keep_mode = crate::output::replaceable(target)?;
         let dir = match target.parent() {
             Some(p) if !p.as_os_str().is_empty() => p,
             _ => Path::new("."),
         };
         self.make_folders(dir)?;
-        let tmp = tempfile::Builder::new()
-            .prefix(".meshbound-")
-            .suffix(".part")
-            .tempfile_in(dir)?;
-        let pending = Pending::new(tmp.path());
-        let (file, path) = tmp.into_parts();
-        let sink = DirectFile::new(file, &path);
+        let (file, tmp) = Pending::create_file(dir, ".meshbound-", ".part")?;
+        if let Some(perm) = keep_mode {
+            file.set_permissions(perm)?;
+        }
+        let sink = DirectFile::new(file, tmp.path());
         self.staged
             .lock()
             .unwrap_or_else(PoisonError::into_inner)
             .push(Staged {
-                tmp: path,
+                tmp,
                 target: target.to_path_buf(),
-                _pending: pending,
             });
         Ok(Some(Box::new(sink)))
     }

@@ -31,6 +31,9 @@ pub struct Args {
     /// Replace DIR when it exists (the old folder is deleted only once the new one is in place).
     #[arg(long)]
     pub replace: bool,
+    /// Folders the study may read and write besides its own.
+    #[command(flatten)]
+    pub reach: crate::reach::Reach,
 }
 
 fn output(what: &str, path: &Path, e: std::io::Error) -> Failure {
@@ -41,6 +44,13 @@ fn write_file(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     let mut f = std::fs::File::create(path)?;
     f.write_all(bytes)?;
     f.sync_all()
+}
+
+fn exists_refusal(dir: &Path) -> Failure {
+    Failure::Input(format!(
+        "{} exists: give --replace to replace it, or choose another --out",
+        dir.display()
+    ))
 }
 
 /// A name beside `dir` that nothing has yet, to move an old folder to.
@@ -83,10 +93,7 @@ pub fn install(
     let exists = match std::fs::symlink_metadata(dir) {
         Ok(m) => {
             if !replace {
-                return Err(Failure::Input(format!(
-                    "{} exists: give --replace to replace it, or choose another --out",
-                    dir.display()
-                )));
+                return Err(exists_refusal(dir));
             }
             if !m.is_dir() {
                 return Err(Failure::Input(format!(
@@ -99,32 +106,53 @@ pub fn install(
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => false,
         Err(e) => return Err(output("cannot look at", dir, e)),
     };
-    // Dropping `tmp` on any early return deletes it with everything written so far; while it
-    // exists it is registered for deletion on SIGINT, SIGTERM and SIGHUP (crate::output).
-    let tmp = tempfile::Builder::new()
-        .prefix(&format!(".{name}.meshbound-"))
-        .tempdir_in(parent)
+    // Dropping `tmp` on any early return deletes it with everything written so far; it is
+    // registered for deletion on SIGINT, SIGTERM and SIGHUP before it exists (crate::output).
+    let tmp = crate::output::Pending::create_tree(parent, &format!(".{name}.meshbound-"))
         .map_err(|e| output("cannot create a temporary folder in", parent, e))?;
-    let _pending = crate::output::Pending::new(tmp.path());
+    if exists {
+        // The replacement keeps the old folder's mode.
+        if let Ok(m) = std::fs::metadata(dir) {
+            std::fs::set_permissions(tmp.path(), m.permissions())
+                .map_err(|e| output("cannot set the mode of", tmp.path(), e))?;
+        }
+    }
     for (file, bytes) in files {
         let p = tmp.path().join(file);
         let _hold = crate::output::hold();
         write_file(&p, bytes).map_err(|e| output("cannot write", &p, e))?;
     }
     // From here to the end the interruption handler waits: the renames are never cut halfway.
-    let _hold = crate::output::hold();
+    let hold = crate::output::hold();
     if !exists {
-        std::fs::rename(tmp.path(), dir).map_err(|e| output("cannot create", dir, e))?;
-        let _ = tmp.keep();
+        if let Err(e) = std::fs::rename(tmp.path(), dir) {
+            drop(hold);
+            // Another command made DIR meanwhile (it was absent when looked at): the same
+            // refusal as when it existed beforehand.
+            if std::fs::symlink_metadata(dir).is_ok() {
+                return Err(exists_refusal(dir));
+            }
+            return Err(output("cannot create", dir, e));
+        }
+        drop(hold);
+        tmp.keep();
         return Ok(None);
     }
     // Where the system can, swap the two folders in one step: DIR always names a whole report.
     if exchange(tmp.path(), dir).is_ok() {
         // The temporary path now holds the old report.
         let old = tmp.path().to_path_buf();
-        return Ok(match tmp.close() {
-            Ok(()) => None,
-            Err(_) => Some(old),
+        let gone = std::fs::remove_dir_all(&old);
+        drop(hold);
+        return Ok(match gone {
+            Ok(()) => {
+                drop(tmp);
+                None
+            }
+            Err(_) => {
+                tmp.keep();
+                Some(old)
+            }
         });
     }
     let old = aside(parent, &name)?;
@@ -132,6 +160,7 @@ pub fn install(
     if let Err(e) = std::fs::rename(tmp.path(), dir) {
         // Put the old report back; the new one is deleted with `tmp`.
         let back = std::fs::rename(&old, dir);
+        drop(hold);
         return Err(Failure::Output(match back {
             Ok(()) => format!(
                 "cannot create {}: {e}; the old report is kept",
@@ -144,7 +173,8 @@ pub fn install(
             ),
         }));
     }
-    let _ = tmp.keep();
+    drop(hold);
+    tmp.keep();
     Ok(match std::fs::remove_dir_all(&old) {
         Ok(()) => None,
         Err(_) => Some(old),
@@ -168,7 +198,11 @@ fn exchange(a: &Path, b: &Path) -> std::io::Result<()> {
 
 /// Runs `report`.
 pub fn run(args: Args) -> Result<(), Failure> {
-    let (a, outputs) = super::assess::assess_one(&args.study)?;
+    let study = super::assess::load(&args.study, &args.reach)?;
+    if args.replace {
+        refuse_replacing_inputs(&args.out, &study)?;
+    }
+    let (a, outputs) = super::assess::assess_study(&study)?;
     let files = meshbound::report::bundle::files(&a);
     if let Some(old) = install(&files, &args.out, args.replace)? {
         eprintln!(
@@ -177,7 +211,40 @@ pub fn run(args: Args) -> Result<(), Failure> {
         );
     }
     super::assess::publish(outputs)?;
-    println!("wrote {} files to {}", files.len(), args.out.display());
+    // The report is the folder, in place by now: this line only tells of it, so a closed or
+    // full standard output does not turn a written report into a failure.
+    let _ = crate::output::write_stdout(
+        format!("wrote {} files to {}\n", files.len(), args.out.display()).as_bytes(),
+    );
+    Ok(())
+}
+
+/// Refuses `--replace` of a folder that holds a file the study reads or writes (the study
+/// itself, its data, a per-point file): replacing it would delete them. Exit 2.
+fn refuse_replacing_inputs(dir: &Path, study: &meshbound::study::Study) -> Result<(), Failure> {
+    let Ok(dir) = std::fs::canonicalize(dir) else {
+        return Ok(());
+    };
+    let files = std::iter::once(&study.path)
+        .chain(&study.files_read)
+        .chain(&study.files_written);
+    for f in files {
+        let inside = std::fs::canonicalize(f)
+            .ok()
+            .or_else(|| {
+                let parent = f.parent().filter(|p| !p.as_os_str().is_empty())?;
+                std::fs::canonicalize(parent).ok()
+            })
+            .is_some_and(|c| c.starts_with(&dir));
+        if inside {
+            return Err(Failure::Input(format!(
+                "--out {}: the folder holds {}, which the study {} uses; it is not replaced",
+                dir.display(),
+                f.display(),
+                study.path.display()
+            )));
+        }
+    }
     Ok(())
 }
 
