@@ -17,6 +17,7 @@ pub mod estimate;
 pub mod field;
 pub mod gate;
 pub mod grid;
+pub mod input;
 pub mod machine;
 pub mod plan;
 pub mod report;
