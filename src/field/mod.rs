@@ -354,7 +354,7 @@ fn check_spec(spec: &FieldSpec, opts: &FieldOptions) -> Result<(), FieldError> {
 }
 
 /// Assesses a field with the default streaming options. See [`assess_field_with`].
-pub fn assess_field(
+pub(crate) fn assess_field(
     spec: &FieldSpec,
     h: [f64; 3],
     settings: &ThreeGridSettings,
