@@ -3,7 +3,8 @@
 //! A limit names a target — a quantity, `<sweep>.breakdown.<response>`,
 //! `<sweep>.reference.<response>` — and any of `max_relative`, `max_absolute`, `require` (a
 //! convergence class) and `min_meshes`. Each becomes one check. A divergent target has no
-//! uncertainty and so fails every uncertainty limit.
+//! uncertainty and so fails every uncertainty limit. A field column with points whose
+//! uncertainty overflows (see `ColumnSummary::overflowed`) fails every limit set on it.
 
 use crate::assess::{Assessment, QuantityResult};
 use crate::study::raw::RawAcceptance;
@@ -41,6 +42,8 @@ pub enum Resolved<'a> {
         classes: [(crate::estimate::Convergence, usize); 4],
         /// Number of points.
         points: usize,
+        /// Points whose uncertainty overflows (each limit on the column fails while any exist).
+        overflowed: usize,
     },
 }
 
@@ -78,6 +81,7 @@ fn resolve_field<'a>(a: &'a Assessment, target: &str) -> Option<Resolved<'a>> {
             (C::NoChange, c.classes.no_change as usize),
         ],
         points: f.points as usize,
+        overflowed: c.overflowed as usize,
     })
 }
 
@@ -177,21 +181,32 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                 max_absolute,
                 classes,
                 points,
+                overflowed,
             } => {
+                // Points whose uncertainty overflows are failures, not points to leave out:
+                // every limit on the column fails while any exist, and says why.
+                let clear = overflowed == 0;
+                let overflow_note = || {
+                    (!clear).then(|| {
+                        format!(
+                            "{overflowed} of {points} points have an uncertainty too large to represent (overflow); they count as failures"
+                        )
+                    })
+                };
                 if let Some(m) = l.max_relative {
                     out.push(mk(
                         format!("max_relative {}", m.0),
                         num(max_relative),
-                        max_relative.is_some_and(|v| v <= m.0),
-                        None,
+                        clear && max_relative.is_some_and(|v| v <= m.0),
+                        overflow_note(),
                     ));
                 }
                 if let Some(m) = l.max_absolute {
                     out.push(mk(
                         format!("max_absolute {}", m.0),
                         num(max_absolute),
-                        max_absolute.is_some_and(|v| v <= m.0),
-                        None,
+                        clear && max_absolute.is_some_and(|v| v <= m.0),
+                        overflow_note(),
                     ));
                 }
                 if let Some(c) = l.require {
@@ -199,16 +214,16 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                     out.push(mk(
                         format!("require {} at every point", c.label()),
                         serde_json::json!(format!("{n} of {points} points {}", c.label())),
-                        n == points,
-                        None,
+                        clear && n == points,
+                        overflow_note(),
                     ));
                 }
                 if let Some(n) = l.min_meshes {
                     out.push(mk(
                         format!("min_meshes {n}"),
                         serde_json::json!(3),
-                        3 >= n as usize,
-                        None,
+                        clear && 3 >= n as usize,
+                        overflow_note(),
                     ));
                 }
             }

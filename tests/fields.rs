@@ -144,3 +144,83 @@ fn field_gate_fails_when_the_largest_relative_uncertainty_is_too_large() {
     let o = run_in(w.path(), &["gate", "s.yaml", "-f", "json"]);
     assert_eq!(o.status.code(), Some(1), "{}", show(&o));
 }
+
+#[test]
+fn field_gate_fails_when_a_point_overflows() {
+    // Source of the check: the IEEE 754 double range (largest finite value about 1.8e308).
+    // Probe `huge` has φ = 1.7e308, 1.7e308, −1.7e308: ε32 overflows, so its uncertainty
+    // cannot be represented. It used to be left out of the summary, and the 5 % limit passed
+    // on the other (manufactured, well-converged) probes; now it counts as a failure.
+    let w = Workdir::new();
+    write_probes(&w, 20, 2.0);
+    for (mesh, v) in [("a", "1.7e308"), ("b", "1.7e308"), ("c", "-1.7e308")] {
+        let path = w.path().join(format!("{mesh}.csv"));
+        let mut s = std::fs::read_to_string(&path).unwrap();
+        s.push_str(&format!("huge,{v}\n"));
+        w.write(&format!("{mesh}.csv"), &s);
+    }
+    w.write("s.yaml", STUDY);
+    let o = run_in(w.path(), &["assess", "s.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["fields"][0]["points"], 21);
+    assert_eq!(v["fields"][0]["columns"][0]["overflowed"], 1);
+    assert!(
+        warning_codes(&v).contains(&"field_points_overflowed"),
+        "{}",
+        show(&o)
+    );
+    let o = run_in(w.path(), &["gate", "s.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(1), "{}", show(&o));
+    let out = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        out.contains("1 of 21 points have an uncertainty too large to represent"),
+        "{out}"
+    );
+    // Without the probe, the same limits pass.
+    write_probes(&w, 20, 2.0);
+    let o = run_in(w.path(), &["gate", "s.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+}
+
+/// Runs the binary, killing it when it has not ended after a generous time, so that a
+/// regression that blocks fails the test instead of hanging the suite.
+#[cfg(target_os = "linux")]
+fn run_or_kill(cwd: &std::path::Path, args: &[&str]) -> Option<std::process::Output> {
+    use std::process::{Command, Stdio};
+    let mut child = Command::new(env!("CARGO_BIN_EXE_meshbound"))
+        .args(args)
+        .current_dir(cwd)
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the meshbound binary runs");
+    for _ in 0..1200 {
+        if child.try_wait().expect("waiting works").is_some() {
+            return Some(child.wait_with_output().expect("output is read"));
+        }
+        std::thread::sleep(std::time::Duration::from_millis(100));
+    }
+    let _ = child.kill();
+    let _ = child.wait();
+    None
+}
+
+#[cfg(target_os = "linux")]
+#[test]
+fn a_fifo_as_probe_file_is_refused_instead_of_blocking() {
+    let w = Workdir::new();
+    write_probes(&w, 5, 2.0);
+    w.write("s.yaml", STUDY);
+    let fifo = w.path().join("b.csv");
+    std::fs::remove_file(&fifo).unwrap();
+    let c = std::ffi::CString::new(fifo.as_os_str().as_encoded_bytes()).unwrap();
+    // SAFETY: `c` is a valid NUL-terminated path.
+    assert_eq!(unsafe { libc::mkfifo(c.as_ptr(), 0o600) }, 0);
+    let o = run_or_kill(w.path(), &["assess", "s.yaml"])
+        .expect("meshbound blocked on a FIFO given as a probe file");
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("b.csv") && err.contains("FIFO"), "{err}");
+    assert!(!w.path().join("out/points.csv").exists());
+}

@@ -4,6 +4,7 @@
 
 pub mod least_squares;
 pub mod three_grid;
+pub mod three_grid_fast;
 
 use serde::{Deserialize, Serialize};
 

@@ -1,0 +1,211 @@
+//! Reading: one thread per probe file reads raw blocks of whole records, cut at the last line
+//! end outside double quotes, a few blocks ahead.
+
+use super::{pooled, FieldError, Pool};
+use std::fs::File;
+use std::io::Read;
+use std::path::{Path, PathBuf};
+use std::sync::mpsc::SyncSender;
+use std::sync::Arc;
+
+/// Longest record accepted, in bytes (a longer one is almost surely an unbalanced quote).
+pub(crate) const MAX_RECORD_BYTES: usize = 64 << 20;
+/// Raw blocks each reader thread may hold ready.
+pub(super) const READ_AHEAD: usize = 8;
+/// Raw read buffers kept for reuse at most (the read-ahead of three files and a round).
+pub(super) const RAW_POOL_MAX: usize = 3 * READ_AHEAD + 8;
+
+/// A block of whole records of one file.
+pub(super) struct RawBlock {
+    pub(super) bytes: Vec<u8>,
+    /// Line of the block's first byte.
+    pub(super) first_line: u64,
+    /// Line ends in the block (an upper bound of its records).
+    pub(super) newlines: usize,
+    /// Whether the block holds a double quote (else the plain parser applies).
+    pub(super) quoted: bool,
+}
+
+/// Reads one file in blocks cut at record boundaries.
+pub(super) struct BlockReader {
+    pub(super) path: PathBuf,
+    pub(super) file: File,
+    pub(super) carry: Vec<u8>,
+    pub(super) next_line: u64,
+    pub(super) eof: bool,
+    pub(super) block_bytes: usize,
+    pub(super) first: Option<RawBlock>,
+    /// Buffers of parsed blocks, handed back for reuse.
+    pub(super) pool: Arc<Pool>,
+}
+
+pub(super) fn count_byte(bytes: &[u8], b: u8) -> usize {
+    memchr::memchr_iter(b, bytes).count()
+}
+
+pub(super) fn has_quote(bytes: &[u8]) -> bool {
+    memchr::memchr(b'"', bytes).is_some()
+}
+
+/// Index of the last `\n` outside double quotes (the block starts outside quotes).
+pub(super) fn last_record_end(buf: &[u8]) -> Option<usize> {
+    if !has_quote(buf) {
+        return memchr::memrchr(b'\n', buf);
+    }
+    let mut quotes = count_byte(buf, b'"');
+    for i in (0..buf.len()).rev() {
+        match buf[i] {
+            b'"' => quotes -= 1,
+            b'\n' if quotes % 2 == 0 => return Some(i),
+            _ => {}
+        }
+    }
+    None
+}
+
+impl BlockReader {
+    pub(super) fn open(
+        path: &Path,
+        block_bytes: usize,
+        pool: Arc<Pool>,
+    ) -> Result<Self, FieldError> {
+        let file = crate::input::open_regular(path).map_err(|source| FieldError::Read {
+            path: path.to_path_buf(),
+            source,
+        })?;
+        Ok(BlockReader {
+            path: path.to_path_buf(),
+            file,
+            carry: Vec::new(),
+            next_line: 1,
+            eof: false,
+            block_bytes: block_bytes.max(1),
+            first: None,
+            pool,
+        })
+    }
+
+    pub(super) fn fill(&mut self, buf: &mut Vec<u8>, want: usize) -> Result<(), FieldError> {
+        if buf.len() >= want || self.eof {
+            return Ok(());
+        }
+        let limit = (want - buf.len()) as u64;
+        (&mut self.file)
+            .take(limit)
+            .read_to_end(buf)
+            .map_err(|source| FieldError::Read {
+                path: self.path.clone(),
+                source,
+            })?;
+        if buf.len() < want {
+            self.eof = true;
+        }
+        Ok(())
+    }
+
+    pub(super) fn make_block(&mut self, bytes: Vec<u8>) -> RawBlock {
+        let newlines = count_byte(&bytes, b'\n');
+        let block = RawBlock {
+            quoted: has_quote(&bytes),
+            bytes,
+            first_line: self.next_line,
+            newlines,
+        };
+        self.next_line += newlines as u64;
+        block
+    }
+
+    pub(super) fn next_block(&mut self) -> Result<Option<RawBlock>, FieldError> {
+        if let Some(b) = self.first.take() {
+            return Ok(Some(b));
+        }
+        let mut buf = pooled(&self.pool, self.block_bytes.max(self.carry.len()) + 256);
+        buf.append(&mut self.carry);
+        let mut want = self.block_bytes.max(buf.len() + 1);
+        loop {
+            self.fill(&mut buf, want)?;
+            if self.eof {
+                if buf.is_empty() {
+                    return Ok(None);
+                }
+                return Ok(Some(self.make_block(buf)));
+            }
+            if let Some(cut) = last_record_end(&buf) {
+                self.carry = buf[cut + 1..].to_vec();
+                buf.truncate(cut + 1);
+                return Ok(Some(self.make_block(buf)));
+            }
+            if buf.len() >= MAX_RECORD_BYTES {
+                return Err(FieldError::Malformed {
+                    path: self.path.clone(),
+                    line: self.next_line,
+                    message: format!(
+                        "a record longer than {} MiB: probably a double quote that is never closed",
+                        MAX_RECORD_BYTES >> 20
+                    ),
+                });
+            }
+            want = buf.len().saturating_mul(2);
+        }
+    }
+
+    /// Reads the header record; the rest of the first block is kept for `next_block`.
+    pub(super) fn read_header(&mut self) -> Result<Vec<String>, FieldError> {
+        let Some(mut block) = self.next_block()? else {
+            return Err(FieldError::Empty {
+                path: self.path.clone(),
+            });
+        };
+        if block.bytes.starts_with(b"\xEF\xBB\xBF") {
+            block.bytes.drain(..3);
+        }
+        let mut rdr = csv::ReaderBuilder::new()
+            .has_headers(false)
+            .flexible(true)
+            .from_reader(&block.bytes[..]);
+        let mut rec = csv::ByteRecord::new();
+        let got = rdr
+            .read_byte_record(&mut rec)
+            .map_err(|e| FieldError::Malformed {
+                path: self.path.clone(),
+                line: 1,
+                message: e.to_string(),
+            })?;
+        if !got {
+            return Err(FieldError::Empty {
+                path: self.path.clone(),
+            });
+        }
+        let header = rec
+            .iter()
+            .map(|f| String::from_utf8_lossy(f.trim_ascii()).into_owned())
+            .collect();
+        let after = rdr.position();
+        let start = (after.byte() as usize).min(block.bytes.len());
+        let rest = block.bytes[start..].to_vec();
+        self.first = Some(RawBlock {
+            newlines: count_byte(&rest, b'\n'),
+            quoted: has_quote(&rest),
+            first_line: after.line(),
+            bytes: rest,
+        });
+        Ok(header)
+    }
+}
+
+pub(super) fn run_reader(mut reader: BlockReader, tx: SyncSender<Result<RawBlock, FieldError>>) {
+    loop {
+        match reader.next_block() {
+            Ok(Some(b)) => {
+                if tx.send(Ok(b)).is_err() {
+                    return;
+                }
+            }
+            Ok(None) => return,
+            Err(e) => {
+                let _ = tx.send(Err(e));
+                return;
+            }
+        }
+    }
+}
