@@ -6,8 +6,8 @@ use std::fs::File;
 use std::io;
 use std::path::Path;
 
-/// What a file that is not a regular file is, in words.
-fn kind_of(ft: &std::fs::FileType) -> &'static str {
+/// What a file that is not a regular file is, in words ("a FIFO (named pipe)", "a folder", …).
+pub fn kind_of(ft: &std::fs::FileType) -> &'static str {
     #[cfg(unix)]
     {
         use std::os::unix::fs::FileTypeExt;

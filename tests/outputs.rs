@@ -116,7 +116,7 @@ fn only_regular_files_are_replaced() {
     std::fs::create_dir(w.path().join("folder")).unwrap();
     for (target, what) in [
         ("pipe", "a FIFO"),
-        ("null", "a device"),
+        ("null", "a character device"),
         ("folder", "a folder"),
     ] {
         let before = tree(w.path());

@@ -219,25 +219,7 @@ pub fn replaceable(path: &Path) -> std::io::Result<Option<std::fs::Permissions>>
 }
 
 fn describe(m: &std::fs::Metadata) -> &'static str {
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::FileTypeExt;
-        let t = m.file_type();
-        if t.is_char_device() || t.is_block_device() {
-            return "a device";
-        }
-        if t.is_fifo() {
-            return "a FIFO";
-        }
-        if t.is_socket() {
-            return "a socket";
-        }
-    }
-    if m.is_dir() {
-        "a folder"
-    } else {
-        "not a file"
-    }
+    meshbound::input::kind_of(&m.file_type())
 }
 
 /// Whether standard output was closed when the command started (see [`guard_std_streams`]).
