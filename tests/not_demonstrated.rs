@@ -106,3 +106,39 @@ fn gate_fails_and_plan_refuses() {
         show(&o)
     );
 }
+
+#[test]
+fn successive_triplets_are_compared() {
+    // Manufactured: φ = 1 + 0.1 h² on h = 1, 2, 4 (1.1, 1.4, 2.6: p = 2 exactly, analytic) and
+    // 5.0 on h = 8, off the law: the differences 0.3, 1.2, 2.4 give the next triplet p = 1
+    // (analytic, r = 2), 50 % away from the finest triplet's 2 (the 10 % tolerance is common
+    // practice, no source). The exact law on all four meshes (7.4 on h = 8) is not warned.
+    let w = Workdir::new();
+    for (coarsest, warned) in [("5.0", true), ("7.4", false)] {
+        let text = format!(
+            "format: 1
+title: Manufactured second-order law
+dimension: 2
+formal_order: 2
+meshes:
+  - {{name: M1, size: 1}}
+  - {{name: M2, size: 2}}
+  - {{name: M3, size: 4}}
+  - {{name: M4, size: 8}}
+quantities:
+  q:
+    unit: \"-\"
+    values: {{M1: 1.1, M2: 1.4, M3: 2.6, M4: {coarsest}}}
+"
+        );
+        let path = w.write("law.yaml", &text);
+        let v = json(&["assess", "-f", "json", path.to_str().unwrap()]);
+        let codes = warning_codes(&v);
+        assert_eq!(
+            codes.contains(&"triplet_orders_differ"),
+            warned,
+            "{codes:?}"
+        );
+        assert!(!codes.contains(&"not_asymptotic"), "{codes:?}");
+    }
+}
