@@ -128,6 +128,16 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
             };
         match r {
             Resolved::Quantity(q) => {
+                // Convergence not demonstrated (assess::govern): every limit fails with it.
+                let undemonstrated = q.governing.as_ref().is_some_and(|g| !g.demonstrated)
+                    && q.convergence != Some(crate::estimate::Convergence::Divergent);
+                let nd_note = || {
+                    Some(
+                        "convergence not demonstrated: no uncertainty can be quoted (see the \
+                         convergence_not_demonstrated warning)"
+                            .to_string(),
+                    )
+                };
                 let no_u = || {
                     Some(match q.convergence {
                         Some(crate::estimate::Convergence::Divergent) => {
@@ -141,8 +151,14 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                     out.push(mk(
                         format!("max_relative {}", m.0),
                         num(v),
-                        v.is_some_and(|v| v <= m.0),
-                        if v.is_none() { no_u() } else { None },
+                        !undemonstrated && v.is_some_and(|v| v <= m.0),
+                        if undemonstrated {
+                            nd_note()
+                        } else if v.is_none() {
+                            no_u()
+                        } else {
+                            None
+                        },
                     ));
                 }
                 if let Some(m) = l.max_absolute {
@@ -150,8 +166,14 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                     out.push(mk(
                         format!("max_absolute {}", m.0),
                         num(v),
-                        v.is_some_and(|v| v <= m.0),
-                        if v.is_none() { no_u() } else { None },
+                        !undemonstrated && v.is_some_and(|v| v <= m.0),
+                        if undemonstrated {
+                            nd_note()
+                        } else if v.is_none() {
+                            no_u()
+                        } else {
+                            None
+                        },
                     ));
                 }
                 if let Some(c) = l.require {
@@ -159,8 +181,8 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                     out.push(mk(
                         format!("require {}", c.label()),
                         got.map_or(serde_json::Value::Null, |g| serde_json::json!(g.label())),
-                        got == Some(c),
-                        None,
+                        !undemonstrated && got == Some(c),
+                        if undemonstrated { nd_note() } else { None },
                     ));
                 }
                 if let Some(n) = l.min_meshes {
@@ -171,8 +193,8 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                     out.push(mk(
                         format!("min_meshes {n}"),
                         serde_json::json!(used),
-                        used >= n as usize,
-                        None,
+                        !undemonstrated && used >= n as usize,
+                        if undemonstrated { nd_note() } else { None },
                     ));
                 }
             }

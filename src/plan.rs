@@ -169,6 +169,11 @@ pub fn for_target(
         }
         _ => {}
     }
+    if q.governing.as_ref().is_some_and(|g| !g.demonstrated) {
+        return Err(PlanError::Invalid(format!(
+            "`{name}`: convergence is not demonstrated by these meshes (see the convergence_not_demonstrated warning): its order does not describe how the error falls, so no mesh can be planned from it; look for the cause (a changing flow feature, iterative convergence, mesh quality) or refine further first"
+        )));
+    }
     let u = q
         .uncertainty
         .as_ref()

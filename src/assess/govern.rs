@@ -50,6 +50,78 @@ pub struct GoverningEstimate {
     pub extrapolated: Option<f64>,
     /// Its absolute uncertainty U of the finest mesh (`None` when divergent).
     pub absolute: Option<f64>,
+    /// Whether the data demonstrate convergence (see [`not_demonstrated`]): `false` when the
+    /// quantity diverges or a `convergence_not_demonstrated` rule holds. A quantity whose
+    /// convergence is not demonstrated is never called monotonic, fails every acceptance
+    /// limit and cannot be planned for.
+    pub demonstrated: bool,
+    /// Why convergence is not demonstrated (the warning's sentence; not serialised).
+    #[serde(skip)]
+    pub not_demonstrated_because: Option<String>,
+}
+
+/// Below this observed order convergence is not demonstrated (the `order_low` limit of the
+/// method notes §3; common practice, no source).
+pub const DEMONSTRATED_MIN_ORDER: f64 = 0.5;
+
+/// A convergence ratio R = ε21/ε32 above this is "close to 1": the differences barely shrink
+/// (R = 0.9 needs some 22 refinements to shrink them tenfold), so no extrapolation is
+/// supported. Common practice, no source.
+pub const DEMONSTRATED_MAX_RATIO: f64 = 0.9;
+
+/// Why the governing estimate does not demonstrate convergence, or `None` when it does (or
+/// when the values do not change). The rules, any one of which suffices: the governing
+/// observed order is below [`DEMONSTRATED_MIN_ORDER`]; it sits on an end of its search (the
+/// three-mesh `order_max` or scan's lower end, the least-squares bounds or excluded band); the
+/// least-squares order is not found; the three-mesh convergence ratio R exceeds
+/// [`DEMONSTRATED_MAX_RATIO`]. A divergent quantity is not demonstrated either, but has its
+/// own warning (`divergent`), so it gets a reason only when one of these rules holds.
+pub fn not_demonstrated(
+    three_grid: Option<&ThreeGrid>,
+    least_squares: Option<&LeastSquares>,
+    method: Method,
+    convergence: Convergence,
+    order: Option<f64>,
+) -> Option<String> {
+    if convergence == Convergence::NoChange {
+        return None;
+    }
+    let mut why = Vec::new();
+    if let Some(r) = three_grid.and_then(|t| t.convergence_ratio) {
+        if r > DEMONSTRATED_MAX_RATIO {
+            why.push(format!(
+                "the convergence ratio R = ε21/ε32 = {r:.4} of the three finest meshes is above \
+                 {DEMONSTRATED_MAX_RATIO}: the differences do not shrink"
+            ));
+        }
+    }
+    if method == Method::LeastSquares {
+        match least_squares {
+            Some(ls) if ls.order.is_none() => {
+                why.push("the least-squares free order is not found".to_string())
+            }
+            Some(ls) if ls.order_at_bound => {
+                why.push("the least-squares free order sits on an end of its search".to_string())
+            }
+            _ => {}
+        }
+    } else if three_grid.is_some_and(|t| t.order_at_bound) {
+        why.push("the observed order sits on an end of its search".to_string());
+    }
+    if let Some(p) = order.filter(|p| *p < DEMONSTRATED_MIN_ORDER) {
+        why.push(format!(
+            "the observed order p = {p:.3} is below {DEMONSTRATED_MIN_ORDER}"
+        ));
+    }
+    if why.is_empty() {
+        None
+    } else {
+        Some(format!(
+            "convergence not demonstrated: {}; no extrapolation is supported, so the uncertainty \
+             is not quotable, every acceptance limit on it fails and no mesh can be planned from it",
+            why.join("; ")
+        ))
+    }
 }
 
 /// Decides which estimate governs: the least-squares estimate when it exists and `estimator`
@@ -67,6 +139,13 @@ pub fn govern(
         } else {
             ls.per_mesh.first().map(|m| m.uncertainty)
         };
+        let why = not_demonstrated(
+            three_grid,
+            Some(ls),
+            Method::LeastSquares,
+            ls.convergence,
+            ls.order,
+        );
         return Some(GoverningEstimate {
             method: Method::LeastSquares,
             rule: absolute.map(|_| Rule::LeastSquares),
@@ -75,6 +154,8 @@ pub fn govern(
             order: ls.order,
             extrapolated: ls.selected_fit().map(|f| f.phi0),
             absolute,
+            demonstrated: why.is_none() && ls.convergence != Convergence::Divergent,
+            not_demonstrated_because: why,
         });
     }
     let tg = three_grid?;
@@ -84,13 +165,17 @@ pub fn govern(
         Governing::FormalOrder => Rule::FormalOrder,
         Governing::NoChange => Rule::NoChange,
     });
+    let method = if rule == Some(Rule::OscillationRange) {
+        Method::OscillationRange
+    } else {
+        Method::ThreeGrid
+    };
+    let why = not_demonstrated(Some(tg), None, method, tg.convergence, tg.observed_order);
     Some(GoverningEstimate {
-        method: if rule == Some(Rule::OscillationRange) {
-            Method::OscillationRange
-        } else {
-            Method::ThreeGrid
-        },
+        method,
         rule,
+        demonstrated: why.is_none() && tg.convergence != Convergence::Divergent,
+        not_demonstrated_because: why,
         convergence: tg.convergence,
         fit: None,
         order: tg.observed_order,
@@ -236,6 +321,49 @@ mod tests {
         assert_eq!(g.convergence, Convergence::Divergent);
         assert_eq!((g.rule, g.absolute, g.order), (None, None, None));
         assert!(govern(None, None, EstimatorChoice::Auto).is_none());
+    }
+
+    #[test]
+    fn convergence_is_demonstrated_by_an_exact_second_order_law() {
+        // Manufactured φ = 1 + 0.1 h², r = 2 (analytic p = 2, R = 1/4).
+        let t = tg([1.0, 2.0, 4.0], [1.1, 1.4, 2.6]);
+        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        assert!(g.demonstrated);
+        assert_eq!(g.not_demonstrated_because, None);
+        // The Celik et al. (2008) Table 1 case (p = 1.53) too.
+        assert!(
+            govern(Some(&celik()), None, EstimatorChoice::Auto)
+                .expect("governs")
+                .demonstrated
+        );
+    }
+
+    #[test]
+    fn a_low_order_does_not_demonstrate_convergence() {
+        // Manufactured φ = 1 + h^0.3, r = 2 (analytic p = 0.3 < 0.5, R = 2^−0.3 ≈ 0.81; the
+        // 0.5 limit is common practice, no source).
+        let h = [1.0, 2.0, 4.0];
+        let t = tg(h, h.map(|x| 1.0 + x.powf(0.3)));
+        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        assert_eq!(g.convergence, Convergence::Monotonic);
+        assert!(!g.demonstrated);
+        let why = g.not_demonstrated_because.expect("a reason");
+        assert!(why.contains("below 0.5") && !why.contains("ratio"), "{why}");
+    }
+
+    #[test]
+    fn a_ratio_near_one_does_not_demonstrate_convergence() {
+        // Manufactured φ = 1 + h^0.1 with the order known to be good enough otherwise:
+        // R = 2^−0.1 ≈ 0.933 > 0.9 (the 0.9 limit is common practice, no source).
+        let h = [1.0, 2.0, 4.0];
+        let t = tg(h, h.map(|x| 1.0 + x.powf(0.1)));
+        let why = not_demonstrated(Some(&t), None, Method::ThreeGrid, t.convergence, Some(1.0))
+            .expect("a reason");
+        assert!(why.contains("R = ε21/ε32 = 0.9330"), "{why}");
+        // Constant differences: R = 1 exactly (analytic), divergent and not demonstrated.
+        let t = tg(h, [0.434, 0.374, 0.314]);
+        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        assert!(!g.demonstrated && g.not_demonstrated_because.is_some());
     }
 
     #[test]

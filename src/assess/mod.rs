@@ -18,7 +18,13 @@ pub mod compare;
 mod govern;
 pub mod sweep;
 
-pub use govern::{govern, GoverningEstimate, Role, Rule};
+pub use govern::{
+    govern, not_demonstrated, GoverningEstimate, Role, Rule, DEMONSTRATED_MAX_RATIO,
+    DEMONSTRATED_MIN_ORDER,
+};
+
+/// The warning code of a quantity whose convergence the data do not demonstrate.
+pub const WARN_NOT_DEMONSTRATED: &str = "convergence_not_demonstrated";
 
 /// The caution carried by every report.
 pub const CAUTION: &str =
@@ -196,6 +202,9 @@ pub fn quantity(
         Err(e) => warnings.push(Warning::new("estimate_failed", e.to_string()).about(name)),
     }
     if n >= 4 {
+        if let Some(w) = triplet_orders(meshes, values, settings) {
+            warnings.push(w.about(name));
+        }
         let hs: Vec<f64> = meshes[..n].iter().map(|m| m.size).collect();
         match least_squares::estimate(&out.meshes, &hs, &values[..n], &LsSettings::default()) {
             Ok(mut ls) => {
@@ -228,10 +237,49 @@ pub fn quantity(
         estimator,
     );
     if let Some(g) = &out.governing {
+        if let Some(why) = &g.not_demonstrated_because {
+            warnings.push(Warning::new(WARN_NOT_DEMONSTRATED, why.clone()).about(name));
+        }
         out.convergence = Some(g.convergence);
         out.uncertainty = g.absolute.map(|u| Uncertainty::new(g.method, values[0], u));
     }
     out
+}
+
+/// Relative difference |p123 − p234| / p123 of the observed orders of the finest triplet and
+/// the next one beyond which they are warned as disagreeing (`triplet_orders_differ`): in the
+/// asymptotic range every triplet gives the same order (method notes §12). The 10 % tolerance
+/// is common practice, no source.
+pub const TRIPLET_ORDER_TOLERANCE: f64 = 0.1;
+
+/// Compares the observed orders of the three finest meshes and of the next three (meshes 2–4),
+/// when both exist; a warning when they differ by more than [`TRIPLET_ORDER_TOLERANCE`].
+fn triplet_orders(
+    meshes: &[Mesh],
+    values: &[f64],
+    settings: &ThreeGridSettings,
+) -> Option<Warning> {
+    let order = |i: usize| {
+        let h = [
+            meshes.get(i)?.size,
+            meshes.get(i + 1)?.size,
+            meshes.get(i + 2)?.size,
+        ];
+        let phi = [*values.get(i)?, *values.get(i + 1)?, *values.get(i + 2)?];
+        three_grid::estimate(h, phi, settings).ok()?.observed_order
+    };
+    let (fine, next) = (order(0)?, order(1)?);
+    let diff = (fine - next).abs() / fine;
+    (diff > TRIPLET_ORDER_TOLERANCE).then(|| {
+        Warning::new(
+            "triplet_orders_differ",
+            format!(
+                "the observed order of the three finest meshes ({fine:.3}) and of the next three \
+                 ({next:.3}) differ by {:.0} %: the meshes are probably not in the asymptotic range",
+                100.0 * diff
+            ),
+        )
+    })
 }
 
 /// The usual y+ range of wall functions (common practice, no source).

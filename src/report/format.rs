@@ -97,6 +97,27 @@ pub fn method_label(m: crate::assess::Method) -> &'static str {
     }
 }
 
+/// Whether the governing estimate of a quantity (not divergent) does not demonstrate
+/// convergence, as [`crate::assess::govern`] recorded it.
+pub fn not_demonstrated(q: &crate::assess::QuantityResult) -> bool {
+    q.governing.as_ref().is_some_and(|g| {
+        !g.demonstrated && g.convergence != crate::estimate::Convergence::Divergent
+    })
+}
+
+/// The class a quantity is shown with: "convergence not demonstrated" where the governing
+/// record says so (never "monotonic" then), else its convergence class, or "no estimate".
+pub fn class_label(q: &crate::assess::QuantityResult) -> &'static str {
+    if not_demonstrated(q) {
+        NOT_DEMONSTRATED
+    } else {
+        q.convergence.map_or("no estimate", |c| c.label())
+    }
+}
+
+/// The words shown for a quantity whose convergence the data do not demonstrate.
+pub const NOT_DEMONSTRATED: &str = "convergence not demonstrated";
+
 /// The observed order of the estimate that governed a quantity, as [`crate::assess::govern`]
 /// recorded it (`None` without one).
 pub fn governing_order(q: &crate::assess::QuantityResult) -> Option<f64> {

@@ -7,8 +7,8 @@
 //! is a figure the assessment holds, rounded for display by [`super::format`].
 
 use super::format::{
-    condensed, governing_extrapolated, governing_order, method_label, num, opt, percent, sig,
-    with_uncertainty,
+    class_label, condensed, governing_extrapolated, governing_order, method_label, num, opt,
+    percent, sig, with_uncertainty,
 };
 use super::table::{breakdown_rule, statement, symbol};
 use crate::assess::sweep::{BandResult, BreakdownResult, SweepResult};
@@ -213,7 +213,7 @@ fn value_and_u(q: &QuantityResult) -> (Cell, Cell) {
 }
 
 fn class(q: &QuantityResult) -> Cell {
-    Cell::text(q.convergence.map_or("no estimate", |c| c.label()))
+    Cell::text(class_label(q))
 }
 
 fn method(q: &QuantityResult) -> Cell {

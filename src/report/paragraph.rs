@@ -12,7 +12,7 @@
 //! Every figure is one the [`Assessment`] holds, rounded for display by [`super::format`];
 //! nothing is computed here beyond formatting.
 
-use super::format::{num, percent, sig, with_uncertainty};
+use super::format::{not_demonstrated, num, percent, sig, with_uncertainty};
 use super::table::{breakdown_rule, symbol};
 use crate::assess::sweep::SweepResult;
 use crate::assess::{Assessment, Method, QuantityResult, Rule};
@@ -237,6 +237,18 @@ fn basis(q: &QuantityResult, method: Method) -> String {
 /// The figure of a quantity (`value ± U unit (relative)`, or the finest value alone) and the
 /// clause that follows it.
 fn figure(q: &QuantityResult, unit: String) -> (String, String) {
+    if not_demonstrated(q) {
+        let value = q.values.first().map_or_else(
+            || "not given".to_string(),
+            |v| format!("{}{unit}", num(*v, 8)),
+        );
+        return (
+            value,
+            "but convergence is not demonstrated by these meshes (warning \
+             `convergence_not_demonstrated`): no discretisation uncertainty can be quoted"
+                .to_string(),
+        );
+    }
     match &q.uncertainty {
         Some(u) => {
             let (v, a) = with_uncertainty(u.value, u.absolute);

@@ -1,6 +1,9 @@
 //! Tables for people, built with comfy-table. Only formats the assessment.
 
-use super::format::{method_label, num, opt, opt_percent, percent, sig, with_uncertainty};
+use super::format::{
+    class_label, method_label, not_demonstrated, num, opt, opt_percent, percent, sig,
+    with_uncertainty,
+};
 use super::Exporter;
 use crate::assess::{Assessment, Method, QuantityResult};
 use comfy_table::{presets, CellAlignment, ContentArrangement, Table as Grid, TableComponent};
@@ -27,8 +30,19 @@ fn grid(headers: &[&str]) -> Grid {
 
 /// The one-line statement `value ± U (x.xx %)` with its class, or why there is none.
 pub fn statement(q: &QuantityResult) -> String {
-    let class = q.convergence.map_or("no estimate", |c| c.label());
+    let class = class_label(q);
     match &q.uncertainty {
+        Some(u) if not_demonstrated(q) => {
+            let rel = u
+                .relative
+                .map_or_else(|| "value is zero".to_string(), percent);
+            let (_, a) = with_uncertainty(u.value, u.absolute);
+            format!(
+                "{} · {class} · no quotable uncertainty (the {} would give ± {a}, {rel})",
+                q.values.first().map_or("–".into(), |v| num(*v, 8)),
+                method_label(u.method)
+            )
+        }
         Some(u) => {
             let how = method_label(u.method);
             let rel = u
