@@ -146,19 +146,23 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                         _ => "no uncertainty estimate".to_string(),
                     })
                 };
+                // Why a limit on U fails where it does: no demonstrated convergence, or no U.
+                let u_note = |has_u: bool| {
+                    if undemonstrated {
+                        nd_note()
+                    } else if !has_u {
+                        no_u()
+                    } else {
+                        None
+                    }
+                };
                 if let Some(m) = l.max_relative {
                     let v = q.uncertainty.as_ref().and_then(|u| u.relative);
                     out.push(mk(
                         format!("max_relative {}", m.0),
                         num(v),
                         !undemonstrated && v.is_some_and(|v| v <= m.0),
-                        if undemonstrated {
-                            nd_note()
-                        } else if v.is_none() {
-                            no_u()
-                        } else {
-                            None
-                        },
+                        u_note(v.is_some()),
                     ));
                 }
                 if let Some(m) = l.max_absolute {
@@ -167,13 +171,7 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                         format!("max_absolute {}", m.0),
                         num(v),
                         !undemonstrated && v.is_some_and(|v| v <= m.0),
-                        if undemonstrated {
-                            nd_note()
-                        } else if v.is_none() {
-                            no_u()
-                        } else {
-                            None
-                        },
+                        u_note(v.is_some()),
                     ));
                 }
                 if let Some(c) = l.require {
