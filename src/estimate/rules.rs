@@ -367,6 +367,13 @@ fn start(inputs: &RuleInputs) -> Start {
     }
 }
 
+/// The result where the class settles U without an order (no change: 0; divergent: none),
+/// with the three-mesh estimate's warnings.
+fn settled(rule: Rule, inputs: &RuleInputs, u: Option<f64>, branch: Branch) -> RuleEstimate {
+    let warnings = inputs.three_grid.warnings.clone();
+    result(rule, inputs.phi[0], u, None, None, branch, warnings)
+}
+
 fn not_applicable(rule: Rule, inputs: &RuleInputs, why: &str) -> RuleEstimate {
     let mut w = inputs.three_grid.warnings.clone();
     w.push(Warning::new(
@@ -437,15 +444,7 @@ pub fn xing_stern(inputs: &RuleInputs) -> RuleEstimate {
     let rule = Rule::XingStern;
     let phi1 = inputs.phi[0];
     match start(inputs) {
-        Start::Done(u, b) => result(
-            rule,
-            phi1,
-            u,
-            None,
-            None,
-            b,
-            inputs.three_grid.warnings.clone(),
-        ),
+        Start::Done(u, b) => settled(rule, inputs, u, b),
         Start::NoOrder => not_applicable(rule, inputs, "no observed order"),
         Start::Order(p) => {
             let ratio = p / inputs.formal_order;
@@ -479,15 +478,7 @@ pub fn stern_correction(inputs: &RuleInputs) -> RuleEstimate {
     let rule = Rule::SternCorrection;
     let phi1 = inputs.phi[0];
     match start(inputs) {
-        Start::Done(u, b) => result(
-            rule,
-            phi1,
-            u,
-            None,
-            None,
-            b,
-            inputs.three_grid.warnings.clone(),
-        ),
+        Start::Done(u, b) => settled(rule, inputs, u, b),
         Start::NoOrder => not_applicable(rule, inputs, "no observed order"),
         Start::Order(p) => {
             let r21 = inputs.r21();
