@@ -2,23 +2,26 @@
 //! Validation in Computational Fluid Dynamics and Heat Transfer"): comparison error
 //! E = S − D, validation standard uncertainty u_val = sqrt(u_num² + u_input² + u_D²), and the
 //! interval E ± k·u_val in which the model error lies (k = 2 for about 95 % under a normal
-//! assumption). u_num comes from the discretisation uncertainty U divided by a divisor (1.15
-//! for a GCI with Fs = 1.25, from memory of V&V 20; a setting).
+//! assumption). u_num is the simulation's standard numerical uncertainty, which the caller
+//! derives from U with the divisor of the method that governed it (1.15 for a GCI with
+//! Fs = 1.25, from memory of V&V 20; see `assess::govern::standard_divisor`).
 //!
 //! Pure: plain numbers in, plain results out.
 
 use serde::Serialize;
 
-/// One simulated point to compare: x, the simulation value S, and U (absolute, `None` when
-/// divergent).
+/// One simulated point to compare: x, the simulation value S, U and its standard uncertainty
+/// u_num (absolute, `None` when divergent).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Simulated {
     /// Abscissa (0 for a scalar quantity).
     pub x: f64,
     /// Simulation value S (finest mesh).
     pub value: f64,
-    /// Discretisation uncertainty U, absolute.
+    /// Numerical uncertainty U, absolute.
     pub uncertainty: Option<f64>,
+    /// Its standard uncertainty u_num, absolute.
+    pub standard: Option<f64>,
 }
 
 /// One measured point: x, D and its standard uncertainty u_D (absolute).
@@ -35,8 +38,9 @@ pub struct Measured {
 /// Settings of a comparison.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct CompareSettings {
-    /// u_num = U / divisor.
-    pub divisor: f64,
+    /// A divisor the study sets for every point (u_num = U/divisor), overriding each point's
+    /// own standard uncertainty; `None` keeps those.
+    pub divisor: Option<f64>,
     /// Coverage factor k.
     pub coverage: f64,
     /// Input-parameter standard uncertainty, absolute.
@@ -58,7 +62,7 @@ pub struct ComparedPoint {
     pub measured: f64,
     /// E = S − D.
     pub error: f64,
-    /// u_num = U / divisor (`None` when no uncertainty can be claimed).
+    /// u_num, the standard numerical uncertainty (`None` when no uncertainty can be claimed).
     pub u_num: Option<f64>,
     /// u_input.
     pub u_input: f64,
@@ -98,8 +102,9 @@ pub struct Comparison {
     pub measured_peak: Option<f64>,
     /// Coverage factor k.
     pub coverage_factor: f64,
-    /// Divisor of U.
-    pub divisor: f64,
+    /// The divisor of U the study set for every point (`null`: each point's governing method
+    /// decided its own, docs/method.md §8).
+    pub divisor: Option<f64>,
     /// The points.
     pub points: Vec<ComparedPoint>,
     /// Summary.
@@ -134,7 +139,10 @@ pub fn compare(
         let sv = a.value * fs;
         let dv = b.value * fd;
         let e = sv - dv;
-        let u_num = a.uncertainty.map(|u| u * fs / s.divisor);
+        let u_num = match s.divisor {
+            Some(d) => a.uncertainty.map(|u| u * fs / d),
+            None => a.standard.map(|u| u * fs),
+        };
         let u_d = b.u * fd;
         let u_in = (s.u_input + s.u_input_relative * a.value.abs()) * fs;
         let u_val = u_num.map(|un| (un * un + u_in * u_in + u_d * u_d).sqrt());
@@ -193,6 +201,7 @@ mod tests {
                 x: 0.3,
                 value: 0.9093,
                 uncertainty: Some(0.00375),
+                standard: Some(0.00375 / 1.15),
             }],
             &[Measured {
                 x: 0.3,
@@ -201,7 +210,7 @@ mod tests {
             }],
             0.9093,
             &CompareSettings {
-                divisor: 1.15,
+                divisor: None,
                 coverage: 2.0,
                 u_input: 0.001,
                 u_input_relative: 0.0,
@@ -229,11 +238,13 @@ mod tests {
                     x: 1.0,
                     value: 1.0,
                     uncertainty: Some(0.01),
+                    standard: None,
                 },
                 Simulated {
                     x: 2.0,
                     value: 0.5,
                     uncertainty: None,
+                    standard: None,
                 },
             ],
             &[
@@ -250,7 +261,7 @@ mod tests {
             ],
             1.0,
             &CompareSettings {
-                divisor: 1.15,
+                divisor: Some(1.15),
                 coverage: 2.0,
                 u_input: 0.0,
                 u_input_relative: 0.0,

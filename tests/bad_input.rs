@@ -107,10 +107,10 @@ const CASES: &[(&str, &str, &str, &str)] = &[
         "quantities.efficiency.values.L9: names the mesh `L9`, which is not in `meshes`",
     ),
     (
-        "two meshes",
-        "  - name: L3\n    cells: 6.2e5\n",
+        "one mesh",
+        "  - name: L2\n    cells: 1.45e6\n  - name: L3\n    cells: 6.2e5\n",
         "",
-        "meshes: the study has 2 meshes; at least three are needed for an observed order",
+        "meshes: the study has 1 mesh; at least two are needed (three for an observed order)",
     ),
     (
         "same size",

@@ -29,7 +29,7 @@ reference_data:
     points:
       - {x: 0.3, value: 0.895}
       - {x: 0.25, value: 0.88, u: 0.003}
-settings: {validation_divisor: 1.15, coverage_factor: 2}
+settings: {validation_divisor: 1.15, coverage_factor: 2, uncertainty_rule: celik_gci}
 ";
 
 #[test]

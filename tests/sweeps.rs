@@ -5,6 +5,7 @@ mod common;
 
 use approx::assert_relative_eq;
 use common::*;
+use meshbound::estimate::rules::{self, Rule, RuleInputs};
 use meshbound::estimate::three_grid::{self, ThreeGridSettings};
 use meshbound::sweep::{find_breakdown, DropRule, Interpolation, ReferenceKind};
 
@@ -174,9 +175,12 @@ fn sweep_json_follows_the_contract_and_the_band_reproduces_the_scalar_estimator(
         let d = three_grid::estimate([1.0, 1.5, 2.25], phi, &ThreeGridSettings::default()).unwrap();
         assert_eq!(p["convergence"], d.convergence.label());
         assert_relative_eq!(p["value"].as_f64().unwrap(), phi[0], max_relative = 1e-12);
+        // U by the default rule on the same three values (the scalar rules of
+        // meshbound::estimate::rules, checked against an independent Python implementation).
+        let inputs = RuleInputs::from_estimate([1.0, 1.5, 2.25], phi, 2.0, d.clone()).unwrap();
         assert_relative_eq!(
             p["absolute"].as_f64().unwrap(),
-            d.uncertainty.unwrap(),
+            rules::apply(Rule::DEFAULT, &inputs).uncertainty.unwrap(),
             max_relative = 1e-12
         );
         assert_relative_eq!(

@@ -66,6 +66,7 @@ pub fn run(
                     x: 0.0,
                     value: s,
                     uncertainty: q.uncertainty.as_ref().map(|u| u.absolute),
+                    standard: q.uncertainty.as_ref().map(|u| u.standard),
                 }];
                 let c = compare(&sim, &meas, s, &cs).map_err(|e| fail(study, r, e))?;
                 out.push(ComparisonResult {
@@ -122,7 +123,8 @@ pub fn run(
                     sim.push(Simulated {
                         x: m.x,
                         value: values[0],
-                        uncertainty: q.uncertainty.map(|u| u.absolute),
+                        uncertainty: q.uncertainty.as_ref().map(|u| u.absolute),
+                        standard: q.uncertainty.as_ref().map(|u| u.standard),
                     });
                 }
                 let peak = sw.curves[0].responses[ri]

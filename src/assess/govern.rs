@@ -4,12 +4,15 @@
 //!
 //! The rule (docs/method.md): the least-squares estimate of Eça & Hoekstra (2014) governs when
 //! it exists (four or more meshes) and the study does not ask for the three-mesh estimate;
-//! otherwise the three-mesh estimate of Celik et al. (2008) governs, and within it the estimate
-//! itself says whether the GCI, half the range of an oscillation (Stern et al. 2001), the formal
-//! order with Fs = 3 (Roache 1998) or "no change" fixed U.
+//! otherwise the three-mesh estimate governs, and the published rule the study chooses
+//! (`settings.uncertainty_rule`, default the Stern et al. 2001 correction factor; see
+//! [`crate::estimate::rules`]) states U from it; with two meshes Roache's two-mesh GCI (formal
+//! order, Fs = 3) does. This is also where the standard uncertainty u = U/divisor of each
+//! method is decided (ASME V&V 20 for the GCI; see [`standard_divisor`]).
 
-use super::Method;
+use super::{Method, Uncertainty};
 use crate::estimate::least_squares::{FitChoice, LeastSquares};
+use crate::estimate::rules::{self, Branch, RuleEstimate};
 use crate::estimate::three_grid::{Governing, ThreeGrid};
 use crate::estimate::Convergence;
 use crate::study::raw::EstimatorChoice;
@@ -29,6 +32,11 @@ pub enum Rule {
     NoChange,
     /// The selected least-squares fit (Eça & Hoekstra 2014).
     LeastSquares,
+    /// A published factor of safety on the Richardson estimate: the rule named in
+    /// `three_mesh_rule` (Roache's Fs = 3 off the formal order, Xing & Stern, Stern et al.).
+    FactorOfSafety,
+    /// Two meshes: Roache's two-mesh GCI with the formal order and Fs = 3.
+    TwoMesh,
 }
 
 /// The governing estimate of a quantity, as decided by [`govern`]: every exporter reads this
@@ -58,6 +66,60 @@ pub struct GoverningEstimate {
     /// Why convergence is not demonstrated (the warning's sentence; not serialised).
     #[serde(skip)]
     pub not_demonstrated_because: Option<String>,
+    /// The published rule that stated U when a three-mesh or two-mesh estimate governs
+    /// (`None` under least squares).
+    pub three_mesh_rule: Option<rules::Rule>,
+    /// The branch of that rule that applied.
+    pub branch: Option<Branch>,
+    /// The factor of safety the governing rule applied (`None` when it applied none).
+    pub safety_factor: Option<f64>,
+    /// The order the governing rule put in r21^p − 1 (the formal order where it assumed it).
+    pub order_used: Option<f64>,
+    /// The divisor that turns U into a standard uncertainty u = U/divisor (u_num of ASME
+    /// V&V 20), decided by [`standard_divisor`] or set by the study.
+    pub divisor: f64,
+    /// Where the divisor comes from (for reports).
+    #[serde(skip)]
+    pub divisor_basis: &'static str,
+}
+
+/// ASME V&V 20-2009 (from memory): u_num = GCI/1.15 for the GCI with Fs = 1.25.
+pub const DIVISOR_GCI: f64 = 1.15;
+/// An expanded uncertainty at about 95 % turned into a standard one with k = 2 (JCGM 100:2008
+/// GUM §6.3.3 for a normal distribution; ITTC 7.5-03-01-01 states U at 95 %; from memory):
+/// the project's choice for every factor-of-safety rule other than the Fs = 1.25 GCI, and for
+/// least squares (Eça & Hoekstra 2014 aim at 95 % coverage).
+pub const DIVISOR_EXPANDED: f64 = 2.0;
+
+/// The divisor of a bound: half the range of an oscillation read as the half-width of a
+/// rectangular distribution, u = a/√3 (JCGM 100:2008 GUM §4.3.7, from memory).
+pub fn divisor_bound() -> f64 {
+    3.0_f64.sqrt()
+}
+
+/// The standard-uncertainty divisor of a governing estimate and where it comes from: 1.15 for
+/// the GCI with Fs = 1.25 (ASME V&V 20), √3 for half the range of an oscillation (a bound),
+/// 2 for every other rule (an expanded uncertainty at about 95 %), 1 where U = 0.
+pub fn standard_divisor(
+    method: Method,
+    rule: Option<Rule>,
+    safety_factor: Option<f64>,
+) -> (f64, &'static str) {
+    match (method, rule) {
+        (_, Some(Rule::NoChange)) | (_, None) => (1.0, "no uncertainty to convert"),
+        (Method::OscillationRange, _) | (_, Some(Rule::OscillationRange)) => (
+            divisor_bound(),
+            "half range as a rectangular bound, u = U/√3 (GUM 4.3.7, from memory)",
+        ),
+        (_, Some(Rule::Gci)) if safety_factor == Some(rules::FS_OBSERVED) => (
+            DIVISOR_GCI,
+            "GCI with Fs = 1.25, u = U/1.15 (ASME V&V 20, from memory)",
+        ),
+        _ => (
+            DIVISOR_EXPANDED,
+            "expanded uncertainty at about 95 %, u = U/2 (GUM k = 2, from memory)",
+        ),
+    }
 }
 
 /// Below this observed order convergence is not demonstrated (the `order_low` limit of the
@@ -125,13 +187,15 @@ pub fn not_demonstrated(
 }
 
 /// Decides which estimate governs: the least-squares estimate when it exists and `estimator`
-/// is not [`EstimatorChoice::ThreeGrid`], else the three-mesh estimate; `None` when neither
-/// exists. A divergent least-squares estimate still governs (its class is the quantity's
-/// class) but gives no U.
+/// is not [`EstimatorChoice::ThreeGrid`], else the three-mesh estimate, with U stated by
+/// `rule` (the study's published rule on the same three meshes; the Celik et al. 2008 GCI of
+/// `three_grid` itself when `None`); `None` when neither exists. A divergent estimate still
+/// governs (its class is the quantity's class) but gives no U.
 pub fn govern(
     three_grid: Option<&ThreeGrid>,
     least_squares: Option<&LeastSquares>,
     estimator: EstimatorChoice,
+    rule: Option<&RuleEstimate>,
 ) -> Option<GoverningEstimate> {
     if let Some(ls) = least_squares.filter(|_| estimator != EstimatorChoice::ThreeGrid) {
         let absolute = if ls.convergence == Convergence::Divergent {
@@ -146,9 +210,12 @@ pub fn govern(
             ls.convergence,
             ls.order,
         );
+        let rule = absolute.map(|_| Rule::LeastSquares);
+        let (divisor, divisor_basis) =
+            standard_divisor(Method::LeastSquares, rule, Some(ls.safety_factor));
         return Some(GoverningEstimate {
             method: Method::LeastSquares,
-            rule: absolute.map(|_| Rule::LeastSquares),
+            rule,
             convergence: ls.convergence,
             fit: Some(ls.selected),
             order: ls.order,
@@ -156,32 +223,158 @@ pub fn govern(
             absolute,
             demonstrated: why.is_none() && ls.convergence != Convergence::Divergent,
             not_demonstrated_because: why,
+            three_mesh_rule: None,
+            branch: None,
+            safety_factor: Some(ls.safety_factor),
+            order_used: ls.order,
+            divisor,
+            divisor_basis,
         });
     }
     let tg = three_grid?;
-    let rule = tg.governing.map(|g| match g {
+    let celik = tg.governing.map(|g| match g {
         Governing::Gci => Rule::Gci,
         Governing::OscillationRange => Rule::OscillationRange,
         Governing::FormalOrder => Rule::FormalOrder,
         Governing::NoChange => Rule::NoChange,
     });
+    let (rule, absolute, named, branch, fs, order_used) = match rule {
+        Some(r) => (
+            rule_of(r.branch),
+            r.uncertainty,
+            Some(r.rule),
+            Some(r.branch),
+            r.safety_factor,
+            r.order,
+        ),
+        None => (
+            celik,
+            tg.uncertainty,
+            Some(rules::Rule::CelikGci),
+            None,
+            (celik == Some(Rule::Gci) || celik == Some(Rule::FormalOrder)).then(|| {
+                if celik == Some(Rule::Gci) {
+                    tg.safety_factor
+                } else {
+                    rules::FS_ASSUMED
+                }
+            }),
+            tg.observed_order,
+        ),
+    };
     let method = if rule == Some(Rule::OscillationRange) {
         Method::OscillationRange
     } else {
         Method::ThreeGrid
     };
     let why = not_demonstrated(Some(tg), None, method, tg.convergence, tg.observed_order);
+    let (divisor, divisor_basis) = standard_divisor(method, absolute.and(rule), fs);
     Some(GoverningEstimate {
         method,
-        rule,
+        rule: absolute.and(rule),
         demonstrated: why.is_none() && tg.convergence != Convergence::Divergent,
         not_demonstrated_because: why,
         convergence: tg.convergence,
         fit: None,
         order: tg.observed_order,
         extrapolated: tg.extrapolated,
-        absolute: tg.uncertainty,
+        absolute,
+        three_mesh_rule: named,
+        branch,
+        safety_factor: fs,
+        order_used,
+        divisor,
+        divisor_basis,
     })
+}
+
+/// The statement with the finest mesh's iterative uncertainty U_I (absolute, in the
+/// quantity's unit) combined by root-sum-square: U = √(U_G² + U_I²) (ASME V&V 20-2009;
+/// ITTC 7.5-03-01-01, U_SN² = U_I² + U_G² + …, from memory), and the standard uncertainty
+/// u_num = √(u_G² + (U_I/√3)²), U_I being read as the half-width of the iterative scatter, a
+/// rectangular bound (GUM §4.3.7, from memory; a project decision).
+pub fn with_iterative(u: &Uncertainty, u_i: f64) -> Uncertainty {
+    let u_i = u_i.abs();
+    let absolute = u.discretisation.hypot(u_i);
+    let standard = (u.discretisation / u.divisor).hypot(u_i / divisor_bound());
+    Uncertainty {
+        method: u.method,
+        value: u.value,
+        absolute,
+        discretisation: u.discretisation,
+        iterative: Some(u_i),
+        standard,
+        divisor: u.divisor,
+        relative: (u.value != 0.0).then(|| absolute / u.value.abs()),
+        lower: u.value - absolute,
+        upper: u.value + absolute,
+    }
+}
+
+/// What fixed U, from the branch of a published rule.
+fn rule_of(branch: Branch) -> Option<Rule> {
+    match branch {
+        Branch::Gci => Some(Rule::Gci),
+        Branch::OscillationRange => Some(Rule::OscillationRange),
+        Branch::FormalOrderFallback => Some(Rule::FormalOrder),
+        Branch::NoChange => Some(Rule::NoChange),
+        Branch::Divergent | Branch::NotApplicable => None,
+        Branch::TwoMesh => Some(Rule::TwoMesh),
+        Branch::NearFormal
+        | Branch::FarFromFormal
+        | Branch::OrderAtOrBelowFormal
+        | Branch::OrderAboveFormal
+        | Branch::SmallCorrection
+        | Branch::LargeCorrection => Some(Rule::FactorOfSafety),
+    }
+}
+
+/// The governing estimate of a two-mesh quantity: Roache's two-mesh GCI (formal order,
+/// Fs = 3). No class or order can be observed from two values, so the class is
+/// `undetermined`; the U is quotable but labelled (`Method::TwoMesh`), and the warning
+/// `order_assumed` says that the formal order was assumed. The extrapolated value is
+/// Richardson's two-mesh φ1 + (φ1 − φ2)/(r21^{p_f} − 1).
+pub fn govern_two_mesh(two_mesh: &RuleEstimate, h: [f64; 2], phi: [f64; 2]) -> GoverningEstimate {
+    // A difference within the round-off of the values is no change (as for three meshes).
+    let tiny =
+        crate::estimate::three_grid::ROUNDOFF_ULPS * f64::EPSILON * phi[0].abs().max(phi[1].abs());
+    let change = (phi[1] - phi[0]).abs() > tiny;
+    let rule = if change {
+        two_mesh.uncertainty.map(|_| Rule::TwoMesh)
+    } else {
+        Some(Rule::NoChange)
+    };
+    let (divisor, divisor_basis) = standard_divisor(Method::TwoMesh, rule, two_mesh.safety_factor);
+    let absolute = if change {
+        two_mesh.uncertainty
+    } else {
+        Some(0.0)
+    };
+    GoverningEstimate {
+        method: Method::TwoMesh,
+        rule,
+        convergence: if change {
+            Convergence::Undetermined
+        } else {
+            Convergence::NoChange
+        },
+        fit: None,
+        order: None,
+        extrapolated: two_mesh.order.and_then(|pf| {
+            let d = (h[1] / h[0]).powf(pf) - 1.0;
+            let ext = phi[0] + (phi[0] - phi[1]) / d;
+            (d > 0.0 && ext.is_finite()).then_some(ext)
+        }),
+        absolute,
+        demonstrated: true,
+        not_demonstrated_because: None,
+        three_mesh_rule: Some(rules::Rule::TwoMeshGci),
+        branch: Some(two_mesh.branch),
+        safety_factor: two_mesh.safety_factor,
+        order_used: two_mesh.order,
+        divisor,
+        divisor_basis,
+    }
 }
 
 /// The role a result plays in the assessment.
@@ -270,7 +463,7 @@ mod tests {
             EstimatorChoice::LeastSquares,
         ] {
             // With three meshes there is no least-squares estimate, whatever the choice.
-            let g = govern(Some(&t), None, choice).expect("governs");
+            let g = govern(Some(&t), None, choice, None).expect("governs");
             assert_eq!(g.method, Method::ThreeGrid);
             assert_eq!(g.rule, Some(Rule::Gci));
             assert_eq!(g.convergence, Convergence::Monotonic);
@@ -287,7 +480,7 @@ mod tests {
         // (Stern et al. 2001 classes); p = ln 3 / ln 1.5 (analytic, r21 = r32), GCI form
         // 1.25 · 0.01 / (3 − 1) = 0.00625 below the half range ½(1.02 − 0.99) = 0.015.
         let t = tg([1.0, 1.5, 2.25], [1.0, 0.99, 1.02]);
-        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
         assert_eq!(g.method, Method::OscillationRange);
         assert_eq!(g.rule, Some(Rule::OscillationRange));
         assert_eq!(g.convergence, Convergence::Oscillatory);
@@ -305,7 +498,7 @@ mod tests {
         // Roache's fallback U = 3 · max(|ε21|/(r21² − 1), |ε32|/(r32² − 1))
         // = 3 · 0.1 / (1.5² − 1) = 0.24 (formula, formal order 2).
         let t = tg([1.0, 1.5, 2.25], [1.0, 1.0, 1.1]);
-        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
         assert_eq!(g.method, Method::ThreeGrid);
         assert_eq!(g.rule, Some(Rule::FormalOrder));
         assert_eq!(g.order, None);
@@ -317,22 +510,22 @@ mod tests {
     fn a_divergent_three_mesh_estimate_gives_no_u() {
         // R = 0.02/0.01 = 2 > 1: monotonic divergence (Stern et al. 2001 classes).
         let t = tg([1.0, 1.5, 2.25], [1.0, 1.02, 1.03]);
-        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
         assert_eq!(g.convergence, Convergence::Divergent);
         assert_eq!((g.rule, g.absolute, g.order), (None, None, None));
-        assert!(govern(None, None, EstimatorChoice::Auto).is_none());
+        assert!(govern(None, None, EstimatorChoice::Auto, None).is_none());
     }
 
     #[test]
     fn convergence_is_demonstrated_by_an_exact_second_order_law() {
         // Manufactured φ = 1 + 0.1 h², r = 2 (analytic p = 2, R = 1/4).
         let t = tg([1.0, 2.0, 4.0], [1.1, 1.4, 2.6]);
-        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
         assert!(g.demonstrated);
         assert_eq!(g.not_demonstrated_because, None);
         // The Celik et al. (2008) Table 1 case (p = 1.53) too.
         assert!(
-            govern(Some(&celik()), None, EstimatorChoice::Auto)
+            govern(Some(&celik()), None, EstimatorChoice::Auto, None)
                 .expect("governs")
                 .demonstrated
         );
@@ -344,7 +537,7 @@ mod tests {
         // 0.5 limit is common practice, no source).
         let h = [1.0, 2.0, 4.0];
         let t = tg(h, h.map(|x| 1.0 + x.powf(0.3)));
-        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
         assert_eq!(g.convergence, Convergence::Monotonic);
         assert!(!g.demonstrated);
         let why = g.not_demonstrated_because.expect("a reason");
@@ -362,7 +555,7 @@ mod tests {
         assert!(why.contains("R = ε21/ε32 = 0.9330"), "{why}");
         // Constant differences: R = 1 exactly (analytic), divergent and not demonstrated.
         let t = tg(h, [0.434, 0.374, 0.314]);
-        let g = govern(Some(&t), None, EstimatorChoice::Auto).expect("governs");
+        let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
         assert!(!g.demonstrated && g.not_demonstrated_because.is_some());
     }
 
@@ -377,7 +570,7 @@ mod tests {
             least_squares::estimate(&names, &h, &phi, &LsSettings::default()).expect("an estimate");
         let t = tg([h[0], h[1], h[2]], [phi[0], phi[1], phi[2]]);
         for choice in [EstimatorChoice::Auto, EstimatorChoice::LeastSquares] {
-            let g = govern(Some(&t), Some(&ls), choice).expect("governs");
+            let g = govern(Some(&t), Some(&ls), choice, None).expect("governs");
             assert_eq!(g.method, Method::LeastSquares);
             assert_eq!(g.rule, Some(Rule::LeastSquares));
             assert_eq!(g.convergence, Convergence::Monotonic);
@@ -388,7 +581,7 @@ mod tests {
         }
         // The study can ask for the three-mesh estimate: it then governs (same manufactured
         // data, p = 1.5 exactly on three meshes too).
-        let g = govern(Some(&t), Some(&ls), EstimatorChoice::ThreeGrid).expect("governs");
+        let g = govern(Some(&t), Some(&ls), EstimatorChoice::ThreeGrid, None).expect("governs");
         assert_eq!(g.method, Method::ThreeGrid);
         assert_eq!(g.rule, Some(Rule::Gci));
         assert_relative_eq!(g.order.expect("p"), 1.5, epsilon = 1e-8);

@@ -4,12 +4,13 @@
 //! design notes): field names here are fixed.
 
 use crate::estimate::least_squares::{self, LeastSquares, LsSettings};
+use crate::estimate::rules::{self, RuleEstimate, RuleInputs};
 use crate::estimate::three_grid::{self, ThreeGrid, ThreeGridSettings};
 use crate::estimate::Convergence;
 use crate::grid::Mesh;
 use crate::sink::Outputs;
 use crate::study::raw::EstimatorChoice;
-use crate::study::{Quantity, Study};
+use crate::study::{IterativeSource, Quantity, Study};
 use crate::warning::Warning;
 use crate::Error;
 use serde::Serialize;
@@ -19,8 +20,8 @@ mod govern;
 pub mod sweep;
 
 pub use govern::{
-    govern, not_demonstrated, GoverningEstimate, Role, Rule, DEMONSTRATED_MAX_RATIO,
-    DEMONSTRATED_MIN_ORDER,
+    govern, govern_two_mesh, not_demonstrated, standard_divisor, GoverningEstimate, Role, Rule,
+    DEMONSTRATED_MAX_RATIO, DEMONSTRATED_MIN_ORDER, DIVISOR_EXPANDED, DIVISOR_GCI,
 };
 
 /// The warning code of a quantity whose convergence the data do not demonstrate.
@@ -82,6 +83,8 @@ pub enum Method {
     OscillationRange,
     /// The least-squares procedure.
     LeastSquares,
+    /// Roache's two-mesh GCI (two meshes only; the formal order assumed, Fs = 3).
+    TwoMesh,
 }
 
 /// The uncertainty statement of a quantity: value ± absolute.
@@ -91,8 +94,18 @@ pub struct Uncertainty {
     pub method: Method,
     /// The finest mesh's value.
     pub value: f64,
-    /// Absolute uncertainty U.
+    /// Absolute uncertainty U: the discretisation uncertainty, combined by root-sum-square
+    /// with the finest mesh's iterative uncertainty where the study gives one.
     pub absolute: f64,
+    /// The discretisation part U_G (equal to `absolute` without an iterative part).
+    pub discretisation: f64,
+    /// The iterative part U_I of the finest mesh (`None` when the study gives none).
+    pub iterative: Option<f64>,
+    /// The standard uncertainty u_num (ASME V&V 20): √((U_G/divisor)² + (U_I/√3)²), the
+    /// divisor of the governing method (see `assess::govern::standard_divisor`).
+    pub standard: f64,
+    /// The divisor of U_G in `standard`.
+    pub divisor: f64,
     /// U / |value| (`None` when the value is zero).
     pub relative: Option<f64>,
     /// value − U.
@@ -113,12 +126,17 @@ impl Assessment {
 }
 
 impl Uncertainty {
-    /// Builds the statement from a value and an absolute uncertainty.
-    pub fn new(method: Method, value: f64, absolute: f64) -> Self {
+    /// Builds the statement from a value and an absolute uncertainty with no iterative part,
+    /// the standard uncertainty being U/`divisor`.
+    pub fn new(method: Method, value: f64, absolute: f64, divisor: f64) -> Self {
         Uncertainty {
             method,
             value,
             absolute,
+            discretisation: absolute,
+            iterative: None,
+            standard: absolute / divisor,
+            divisor,
             relative: if value != 0.0 {
                 Some(absolute / value.abs())
             } else {
@@ -154,6 +172,9 @@ pub struct QuantityResult {
     pub uncertainty: Option<Uncertainty>,
     /// The governing estimate chosen by [`govern`] (`None` when there is no estimate).
     pub governing: Option<GoverningEstimate>,
+    /// Every published rule on the same meshes, side by side (the three-mesh rules of
+    /// [`crate::estimate::rules`] with three or more meshes, the two-mesh GCI with two).
+    pub rules: Vec<RuleEstimate>,
 }
 
 /// Estimates one quantity over the meshes (finest first): the three-mesh estimate on the three
@@ -182,11 +203,15 @@ pub fn quantity(
         least_squares: None,
         uncertainty: None,
         governing: None,
+        rules: Vec::new(),
     };
+    if n == 2 {
+        two_meshes(&mut out, meshes, values, settings, warnings);
+        return out;
+    }
     if n < 3 {
-        warnings.push(
-            Warning::new("too_few_meshes", "fewer than three meshes: no estimate").about(name),
-        );
+        warnings
+            .push(Warning::new("too_few_meshes", "fewer than two meshes: no estimate").about(name));
         return out;
     }
     let h = [meshes[0].size, meshes[1].size, meshes[2].size];
@@ -231,19 +256,83 @@ pub fn quantity(
                 .push(Warning::new("estimate_failed", format!("least squares: {e}")).about(name)),
         }
     }
+    if let Some(tg) = &out.three_grid {
+        if let Ok(inputs) =
+            RuleInputs::from_estimate(h, phi, settings.formal_order, tg.estimate.clone())
+        {
+            out.rules = rules::all(&inputs).to_vec();
+        }
+    }
+    let chosen = out.rules.iter().find(|r| r.rule == settings.rule);
     out.governing = govern(
         out.three_grid.as_ref().map(|t| &t.estimate),
         out.least_squares.as_ref(),
         estimator,
+        chosen,
     );
+    if let (Some(r), Some(g)) = (chosen, &out.governing) {
+        if g.method != Method::LeastSquares {
+            // The rule's own warnings (the three-mesh estimate's are already listed).
+            let own = r.warnings.iter().filter(|w| {
+                !out.three_grid
+                    .as_ref()
+                    .is_some_and(|t| t.estimate.warnings.iter().any(|x| x.code == w.code))
+                    && !warnings
+                        .iter()
+                        .any(|x| x.code == w.code && x.subject.as_deref() == Some(name))
+            });
+            warnings.extend(own.cloned().map(|w| w.about(name)).collect::<Vec<_>>());
+        }
+    }
+    finish(&mut out, values, warnings);
+    out
+}
+
+/// Fills the class and the uncertainty statement from the governing record, and warns where
+/// convergence is not demonstrated.
+fn finish(out: &mut QuantityResult, values: &[f64], warnings: &mut Vec<Warning>) {
     if let Some(g) = &out.governing {
         if let Some(why) = &g.not_demonstrated_because {
-            warnings.push(Warning::new(WARN_NOT_DEMONSTRATED, why.clone()).about(name));
+            warnings.push(Warning::new(WARN_NOT_DEMONSTRATED, why.clone()).about(&out.name));
         }
         out.convergence = Some(g.convergence);
-        out.uncertainty = g.absolute.map(|u| Uncertainty::new(g.method, values[0], u));
+        out.uncertainty = g
+            .absolute
+            .map(|u| Uncertainty::new(g.method, values[0], u, g.divisor));
     }
-    out
+}
+
+/// Two meshes: Roache's two-mesh GCI with the formal order and Fs = 3, labelled as such.
+fn two_meshes(
+    out: &mut QuantityResult,
+    meshes: &[Mesh],
+    values: &[f64],
+    settings: &ThreeGridSettings,
+    warnings: &mut Vec<Warning>,
+) {
+    let h = [meshes[0].size, meshes[1].size];
+    let phi = [values[0], values[1]];
+    match rules::two_mesh_gci(h, phi, settings.formal_order) {
+        Ok(r) => {
+            warnings.push(
+                Warning::new(
+                    "order_assumed",
+                    format!(
+                        "two meshes: no order or convergence class can be observed; the two-mesh \
+                         GCI assumes the formal order {} with safety factor 3 (Roache 1998); a \
+                         third mesh would show whether the meshes are in the asymptotic range",
+                        settings.formal_order
+                    ),
+                )
+                .about(&out.name),
+            );
+            warnings.extend(r.warnings.iter().cloned().map(|w| w.about(&out.name)));
+            out.governing = Some(govern_two_mesh(&r, h, phi));
+            out.rules = vec![r];
+        }
+        Err(e) => warnings.push(Warning::new("estimate_failed", e.to_string()).about(&out.name)),
+    }
+    finish(out, values, warnings);
 }
 
 /// Relative difference |p123 − p234| / p123 of the observed orders of the finest triplet and
@@ -282,6 +371,10 @@ fn triplet_orders(
     })
 }
 
+/// An iterative uncertainty above this share of a mesh difference is not small beside it
+/// (warning `iterative_not_small`; common practice, no source).
+pub const ITERATIVE_SMALL: f64 = 0.1;
+
 /// The usual y+ range of wall functions (common practice, no source).
 pub const WALL_FUNCTION_Y_PLUS: (f64, f64) = (30.0, 300.0);
 
@@ -312,22 +405,39 @@ pub fn health_warnings(study: &Study) -> Vec<Warning> {
         if q.values.len() < 2 {
             continue;
         }
-        let e21 = (q.values[1] - q.values[0]).abs();
-        for (m, it) in study.meshes.iter().zip(&study.iterative) {
-            if let Some(it) = it {
-                if *it > 0.1 * e21 {
-                    w.push(
-                        Warning::new(
-                            "iterative_not_small",
-                            format!(
-                                "the iterative uncertainty of mesh `{}` ({it:e}) is more than a tenth of |ε21| = {e21:e}: the mesh differences may be iterative noise (common practice, no source)",
-                                m.name
-                            ),
-                        )
-                        .about(&q.name),
-                    );
-                    break;
-                }
+        if q.iterative_source == IterativeSource::MeshesUnitsDiffer {
+            w.push(
+                Warning::new(
+                    "iterative_unit_unknown",
+                    "the meshes give one iterative uncertainty for every quantity, but the \
+                     quantities' units differ, so it is not used here: give `iterative` per \
+                     mesh under the quantity, in its unit",
+                )
+                .about(&q.name),
+            );
+        }
+        // Each mesh's iterative uncertainty against the smallest difference it takes part in
+        // (ε21 for the finest mesh, the smaller of its two neighbours' for the others).
+        let diffs: Vec<f64> = q.values.windows(2).map(|p| (p[1] - p[0]).abs()).collect();
+        for (i, (m, it)) in study.meshes.iter().zip(&q.iterative).enumerate() {
+            let Some(it) = it else { continue };
+            let e = [i.checked_sub(1).and_then(|j| diffs.get(j)), diffs.get(i)]
+                .into_iter()
+                .flatten()
+                .copied()
+                .fold(f64::INFINITY, f64::min);
+            if e.is_finite() && *it > ITERATIVE_SMALL * e {
+                w.push(
+                    Warning::new(
+                        "iterative_not_small",
+                        format!(
+                            "the iterative uncertainty of mesh `{}` ({it:e}) is more than a tenth of the mesh difference it enters ({e:e}): the mesh differences may be iterative noise (common practice, no source)",
+                            m.name
+                        ),
+                    )
+                    .about(&q.name),
+                );
+                break;
             }
         }
     }
@@ -392,12 +502,13 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
         safety_factor: study.settings.safety_factor,
         order_max: study.settings.order_max,
         formal_order: study.formal_order,
+        rule: study.settings.rule,
     };
     let quantities = study
         .quantities
         .iter()
         .map(|q: &Quantity| {
-            quantity(
+            let mut r = quantity(
                 &q.name,
                 Role::Quantity,
                 q.unit.as_deref(),
@@ -406,7 +517,11 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
                 &settings,
                 study.settings.estimator,
                 &mut warnings,
-            )
+            );
+            if let (Some(u), Some(u_i)) = (&r.uncertainty, q.iterative.first().copied().flatten()) {
+                r.uncertainty = Some(govern::with_iterative(u, u_i));
+            }
+            r
         })
         .collect::<Vec<_>>();
     let comparisons = compare::run(study, &quantities, &settings)?;

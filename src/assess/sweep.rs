@@ -374,7 +374,7 @@ fn band(
             Some(Convergence::Oscillatory) => classes.oscillatory += 1,
             Some(Convergence::Divergent) => classes.divergent += 1,
             Some(Convergence::NoChange) => classes.no_change += 1,
-            None => classes.none += 1,
+            Some(Convergence::Undetermined) | None => classes.none += 1,
         }
         if let Some(p) = order {
             order_sum += p;

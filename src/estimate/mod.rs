@@ -21,6 +21,9 @@ pub enum Convergence {
     Divergent,
     /// The values do not change between meshes.
     NoChange,
+    /// Two meshes give one difference: no class can be observed (the two-mesh GCI assumes
+    /// monotonic convergence at the formal order).
+    Undetermined,
 }
 
 impl Convergence {
@@ -31,6 +34,7 @@ impl Convergence {
             Convergence::Oscillatory => "oscillatory",
             Convergence::Divergent => "divergent",
             Convergence::NoChange => "no_change",
+            Convergence::Undetermined => "undetermined",
         }
     }
 }

@@ -85,6 +85,37 @@ impl Rule {
         Rule::TwoMeshGci,
     ];
 
+    /// The rule that governs a three-mesh study unless the study chooses another
+    /// (`settings.uncertainty_rule`): the Stern et al. (2001) correction factor, the one rule
+    /// of this module whose coverage on the project's manufactured two-term data reaches 95 %
+    /// in both families with a median U/|error| below 4 and no quiet miss (docs/method.md §12).
+    pub const DEFAULT: Rule = Rule::SternCorrection;
+
+    /// The rules a three-mesh study may choose to govern (the two-mesh GCI governs only
+    /// two-mesh studies).
+    pub const THREE_MESH: [Rule; 4] = [
+        Rule::CelikGci,
+        Rule::RoacheFs3,
+        Rule::XingStern,
+        Rule::SternCorrection,
+    ];
+
+    /// The rule named by its label.
+    pub fn from_label(label: &str) -> Option<Rule> {
+        Rule::ALL.into_iter().find(|r| r.label() == label)
+    }
+
+    /// A short name for people (tables, paragraphs).
+    pub fn title(self) -> &'static str {
+        match self {
+            Rule::CelikGci => "GCI (Celik et al. 2008)",
+            Rule::RoacheFs3 => "GCI with Fs = 3 off the formal order (Roache 1998)",
+            Rule::XingStern => "factor of safety (Xing & Stern 2010)",
+            Rule::SternCorrection => "correction factor (Stern et al. 2001)",
+            Rule::TwoMeshGci => "two-mesh GCI with the formal order (Roache 1998)",
+        }
+    }
+
     /// The snake_case label used in every output.
     pub fn label(self) -> &'static str {
         match self {
@@ -165,7 +196,9 @@ pub struct RuleEstimate {
     pub order: Option<f64>,
     /// The branch that applied.
     pub branch: Branch,
-    /// Warnings: those of the three-mesh estimate and the rule's own.
+    /// Warnings: those of the three-mesh estimate and the rule's own (not serialised: the
+    /// assessment lists warnings once, at the study level).
+    #[serde(skip)]
     pub warnings: Vec<Warning>,
 }
 
@@ -201,6 +234,24 @@ impl RuleInputs {
             ..ThreeGridSettings::default()
         };
         let three_grid = three_grid::estimate(h, phi, &settings)?;
+        Ok(RuleInputs {
+            h,
+            phi,
+            formal_order,
+            three_grid,
+        })
+    }
+
+    /// The inputs from a three-mesh estimate already made on `h` and `phi` (its safety
+    /// factor is the Celik rule's). The caller vouches that `three_grid` was computed from
+    /// these sizes and values with this formal order.
+    pub fn from_estimate(
+        h: [f64; 3],
+        phi: [f64; 3],
+        formal_order: f64,
+        three_grid: ThreeGrid,
+    ) -> Result<Self, EstimateError> {
+        check_formal_order(formal_order)?;
         Ok(RuleInputs {
             h,
             phi,
@@ -374,6 +425,25 @@ fn settled(rule: Rule, inputs: &RuleInputs, u: Option<f64>, branch: Branch) -> R
     result(rule, inputs.phi[0], u, None, None, branch, warnings)
 }
 
+/// Roache's fallback without an observed order (Roache 1998, from memory): the formal order
+/// with Fs = 3 on the larger of the two mesh-pair differences, as the three-mesh estimate does.
+fn formal_order_fallback(rule: Rule, inputs: &RuleInputs) -> RuleEstimate {
+    let pf = inputs.formal_order;
+    let [r21, r32] = inputs.three_grid.ratios;
+    let e32 = inputs.phi[2] - inputs.phi[1];
+    let u = FS_ASSUMED
+        * (inputs.e21().abs() / (r21.powf(pf) - 1.0)).max(e32.abs() / (r32.powf(pf) - 1.0));
+    result(
+        rule,
+        inputs.phi[0],
+        Some(u),
+        Some(FS_ASSUMED),
+        Some(pf),
+        Branch::FormalOrderFallback,
+        inputs.three_grid.warnings.clone(),
+    )
+}
+
 fn not_applicable(rule: Rule, inputs: &RuleInputs, why: &str) -> RuleEstimate {
     let mut w = inputs.three_grid.warnings.clone();
     w.push(Warning::new(
@@ -402,22 +472,7 @@ pub fn roache_fs3(inputs: &RuleInputs) -> RuleEstimate {
     let mut w = inputs.three_grid.warnings.clone();
     match start(inputs) {
         Start::Done(u, b) => result(rule, phi1, u, None, None, b, w),
-        Start::NoOrder => {
-            let pf = inputs.formal_order;
-            let [r21, r32] = inputs.three_grid.ratios;
-            let e32 = inputs.phi[2] - inputs.phi[1];
-            let u = FS_ASSUMED
-                * (inputs.e21().abs() / (r21.powf(pf) - 1.0)).max(e32.abs() / (r32.powf(pf) - 1.0));
-            result(
-                rule,
-                phi1,
-                Some(u),
-                Some(FS_ASSUMED),
-                Some(pf),
-                Branch::FormalOrderFallback,
-                w,
-            )
-        }
+        Start::NoOrder => formal_order_fallback(rule, inputs),
         Start::Order(p) => {
             let (fs, order, branch) = roache_choice(p, inputs.formal_order);
             if branch == Branch::FarFromFormal {
@@ -473,18 +528,29 @@ pub fn xing_stern(inputs: &RuleInputs) -> RuleEstimate {
 
 /// Stern et al. (2001) correction factor, from memory: C = (r21^p − 1)/(r21^{p_f} − 1),
 /// δ_RE = ε21/(r21^p − 1), U = [9.6(1 − C)² + 1.1]·|δ_RE| when |1 − C| < 0.125, otherwise
-/// U = [2|1 − C| + 1]·|δ_RE|. Without an observed order: no U (warning `rule_not_applicable`).
+/// U = [2|1 − C| + 1]·|δ_RE|. On oscillatory data Stern et al. bound the error by half the
+/// range of the oscillation: the larger of that and the formula governs (branch
+/// `oscillation_range` when the half range does), as in the three-mesh estimate. Without an
+/// observed order: Roache's fallback (the formal order with Fs = 3 on the larger pair
+/// difference), so that the rule gives a U wherever the differences shrink.
 pub fn stern_correction(inputs: &RuleInputs) -> RuleEstimate {
     let rule = Rule::SternCorrection;
     let phi1 = inputs.phi[0];
     match start(inputs) {
         Start::Done(u, b) => settled(rule, inputs, u, b),
-        Start::NoOrder => not_applicable(rule, inputs, "no observed order"),
+        Start::NoOrder => formal_order_fallback(rule, inputs),
         Start::Order(p) => {
             let r21 = inputs.r21();
             let c = (r21.powf(p) - 1.0) / (r21.powf(inputs.formal_order) - 1.0);
-            let (fs, branch) = stern_factor(c);
-            let u = richardson_delta(inputs.e21(), r21, p).map(|d| fs * d.abs());
+            let (fs, mut branch) = stern_factor(c);
+            let mut u = richardson_delta(inputs.e21(), r21, p).map(|d| fs * d.abs());
+            let half = inputs.three_grid.oscillation_half_range;
+            if inputs.three_grid.convergence == Convergence::Oscillatory
+                && u.is_none_or(|u| half > u)
+            {
+                u = Some(half);
+                branch = Branch::OscillationRange;
+            }
             result(
                 rule,
                 phi1,
@@ -792,15 +858,28 @@ mod tests {
             assert_eq!((r.uncertainty, r.branch), (None, Branch::Divergent));
         }
         // No observed order (φ1 = φ2): Roache reverts to p_f with Fs = 3 like the crate's
-        // fallback, 3·0.1/(1.5² − 1) = 0.24 (formula); Xing & Stern and Stern et al. give none.
+        // fallback, 3·0.1/(1.5² − 1) = 0.24 (formula), and so does the Stern et al. rule
+        // here (a project decision, docs/method.md §12); Xing & Stern give none.
         let inp = RuleInputs::new([1.0, 1.5, 2.25], [1.0, 1.0, 1.1], 2.0).unwrap();
         let [c, ro, xs, st, _] = all(&inp);
         assert_relative_eq!(ro.uncertainty.unwrap(), 0.24, max_relative = 1e-12);
         assert_eq!(ro.uncertainty, c.uncertainty);
+        assert_eq!(st.uncertainty, c.uncertainty);
         assert_eq!(ro.branch, Branch::FormalOrderFallback);
-        for r in [xs, st] {
-            assert!(r.uncertainty.is_none() && has(&r, CODE_NOT_APPLICABLE));
+        assert_eq!(st.branch, Branch::FormalOrderFallback);
+        assert!(xs.uncertainty.is_none() && has(&xs, CODE_NOT_APPLICABLE));
+        // Shrinking differences no power law with p > 0 fits (r21 = 1.3, r32 = 2,
+        // ε32/ε21 = 2 < ln 2/ln 1.3 = 2.64): monotonic with no order, every rule but Xing &
+        // Stern on the fallback 3·max(0.01/(1.3² − 1), 0.02/(2² − 1)) (formula).
+        let inp = RuleInputs::new([1.0, 1.3, 2.6], [1.0, 1.01, 1.03], 2.0).unwrap();
+        assert_eq!(inp.three_grid.convergence, Convergence::Monotonic);
+        assert_eq!(inp.three_grid.observed_order, None);
+        let fb = 3.0 * (0.01_f64 / (1.3 * 1.3 - 1.0)).max(0.02 / 3.0);
+        let [c, ro, xs, st, _] = all(&inp);
+        for r in [c, ro, st] {
+            assert_relative_eq!(r.uncertainty.unwrap(), fb, max_relative = 1e-9);
         }
+        assert!(xs.uncertainty.is_none());
         // Overflowing differences: refused by the three-mesh estimate.
         assert!(RuleInputs::new([1.0, 2.0, 4.0], [1e308, -1e308, 1e308], 2.0).is_err());
         // Labels are distinct (they are output keys).

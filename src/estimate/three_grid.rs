@@ -28,6 +28,10 @@ pub struct ThreeGridSettings {
     pub order_max: f64,
     /// Formal order of the discretisation (for warnings and the fallback).
     pub formal_order: f64,
+    /// The published rule that states U when a three-mesh estimate governs
+    /// ([`super::rules`]). [`estimate`] itself always computes the Celik et al. (2008) GCI
+    /// with `safety_factor`; `assess::govern` reads this to choose.
+    pub rule: super::rules::Rule,
 }
 
 impl Default for ThreeGridSettings {
@@ -36,6 +40,7 @@ impl Default for ThreeGridSettings {
             safety_factor: 1.25,
             order_max: 20.0,
             formal_order: 2.0,
+            rule: super::rules::Rule::DEFAULT,
         }
     }
 }
@@ -319,7 +324,11 @@ pub fn estimate(
         // Same sign. With equal ratios this is Stern et al.'s 0 < R < 1; with unequal ratios
         // the test is whether an exact fit φ0 + α h^p with p > 0 exists, which holds when
         // ε32/ε21 > ln r32 / ln r21 (the limit of the fit's difference ratio as p → 0).
-        if r == 0.0 || 1.0 / r > r32.ln() / r21.ln() {
+        // Differences that shrink (0 ≤ R < 1) converge by Stern et al.'s classes even when
+        // no power law with p > 0 passes through the three values: the order search then
+        // finds no root, the formal-order fallback gives U, and `assess::govern` says that
+        // convergence is not demonstrated.
+        if r < 1.0 || 1.0 / r > r32.ln() / r21.ln() {
             Convergence::Monotonic
         } else {
             Convergence::Divergent

@@ -139,7 +139,7 @@ impl FastThreeGrid {
         }
         let r = e21 / e32;
         out.convergence = if r >= 0.0 {
-            if r == 0.0 || 1.0 / r > self.threshold {
+            if r < 1.0 || 1.0 / r > self.threshold {
                 Convergence::Monotonic
             } else {
                 Convergence::Divergent
@@ -563,7 +563,7 @@ mod tests {
         ) {
             let r32 = if r32 == 0.0 { r21 } else { r32 };
             let h = [h1, h1 * r21, h1 * r21 * r32];
-            let settings = ThreeGridSettings { safety_factor, order_max, formal_order };
+            let settings = ThreeGridSettings { safety_factor, order_max, formal_order, ..Default::default() };
             let fast = FastThreeGrid::new(h, &settings).unwrap();
             for (a, b) in std::iter::once((d21, d32)).chain(more) {
                 let phi = [phi1, phi1 + a * 0.01, phi1 + a * 0.01 + b * 0.01];

@@ -138,6 +138,8 @@ impl ColumnAcc {
             Convergence::Oscillatory => self.classes.oscillatory += 1,
             Convergence::Divergent => self.classes.divergent += 1,
             Convergence::NoChange => self.classes.no_change += 1,
+            // Three meshes always give a class.
+            Convergence::Undetermined => {}
         }
         match e.governing {
             Some(Governing::FormalOrder) => self.formal += 1,

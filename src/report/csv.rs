@@ -92,6 +92,7 @@ fn method(m: Method) -> &'static str {
         Method::ThreeGrid => "three_grid",
         Method::OscillationRange => "oscillation_range",
         Method::LeastSquares => "least_squares",
+        Method::TwoMesh => "two_mesh",
     }
 }
 
@@ -398,8 +399,10 @@ quantities:
         assert_eq!(&q[col("value")], "-0.5");
         assert_eq!(&q[col("mesh_values")], "-0.5;-0.8;-2");
         let num = |c: &str| -> f64 { q[col(c)].parse().expect(c) };
-        assert_relative_eq!(num("absolute"), 0.125, max_relative = 1e-12);
-        assert_relative_eq!(num("lower"), -0.625, max_relative = 1e-12);
+        // φ = −0.4 − 0.1 h² (analytic): p = 2 = p_f on r = 2, δ_RE = 0.3/3 = 0.1: the default
+        // correction factor (Stern et al. 2001, from memory) is 1.1 at C = 1, U = 0.11.
+        assert_relative_eq!(num("absolute"), 0.11, max_relative = 1e-12);
+        assert_relative_eq!(num("lower"), -0.61, max_relative = 1e-12);
         assert_relative_eq!(num("extrapolated"), -0.4, max_relative = 1e-12);
         assert_relative_eq!(num("observed_order"), 2.0, max_relative = 1e-12);
         // No cell of the file begins with a formula character unless it is a number.

@@ -87,6 +87,17 @@ pub fn full(v: f64) -> String {
     }
 }
 
+/// How u_num follows from U in a comparison: `U/d` when the study set one divisor, else the
+/// governing method's own divisor (docs/method.md §8).
+pub fn u_num_phrase(divisor: Option<f64>) -> String {
+    match divisor {
+        Some(d) => format!("u_num = U/{}", num(d, 4)),
+        None => "u_num = U/divisor of the governing method (1.15 for the GCI with Fs = 1.25, \
+                 √3 for half an oscillation's range, 2 otherwise), iterative part added by RSS"
+            .to_string(),
+    }
+}
+
 /// The label of the estimate that governed an uncertainty, for table cells.
 pub fn method_label(m: crate::assess::Method) -> &'static str {
     use crate::assess::Method;
@@ -94,6 +105,7 @@ pub fn method_label(m: crate::assess::Method) -> &'static str {
         Method::ThreeGrid => "three-mesh GCI",
         Method::OscillationRange => "half range of the oscillation",
         Method::LeastSquares => "least-squares fit",
+        Method::TwoMesh => "two-mesh GCI (formal order assumed)",
     }
 }
 

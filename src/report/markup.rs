@@ -302,6 +302,7 @@ fn both_estimates_table(a: &Assessment) -> Option<TableBlock> {
         {
             Some(Method::LeastSquares) => "least squares",
             Some(Method::ThreeGrid | Method::OscillationRange) => "three-mesh",
+            Some(Method::TwoMesh) => "two-mesh",
             None => "neither",
         };
         t.rows.push(vec![
@@ -453,8 +454,8 @@ fn comparison_blocks(
         format!("Comparison with measurements: {}", c.name),
     ));
     out.push(Block::Paragraph(vec![text(format!(
-        "ASME V&V 20: E = S − D, u_val = sqrt(u_num² + u_input² + u_D²), u_num = U/{}, k = {}. {} of {} points have |E| ≤ k·u_val; largest |E| {}; mean E {}.{}",
-        num(cm.divisor, 4),
+        "ASME V&V 20: E = S − D, u_val = sqrt(u_num² + u_input² + u_D²), {}, k = {}. {} of {} points have |E| ≤ k·u_val; largest |E| {}; mean E {}.{}",
+        super::format::u_num_phrase(cm.divisor),
         num(cm.coverage_factor, 4),
         cm.summary.within,
         cm.summary.points,

@@ -60,9 +60,24 @@ fn method_sentence(a: &Assessment) -> String {
     } else {
         "the three finest meshes"
     };
-    let gci = format!(
-        "Richardson extrapolation with the grid convergence index (GCI) on {three}, following Celik et al. (2008)"
-    );
+    let mut named: Vec<crate::estimate::rules::Rule> = Vec::new();
+    for g in all_quantities(a).filter_map(|q| q.governing.as_ref()) {
+        if matches!(g.method, Method::ThreeGrid | Method::OscillationRange) && g.absolute.is_some()
+        {
+            if let Some(r) = g.three_mesh_rule.filter(|r| !named.contains(r)) {
+                named.push(r);
+            }
+        }
+    }
+    let gci = match named.as_slice() {
+        [] | [crate::estimate::rules::Rule::CelikGci] => format!(
+            "Richardson extrapolation with the grid convergence index (GCI) on {three}, following Celik et al. (2008)"
+        ),
+        rules => format!(
+            "Richardson extrapolation on {three}, U being stated by the {} (the GCI of Celik et al. (2008) is reported beside it)",
+            and_list(&rules.iter().map(|r| r.title().to_string()).collect::<Vec<_>>())
+        ),
+    };
     let lsq = "the least-squares procedure of Eça and Hoekstra (2014) over all the meshes";
     let tried_ls = all_quantities(a).any(|q| q.least_squares.is_some());
     let how = match (tg, ls) {
@@ -70,6 +85,13 @@ fn method_sentence(a: &Assessment) -> String {
         (false, true) => lsq.to_string(),
         (false, false) if !osc && tried_ls => format!("{gci} and by {lsq}"),
         _ => gci,
+    };
+    let how = if governs(Method::TwoMesh) {
+        "the two-mesh GCI of Roache (1998) on the two meshes, with the formal order assumed and \
+         safety factor 3"
+            .to_string()
+    } else {
+        how
     };
     let mut out = format!("The discretisation uncertainty was estimated by {how}.");
     if osc {
@@ -167,6 +189,7 @@ fn class_phrase(c: Convergence) -> &'static str {
         Convergence::Oscillatory => "oscillatory convergence",
         Convergence::Divergent => "divergence",
         Convergence::NoChange => "no change between the meshes",
+        Convergence::Undetermined => "two meshes, so no observed convergence class",
     }
 }
 
@@ -185,6 +208,18 @@ fn basis(q: &QuantityResult, method: Method) -> String {
     match method {
         Method::OscillationRange => {
             format!("with {class}, U being half the range of the solutions")
+        }
+        Method::TwoMesh => {
+            let fs = q
+                .governing
+                .as_ref()
+                .and_then(|g| g.safety_factor)
+                .map_or_else(String::new, |f| num(f, 3));
+            format!(
+                "from two meshes only, by the two-mesh GCI (Roache 1998) with the formal order \
+                 assumed and safety factor Fs = {fs}; no order or convergence class can be \
+                 observed from two meshes"
+            )
         }
         Method::LeastSquares => match &q.least_squares {
             Some(ls) => {
@@ -214,8 +249,11 @@ fn basis(q: &QuantityResult, method: Method) -> String {
             None => format!("with {class}"),
         },
         Method::ThreeGrid => match (&q.governing, &q.three_grid) {
-            (Some(g), Some(tg)) => {
-                let fs = num(tg.estimate.safety_factor, 3);
+            (Some(g), Some(_)) => {
+                let fs = g.safety_factor.map_or_else(String::new, |f| num(f, 3));
+                let by = g
+                    .three_mesh_rule
+                    .map_or(String::new(), |r| format!(" by the {}", r.title()));
                 match (g.rule, g.order) {
                     (Some(Rule::NoChange), _) => {
                         format!("with {}", class_phrase(Convergence::NoChange))
@@ -224,7 +262,7 @@ fn basis(q: &QuantityResult, method: Method) -> String {
                         "with {class} but no observed order, so the formal order and safety factor Fs = {fs} were used"
                     ),
                     (_, Some(p)) => format!(
-                        "with observed order p = {}, safety factor Fs = {fs} and {class}",
+                        "with observed order p = {}, safety factor Fs = {fs}{by} and {class}",
                         sig(p, 4)
                     ),
                 }
@@ -329,9 +367,10 @@ mod tests {
     use crate::report::markup::fixture;
 
     /// Manufactured data (analytic, no source needed beyond the algebra): drag = 10 + 0.1 h² on
-    /// h = 1, 2, 4, so r = 2, p = 2 exactly, ε21 = 0.3 and the three-mesh U = Fs |ε21| /
-    /// (r^p − 1) = 1.25 · 0.3 / 3 = 0.125 (Celik et al. 2008, eqs. 3 and 7 in absolute form),
-    /// 1.24 % of 10.1. lift = 10.1, 10.0, 10.05: |ε21| = 0.1 > |ε32| = 0.05, so the
+    /// h = 1, 2, 4, so r = 2, p = 2 = p_f exactly, ε21 = 0.3 and δ_RE = |ε21|/(r^p − 1) = 0.1;
+    /// the default rule, the correction factor of Stern et al. (2001, from memory), has C = 1
+    /// and factor 9.6·0² + 1.1 = 1.1, so U = 0.110, 1.09 % of 10.1 (the Celik GCI would be
+    /// 1.25 · 0.1 = 0.125). lift = 10.1, 10.0, 10.05: |ε21| = 0.1 > |ε32| = 0.05, so the
     /// differences grow with refinement — divergent by the classes of Stern et al. (2001).
     const MANUFACTURED: &str = "format: 1
 title: manufactured
@@ -353,12 +392,13 @@ quantities:
         let a = fixture::assess(MANUFACTURED);
         assert_eq!(
             uncertainty_paragraph(&a),
-            "The discretisation uncertainty was estimated by Richardson extrapolation with the \
-grid convergence index (GCI) on the three meshes, following Celik et al. (2008). \
+            "The discretisation uncertainty was estimated by Richardson extrapolation on the \
+three meshes, U being stated by the correction factor (Stern et al. 2001) (the GCI of Celik et \
+al. (2008) is reported beside it). \
 Three meshes were used, finest first h1, h2 and h4 with representative sizes h = 1, 2 and 4, \
 refinement ratios r21 = 2.000 and r32 = 2.000. \
-On the finest mesh, drag is 10.100 ± 0.125 N (1.24 %), with observed order p = 2.000, \
-safety factor Fs = 1.25 and monotonic convergence. \
+On the finest mesh, drag is 10.100 ± 0.110 N (1.09 %), with observed order p = 2.000, \
+safety factor Fs = 1.1 by the correction factor (Stern et al. 2001) and monotonic convergence. \
 On the finest mesh, lift is 10.1 N, but the solutions diverge with refinement: no \
 discretisation uncertainty can be claimed."
         );
@@ -401,11 +441,13 @@ quantities:
                 .as_ref()
                 .expect("the demo breakdown converges");
             let tg = &q.three_grid.as_ref().expect("three meshes").estimate;
+            let g = q.governing.as_ref().expect("governed");
             let (v, au) = with_uncertainty(u.value, u.absolute);
             format!(
-                "{v} ± {au} ({}), with observed order p = {}, safety factor Fs = 1.25 and monotonic convergence",
+                "{v} ± {au} ({}), with observed order p = {}, safety factor Fs = {} by the correction factor (Stern et al. 2001) and monotonic convergence",
                 percent(u.relative.expect("nonzero")),
-                sig(tg.observed_order.expect("an order"), 4)
+                sig(tg.observed_order.expect("an order"), 4),
+                num(g.safety_factor.expect("a factor"), 3)
             )
         };
         let want = format!(

@@ -348,13 +348,13 @@ fn comparison_block(
     let cm = &c.comparison;
     let x = a.sweep_x(&c.name);
     out.push_str(&format!(
-        "\ncomparison with measurements: {}{} (ASME V&V 20; k = {}, u_num = U/{}){}\n",
+        "\ncomparison with measurements: {}{} (ASME V&V 20; k = {}, {}){}\n",
         c.name,
         c.response
             .as_ref()
             .map_or(String::new(), |r| format!(", {r} along {x}")),
         num(cm.coverage_factor, 4),
-        num(cm.divisor, 4),
+        super::format::u_num_phrase(cm.divisor),
         if cm.normalised {
             "; each data set divided by its own peak — a comparison of shapes, not levels"
         } else {

@@ -64,6 +64,25 @@ pub struct Quantity {
     pub unit: Option<String>,
     /// One value per mesh, in the order of [`Study::meshes`].
     pub values: Vec<f64>,
+    /// Iterative uncertainty per mesh (same order), absolute, in the quantity's unit: the
+    /// quantity's own `iterative` values, or the meshes' `iterative` where the quantity gives
+    /// none and every quantity of the study shares one unit (else `None`, with a warning).
+    pub iterative: Vec<Option<f64>>,
+    /// Where `iterative` came from.
+    pub iterative_source: IterativeSource,
+}
+
+/// Where a quantity's iterative uncertainty came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum IterativeSource {
+    /// Nowhere: no iterative uncertainty.
+    None,
+    /// The quantity's own `iterative` values.
+    Quantity,
+    /// The meshes' `iterative` values (one number per mesh for every quantity).
+    Meshes,
+    /// The meshes give values but the quantities' units differ, so they were not used.
+    MeshesUnitsDiffer,
 }
 
 /// Estimator settings with defaults filled in.
@@ -77,8 +96,11 @@ pub struct Settings {
     pub estimator: EstimatorChoice,
     /// Gravity for machine quantities, m/s².
     pub gravity: f64,
-    /// Divisor of U for u_num in comparisons.
-    pub validation_divisor: f64,
+    /// Divisor of U for u_num in comparisons, when the study sets one for every method
+    /// (`None`: each governing method's own, decided by `assess::govern`).
+    pub validation_divisor: Option<f64>,
+    /// The published rule that states U from three meshes.
+    pub rule: crate::estimate::rules::Rule,
     /// Coverage factor k.
     pub coverage_factor: f64,
 }
@@ -568,11 +590,11 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
             ));
         }
     }
-    if raw.meshes.len() < 3 {
+    if raw.meshes.len() < 2 {
         return Err(err(
             "meshes".into(),
             format!(
-                "the study has {} mesh{}; at least three are needed for an observed order",
+                "the study has {} mesh{}; at least two are needed (three for an observed order)",
                 raw.meshes.len(),
                 if raw.meshes.len() == 1 { "" } else { "es" }
             ),
@@ -630,11 +652,54 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
                 }
             }
         }
+        let mut iterative = vec![None; meshes.len()];
+        if let Some(own) = &q.iterative {
+            for name in own.keys() {
+                if !seen.contains(name.as_str()) {
+                    return Err(err(
+                        format!("quantities.{qname}.iterative.{name}"),
+                        format!("names the mesh `{name}`, which is not in `meshes`"),
+                    ));
+                }
+            }
+            for (slot, m) in iterative.iter_mut().zip(&meshes) {
+                *slot = own.get(&m.name).map(|v| v.0.abs());
+            }
+        }
         quantities.push(Quantity {
             name: qname.clone(),
             unit: q.unit.clone(),
             values,
+            iterative_source: if q.iterative.is_some() {
+                IterativeSource::Quantity
+            } else {
+                IterativeSource::None
+            },
+            iterative,
         });
+    }
+    // The meshes' iterative values stand for every quantity without its own only when all
+    // quantities share one unit: one number cannot be an uncertainty in two units.
+    let mesh_iterative: Vec<Option<f64>> = order
+        .iter()
+        .map(|&i| raw.meshes[i].iterative.map(|v| v.0.abs()))
+        .collect();
+    if mesh_iterative.iter().any(Option::is_some) {
+        let first_unit = quantities.first().map(|q| q.unit.clone());
+        let one_unit = quantities
+            .iter()
+            .all(|q| Some(q.unit.clone()) == first_unit);
+        for q in quantities
+            .iter_mut()
+            .filter(|q| q.iterative_source == IterativeSource::None)
+        {
+            if one_unit {
+                q.iterative = mesh_iterative.clone();
+                q.iterative_source = IterativeSource::Meshes;
+            } else {
+                q.iterative_source = IterativeSource::MeshesUnitsDiffer;
+            }
+        }
     }
     let sizes_from_cells = if size_basis == SizeBasis::Absolute
         && order
@@ -783,7 +848,11 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
             order_max: raw.settings.order_max.map_or(20.0, |v| v.0),
             estimator: raw.settings.estimator.unwrap_or_default(),
             gravity,
-            validation_divisor: raw.settings.validation_divisor.map_or(1.15, |v| v.0),
+            validation_divisor: raw.settings.validation_divisor.map(|v| v.0),
+            rule: raw
+                .settings
+                .uncertainty_rule
+                .map_or(crate::estimate::rules::Rule::DEFAULT, |r| r.rule()),
             coverage_factor: raw.settings.coverage_factor.map_or(2.0, |v| v.0),
         },
         references,

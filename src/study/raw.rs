@@ -167,6 +167,10 @@ pub struct RawQuantity {
     pub description: Option<String>,
     /// One value per mesh name.
     pub values: IndexMap<String, Finite>,
+    /// Iterative uncertainty per mesh name, absolute, in the quantity's unit (optional; a
+    /// mesh left out has none).
+    #[serde(default)]
+    pub iterative: Option<IndexMap<String, Finite>>,
 }
 
 /// Which estimator decides a quantity's uncertainty.
@@ -198,10 +202,41 @@ pub struct RawSettings {
     /// Gravity for machine quantities, m/s² (default standard gravity 9.80665).
     #[serde(default)]
     pub gravity: Option<Positive>,
-    /// u_num = U / divisor in comparisons with measurements (default 1.15).
+    /// u_num = U / divisor in comparisons with measurements for every method (default: each
+    /// method's own divisor, see docs/method.md §8).
     #[serde(default)]
     pub validation_divisor: Option<Positive>,
     /// Coverage factor k of the validation interval E ± k u_val (default 2).
     #[serde(default)]
     pub coverage_factor: Option<Positive>,
+    /// The published rule that states U from three meshes (default `stern_correction`).
+    #[serde(default)]
+    pub uncertainty_rule: Option<RuleChoice>,
+}
+
+/// The published three-mesh rules a study may choose to govern (docs/method.md §12).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, schemars::JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum RuleChoice {
+    /// Celik et al. (2008) GCI, Fs = 1.25 with the observed order.
+    CelikGci,
+    /// Roache (1998) / Oberkampf & Roy (2010): Fs = 3 off the formal order.
+    RoacheFs3,
+    /// Xing & Stern (2010) factor of safety.
+    XingStern,
+    /// Stern et al. (2001) correction factor (the default).
+    SternCorrection,
+}
+
+impl RuleChoice {
+    /// The estimator's rule.
+    pub fn rule(self) -> crate::estimate::rules::Rule {
+        use crate::estimate::rules::Rule;
+        match self {
+            RuleChoice::CelikGci => Rule::CelikGci,
+            RuleChoice::RoacheFs3 => Rule::RoacheFs3,
+            RuleChoice::XingStern => Rule::XingStern,
+            RuleChoice::SternCorrection => Rule::SternCorrection,
+        }
+    }
 }

@@ -73,7 +73,14 @@ def rules(h, phi, pf):
     e21, e32 = phi[1] - phi[0], phi[2] - phi[1]
     p = observed_order(r21, r32, e21, e32)
     if p is None:
-        return None
+        # Shrinking differences (0 < R < 1) that no power law with p > 0 fits: Roache's
+        # fallback, the formal order with Fs = 3 on the larger pair difference, for every rule
+        # that has one (Xing & Stern has none).
+        if not (e32 != 0.0 and 0.0 < e21 / e32 < 1.0):
+            return None
+        fb = 3.0 * max(abs(e21) / (r21 ** pf - 1.0), abs(e32) / (r32 ** pf - 1.0))
+        return None, {"celik_gci": fb, "roache_fs3": fb, "xing_stern": None,
+                      "stern_correction": fb, "two_mesh_gci": 3.0 * abs(e21) / (r21 ** pf - 1.0)}
     delta = abs(e21) / (r21 ** p - 1.0)
     out = {"celik_gci": 1.25 * delta}
     # Roache / Oberkampf & Roy
@@ -147,6 +154,26 @@ def main():
                 "uncertainty": us,
             })
             break
+    # Shrinking differences that no power law with p > 0 fits (unequal ratios, r32 > r21 and
+    # 1 < eps32/eps21 < ln r32 / ln r21): every rule's fallback.
+    for pf in (1.0, 2.0):
+        for _ in range(3):
+            h1 = rng.uniform(0.05, 0.5)
+            r21, r32 = rng.uniform(1.3, 1.4), rng.uniform(1.8, 2.0)
+            k = rng.uniform(1.05, 0.95 * math.log(r32) / math.log(r21))
+            d = rng.choice((-1.0, 1.0)) * rng.uniform(0.01, 0.1)
+            phi0 = rng.uniform(0.5, 2.0)
+            h = [h1, h1 * r21, h1 * r21 * r32]
+            phi = [phi0, phi0 + d, phi0 + d + k * d]
+            p, us = rules(h, phi, pf)
+            cases.append({
+                "name": f"no_order_pf{pf:g}_{len(cases)}",
+                "h": h,
+                "phi": phi,
+                "formal_order": pf,
+                "observed_order": p,
+                "uncertainty": us,
+            })
     doc = {
         "written_by": "tests/reference/rules_reference.py (Python standard library, "
         + f"Python {sys.version.split()[0]})",
