@@ -169,25 +169,30 @@ pub fn run(cases: usize, seed: u64) -> Vec<Row> {
 /// The plain table of the result.
 pub fn table(rows: &[Row]) -> String {
     let mut out = String::from(
-        "family (p1,p2)  rule              cases    coverage  no U   quiet misses  median U/|e|\n",
+        "family (p1,p2)  rule                cases    coverage  no U   quiet misses (n)  median U/|e|\n",
     );
     for r in rows {
         let t = &r.tally;
         out.push_str(&format!(
-            "({:.0},{:.0})           {:<16}  {:>7}  {:>8.3}  {:>5.3}  {:>12}  {:>12.2}\n",
+            "({:.0},{:.0})           {:<18}  {:>7}  {:>8.3}  {:>5.3}  {:>16}  {:>12.2}\n",
             r.family.0,
             r.family.1,
-            r.rule.label(),
+            if r.rule == Rule::DEFAULT {
+                format!("{} *", r.rule.label())
+            } else {
+                r.rule.label().to_string()
+            },
             t.cases,
             t.coverage(),
             t.no_u_share(),
             if t.quiet == 0 {
-                "-".to_string()
+                "- (0)".to_string()
             } else {
-                format!("{:.3}", t.quiet_miss_share())
+                format!("{:.3} ({})", t.quiet_miss_share(), t.quiet_misses)
             },
             t.median_effectivity(),
         ));
     }
+    out.push_str("* the default governing rule (settings.uncertainty_rule)\n");
     out
 }

@@ -136,7 +136,8 @@ pub const DEMONSTRATED_MAX_RATIO: f64 = 0.9;
 /// observed order is below [`DEMONSTRATED_MIN_ORDER`]; it sits on an end of its search (the
 /// three-mesh `order_max` or scan's lower end, the least-squares bounds or excluded band); the
 /// least-squares order is not found; the three-mesh convergence ratio R exceeds
-/// [`DEMONSTRATED_MAX_RATIO`]. A divergent quantity is not demonstrated either, but has its
+/// [`DEMONSTRATED_MAX_RATIO`]; the three-mesh differences shrink (R > 0) but no order p > 0
+/// fits them. A divergent quantity is not demonstrated either, but has its
 /// own warning (`divergent`), so it gets a reason only when one of these rules holds.
 pub fn not_demonstrated(
     three_grid: Option<&ThreeGrid>,
@@ -169,6 +170,16 @@ pub fn not_demonstrated(
         }
     } else if three_grid.is_some_and(|t| t.order_at_bound) {
         why.push("the observed order sits on an end of its search".to_string());
+    } else if three_grid
+        .is_some_and(|t| t.observed_order.is_none() && t.convergence_ratio.is_some_and(|r| r > 0.0))
+    {
+        // The differences shrink, but too slowly for any power law with p > 0 (unequal
+        // ratios, docs/method.md §3).
+        why.push(
+            "the differences shrink, but no power law φ0 + α·h^p with p > 0 passes through the \
+             three values"
+                .to_string(),
+        );
     }
     if let Some(p) = order.filter(|p| *p < DEMONSTRATED_MIN_ORDER) {
         why.push(format!(
@@ -557,6 +568,20 @@ mod tests {
         let t = tg(h, [0.434, 0.374, 0.314]);
         let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
         assert!(!g.demonstrated && g.not_demonstrated_because.is_some());
+    }
+
+    #[test]
+    fn shrinking_differences_no_power_law_fits_do_not_demonstrate_convergence() {
+        // r21 = 1.3, r32 = 2, ε32/ε21 = 2 < ln 2/ln 1.3 = 2.64 (analytic): no p > 0 fits, the
+        // class is monotonic (0 < R < 1, Stern et al. 2001) and U falls back on the formal
+        // order with Fs = 3 (Roache 1998), but convergence is not demonstrated.
+        let t = tg([1.0, 1.3, 2.6], [1.0, 1.01, 1.03]);
+        assert_eq!(t.convergence, Convergence::Monotonic);
+        let g = govern(Some(&t), None, EstimatorChoice::Auto, None).expect("governs");
+        assert_eq!(g.rule, Some(Rule::FormalOrder));
+        assert!(!g.demonstrated);
+        let why = g.not_demonstrated_because.expect("a reason");
+        assert!(why.contains("no power law"), "{why}");
     }
 
     #[test]

@@ -314,18 +314,6 @@ fn two_meshes(
     let phi = [values[0], values[1]];
     match rules::two_mesh_gci(h, phi, settings.formal_order) {
         Ok(r) => {
-            warnings.push(
-                Warning::new(
-                    "order_assumed",
-                    format!(
-                        "two meshes: no order or convergence class can be observed; the two-mesh \
-                         GCI assumes the formal order {} with safety factor 3 (Roache 1998); a \
-                         third mesh would show whether the meshes are in the asymptotic range",
-                        settings.formal_order
-                    ),
-                )
-                .about(&out.name),
-            );
             warnings.extend(r.warnings.iter().cloned().map(|w| w.about(&out.name)));
             out.governing = Some(govern_two_mesh(&r, h, phi));
             out.rules = vec![r];

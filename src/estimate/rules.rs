@@ -206,6 +206,8 @@ pub struct RuleEstimate {
 pub const CODE_NOT_APPLICABLE: &str = "rule_not_applicable";
 /// Warning code: Roache's rule found the observed order more than 10 % from the formal order.
 pub const CODE_FAR_FROM_FORMAL: &str = "order_far_from_formal";
+/// Warning code: the two-mesh GCI assumed the formal order (no order can be observed).
+pub const CODE_ORDER_ASSUMED: &str = "order_assumed";
 /// Warning code: the uncertainty overflowed the floating-point range and was dropped.
 pub const CODE_NOT_FINITE: &str = "uncertainty_not_finite";
 
@@ -586,7 +588,14 @@ pub fn two_mesh_gci(
     let r21 = h[1] / h[0];
     let e21 = phi[1] - phi[0];
     let u = richardson_delta(e21, r21, formal_order).map(|d| FS_ASSUMED * d.abs());
-    let mut w = Vec::new();
+    let mut w = vec![Warning::new(
+        CODE_ORDER_ASSUMED,
+        format!(
+            "two meshes: no order or convergence class can be observed; the two-mesh GCI \
+             assumes the formal order {formal_order} with safety factor 3 (Roache 1998); a third \
+             mesh would show whether the meshes are in the asymptotic range"
+        ),
+    )];
     if u.is_none() {
         w.push(Warning::new(
             CODE_NOT_APPLICABLE,

@@ -98,6 +98,29 @@ pub fn u_num_phrase(divisor: Option<f64>) -> String {
     }
 }
 
+/// The label of what stated a quantity's uncertainty: the published rule when a three-mesh
+/// estimate governs (e.g. "correction factor (Stern et al. 2001)"), else the estimate.
+pub fn governing_label(q: &crate::assess::QuantityResult) -> String {
+    use crate::assess::Method;
+    match (
+        q.uncertainty.as_ref().map(|u| u.method),
+        q.governing.as_ref(),
+    ) {
+        (Some(Method::ThreeGrid), Some(g)) => match g.three_mesh_rule {
+            Some(r) if g.rule == Some(crate::assess::Rule::FormalOrder) => {
+                format!(
+                    "{}, formal order with Fs = 3 (no observed order)",
+                    r.title()
+                )
+            }
+            Some(r) => r.title().to_string(),
+            None => method_label(Method::ThreeGrid).to_string(),
+        },
+        (Some(m), _) => method_label(m).to_string(),
+        (None, _) => "none".to_string(),
+    }
+}
+
 /// The label of the estimate that governed an uncertainty, for table cells.
 pub fn method_label(m: crate::assess::Method) -> &'static str {
     use crate::assess::Method;

@@ -7,7 +7,7 @@
 //! is a figure the assessment holds, rounded for display by [`super::format`].
 
 use super::format::{
-    class_label, condensed, governing_extrapolated, governing_order, method_label, num, opt,
+    class_label, condensed, governing_extrapolated, governing_label, governing_order, num, opt,
     percent, sig, with_uncertainty,
 };
 use super::table::{breakdown_rule, statement, symbol};
@@ -219,7 +219,7 @@ fn class(q: &QuantityResult) -> Cell {
 fn method(q: &QuantityResult) -> Cell {
     q.uncertainty
         .as_ref()
-        .map_or(Cell::text("none"), |u| Cell::text(method_label(u.method)))
+        .map_or(Cell::text("none"), |_| Cell::text(governing_label(q)))
 }
 
 fn meshes_table(a: &Assessment) -> TableBlock {

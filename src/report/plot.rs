@@ -12,7 +12,7 @@
 //! SVG. The curves drawn (the Richardson line, the least-squares fit, the band) are figures the
 //! assessment holds, evaluated only to be drawn.
 
-use super::format::{governing_order, method_label, num, sig};
+use super::format::{governing_label, governing_order, num, sig};
 use super::table::{breakdown_rule, statement, symbol};
 use crate::assess::sweep::SweepResult;
 use crate::assess::{Assessment, Method, QuantityResult, Role};
@@ -932,7 +932,7 @@ pub fn convergence_scene(a: &Assessment, q: &QuantityResult) -> Option<Scene> {
             items: vec![Item::BarY(1.0, u.lower, u.upper, INK)],
         });
         legend.push((
-            format!("{finest} ± U ({})", method_label(u.method)),
+            format!("{finest} ± U ({})", governing_label(q)),
             Sample::BarY(INK),
         ));
     }

@@ -1,7 +1,7 @@
 //! Tables for people, built with comfy-table. Only formats the assessment.
 
 use super::format::{
-    class_label, method_label, not_demonstrated, num, opt, opt_percent, percent, sig,
+    class_label, governing_label, not_demonstrated, num, opt, opt_percent, percent, sig,
     with_uncertainty,
 };
 use super::Exporter;
@@ -40,11 +40,11 @@ pub fn statement(q: &QuantityResult) -> String {
             format!(
                 "{} · {class} · no quotable uncertainty (the {} would give ± {a}, {rel})",
                 q.values.first().map_or("–".into(), |v| num(*v, 8)),
-                method_label(u.method)
+                governing_label(q)
             )
         }
         Some(u) => {
-            let how = method_label(u.method);
+            let how = governing_label(q);
             let rel = u
                 .relative
                 .map_or_else(|| "value is zero".to_string(), percent);
@@ -92,23 +92,58 @@ fn quantity_block(a: &Assessment, q: &QuantityResult, out: &mut String) {
             ("GCI fine (21)", opt_percent(e.gci_fine)),
             ("GCI coarse (32)", opt_percent(e.gci_coarse)),
             (
-                "asymptotic ratio (≈ 1 expected)",
-                opt(e.asymptotic_ratio, 4),
-            ),
-            (
                 "half range of the three values",
                 sig(e.oscillation_half_range, 4),
             ),
-            ("safety factor", sig(e.safety_factor, 3)),
+            ("safety factor of the GCI", sig(e.safety_factor, 3)),
         ];
         for (k, v) in rows {
             t.add_row(vec![k.to_string(), v]);
         }
         out.push_str(&format!("{t}\n"));
     }
+    rules_block(q, out);
     if let Some(ls) = &q.least_squares {
         least_squares_block(a, q, ls, out);
     }
+}
+
+/// Every published rule on the same meshes, side by side, the governing one marked.
+fn rules_block(q: &QuantityResult, out: &mut String) {
+    if q.rules.is_empty() {
+        return;
+    }
+    let governing = q
+        .governing
+        .as_ref()
+        .filter(|g| g.method != Method::LeastSquares)
+        .and_then(|g| g.three_mesh_rule);
+    let mut t = grid(&[
+        "published rules",
+        "U",
+        "U/|φ1|",
+        "Fs",
+        "order",
+        "branch",
+        "",
+    ]);
+    for r in &q.rules {
+        t.add_row(vec![
+            r.rule.title().to_string(),
+            opt(r.uncertainty, 4),
+            opt_percent(r.relative),
+            opt(r.safety_factor, 3),
+            opt(r.order, 4),
+            r.branch.label().to_string(),
+            if governing == Some(r.rule) {
+                "governs"
+            } else {
+                ""
+            }
+            .to_string(),
+        ]);
+    }
+    out.push_str(&format!("{t}\n"));
 }
 
 fn least_squares_block(
