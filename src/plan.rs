@@ -167,6 +167,11 @@ pub fn for_target(
         Some(Convergence::NoChange) => {
             return Err(PlanError::Invalid(format!("`{name}` does not change between meshes: nothing to plan")))
         }
+        Some(Convergence::Undetermined) => {
+            return Err(PlanError::Invalid(format!(
+                "`{name}` is estimated from two meshes: no order has been observed, so a planned size would rest on the assumed formal order alone; add a third mesh first (a family of meshes can be planned from the finest one's cell count)"
+            )))
+        }
         _ => {}
     }
     if q.governing.as_ref().is_some_and(|g| !g.demonstrated) {
