@@ -76,10 +76,11 @@ fn field_summary_and_per_point_file_follow_the_contract() {
     assert_relative_eq!(first[2].parse::<f64>().unwrap(), 1.0, max_relative = 1e-12);
     assert_relative_eq!(first[3].parse::<f64>().unwrap(), 2.0, max_relative = 1e-9);
     assert_eq!(first[4], "monotonic");
-    // U = 1.25 |ε21|/(2² − 1) with ε21 = 0.001·(4 − 1) (Celik et al. 2008 GCI, absolute).
+    // δ_RE = |ε21|/(2² − 1) with ε21 = 0.001·(4 − 1), p = p_f = 2 exactly, so the default
+    // rule's factor is 1.1 (Stern et al. 2001 correction factor at C = 1, from memory).
     assert_relative_eq!(
         first[5].parse::<f64>().unwrap(),
-        1.25 * 0.003 / 3.0,
+        1.1 * 0.003 / 3.0,
         max_relative = 1e-12
     );
     assert_eq!(text.lines().count(), 101);

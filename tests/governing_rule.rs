@@ -216,7 +216,10 @@ quantities:
     let text = String::from_utf8_lossy(&o.stdout);
     assert!(text.contains("two-mesh GCI"), "{text}");
     // `plan` does not plan from an assumed order.
-    let o = run_in(w.path(), &["plan", "s.yaml", "--target", "half_perimeter=0.1%"]);
+    let o = run_in(
+        w.path(),
+        &["plan", "s.yaml", "--target", "half_perimeter=0.1%"],
+    );
     assert_eq!(o.status.code(), Some(2), "{}", show(&o));
     assert!(String::from_utf8_lossy(&o.stderr).contains("two meshes"));
 }

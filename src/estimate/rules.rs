@@ -624,6 +624,96 @@ pub fn two_mesh_of(inputs: &RuleInputs) -> RuleEstimate {
     }
 }
 
+/// What a three-mesh rule needs, in plain numbers: for the per-point path of fields, which
+/// must not build a [`RuleInputs`] (and its warnings) at every one of millions of points.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Core {
+    /// The three-mesh class.
+    pub convergence: Convergence,
+    /// The observed order, when one was found.
+    pub order: Option<f64>,
+    /// r21 and r32.
+    pub ratios: [f64; 2],
+    /// ε21 and ε32 (after round-off is cleared).
+    pub differences: [f64; 2],
+    /// The formal order p_f.
+    pub formal_order: f64,
+    /// Half the range of the three values.
+    pub half_range: f64,
+    /// The Celik GCI's safety factor (`settings.safety_factor`).
+    pub celik_fs: f64,
+}
+
+/// A rule's U, factor, order and branch from [`Core`] numbers: the same figures as [`apply`]
+/// on the same data (a property test holds them together), without the warnings.
+pub fn core(rule: Rule, c: &Core) -> (Option<f64>, Option<f64>, Option<f64>, Branch) {
+    let [r21, r32] = c.ratios;
+    let [e21, e32] = c.differences;
+    let pf = c.formal_order;
+    if rule == Rule::TwoMeshGci {
+        let u = richardson_delta(e21, r21, pf).map(|d| FS_ASSUMED * d.abs());
+        return (u, Some(FS_ASSUMED), Some(pf), Branch::TwoMesh);
+    }
+    match c.convergence {
+        Convergence::NoChange => return (Some(0.0), None, None, Branch::NoChange),
+        Convergence::Divergent => return (None, None, None, Branch::Divergent),
+        _ => {}
+    }
+    let Some(p) = c.order else {
+        if rule == Rule::XingStern {
+            return (None, None, None, Branch::NotApplicable);
+        }
+        let u =
+            FS_ASSUMED * (e21.abs() / (r21.powf(pf) - 1.0)).max(e32.abs() / (r32.powf(pf) - 1.0));
+        return (
+            Some(u),
+            Some(FS_ASSUMED),
+            Some(pf),
+            Branch::FormalOrderFallback,
+        );
+    };
+    let oscillatory = c.convergence == Convergence::Oscillatory;
+    match rule {
+        Rule::CelikGci => {
+            let u = c.celik_fs * e21.abs() / (r21.powf(p) - 1.0);
+            if oscillatory && c.half_range > u {
+                (Some(c.half_range), None, Some(p), Branch::OscillationRange)
+            } else {
+                (Some(u), Some(c.celik_fs), Some(p), Branch::Gci)
+            }
+        }
+        Rule::RoacheFs3 => {
+            let (fs, order, branch) = roache_choice(p, pf);
+            let u = richardson_delta(e21, r21, order).map(|d| fs * d.abs());
+            (u, Some(fs), Some(order), branch)
+        }
+        Rule::XingStern => match xing_stern_factor(p / pf) {
+            None => (None, None, None, Branch::NotApplicable),
+            Some((fs, branch)) => {
+                let u = richardson_delta(e21, r21, p).map(|d| fs * d.abs());
+                (u, Some(fs), Some(p), branch)
+            }
+        },
+        Rule::SternCorrection => {
+            let cf = (r21.powf(p) - 1.0) / (r21.powf(pf) - 1.0);
+            let (fs, branch) = stern_factor(cf);
+            let u = richardson_delta(e21, r21, p).map(|d| fs * d.abs());
+            if oscillatory && u.is_none_or(|u| c.half_range > u) {
+                (
+                    Some(c.half_range),
+                    Some(fs),
+                    Some(p),
+                    Branch::OscillationRange,
+                )
+            } else {
+                (u, Some(fs), Some(p), branch)
+            }
+        }
+        // Answered before the class is read.
+        Rule::TwoMeshGci => (None, None, None, Branch::NotApplicable),
+    }
+}
+
 /// One rule on prepared inputs.
 pub fn apply(rule: Rule, inputs: &RuleInputs) -> RuleEstimate {
     match rule {
@@ -645,6 +735,45 @@ mod tests {
     use super::*;
     use approx::assert_relative_eq;
     use proptest::prelude::*;
+
+    proptest! {
+        /// The per-point core gives exactly what the rules give, for every rule, on random
+        /// three-mesh data of every class (a consistency property, no external source).
+        #[test]
+        fn core_equals_apply(
+            h1 in 0.01f64..1.0,
+            r21 in 1.05f64..3.0,
+            r32 in 1.05f64..3.0,
+            d21 in -1.0f64..1.0,
+            d32 in -1.0f64..1.0,
+            pf in prop_oneof![Just(1.0), Just(2.0), Just(1.5)],
+        ) {
+            let h = [h1, h1 * r21, h1 * r21 * r32];
+            let phi = [1.0, 1.0 + d21, 1.0 + d21 + d32];
+            let inputs = RuleInputs::new(h, phi, pf).unwrap();
+            let tg = &inputs.three_grid;
+            let c = Core {
+                convergence: tg.convergence,
+                order: tg.observed_order,
+                ratios: tg.ratios,
+                differences: [phi[1] - phi[0], phi[2] - phi[1]],
+                formal_order: pf,
+                half_range: tg.oscillation_half_range,
+                celik_fs: tg.safety_factor,
+            };
+            for rule in Rule::ALL {
+                let r = apply(rule, &inputs);
+                let (u, fs, order, branch) = core(rule, &c);
+                prop_assert_eq!(branch, r.branch, "{:?}", rule);
+                prop_assert_eq!(fs, r.safety_factor, "{:?}", rule);
+                prop_assert_eq!(order, r.order, "{:?}", rule);
+                match (u, r.uncertainty) {
+                    (Some(a), Some(b)) => prop_assert!((a - b).abs() <= 1e-13 * b.abs(), "{:?}: {} vs {}", rule, a, b),
+                    (a, b) => prop_assert_eq!(a, b, "{:?}", rule),
+                }
+            }
+        }
+    }
 
     /// Manufactured data φ = φ0 + α h^p (analytic): the exact fine-mesh error is α h1^p, and
     /// δ_RE = ε21/(r21^p − 1) = α h1^p exactly when p is the data's order.

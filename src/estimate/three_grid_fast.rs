@@ -52,6 +52,9 @@ pub struct FastThreeGrid {
     /// r21^pf − 1 and r32^pf − 1 for the formal-order fallback.
     fallback_den: [f64; 2],
     solver: OrderSolver,
+    /// The published rule that states U (`settings.rule`).
+    rule: crate::estimate::rules::Rule,
+    formal_order: f64,
 }
 
 impl FastThreeGrid {
@@ -95,6 +98,8 @@ impl FastThreeGrid {
             threshold: r32.ln() / r21.ln(),
             fallback_den: [r21.powf(pf) - 1.0, r32.powf(pf) - 1.0],
             solver: OrderSolver::new(r21, r32, settings.order_max),
+            rule: settings.rule,
+            formal_order: pf,
         })
     }
 
@@ -108,8 +113,46 @@ impl FastThreeGrid {
         self.solver.hi_cap
     }
 
-    /// The estimate at one point; `phi` finest first, finite.
+    /// The estimate at one point; `phi` finest first, finite. The uncertainty is the one the
+    /// settings' published rule states (the Celik GCI by the same operations as
+    /// [`three_grid::estimate`]; any other rule by [`crate::estimate::rules::core`]).
     pub fn estimate(&self, phi: [f64; 3]) -> PointEstimate {
+        use crate::estimate::rules::{self, Branch, Rule};
+        let mut out = self.estimate_gci(phi);
+        if self.rule == Rule::CelikGci {
+            return out;
+        }
+        let (e21, e32) = (phi[1] - phi[0], phi[2] - phi[1]);
+        let scale = phi.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
+        let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
+        let clear = |e: f64| if e.abs() <= tiny { 0.0 } else { e };
+        let half_range = 0.5
+            * (phi.iter().fold(f64::NEG_INFINITY, |m, v| m.max(*v))
+                - phi.iter().fold(f64::INFINITY, |m, v| m.min(*v)));
+        let core = rules::Core {
+            convergence: out.convergence,
+            order: out.observed_order,
+            ratios: [self.r21, self.r32],
+            differences: [clear(e21), clear(e32)],
+            formal_order: self.formal_order,
+            half_range,
+            celik_fs: self.fs,
+        };
+        let (u, _, _, branch) = rules::core(self.rule, &core);
+        out.uncertainty = u;
+        out.governing = match branch {
+            Branch::Divergent | Branch::NotApplicable => None,
+            Branch::NoChange => Some(Governing::NoChange),
+            Branch::OscillationRange => Some(Governing::OscillationRange),
+            Branch::FormalOrderFallback => Some(Governing::FormalOrder),
+            // A factor of safety on the Richardson estimate: counted with the GCI.
+            _ => Some(Governing::Gci),
+        };
+        out
+    }
+
+    /// The Celik et al. (2008) estimate at one point.
+    fn estimate_gci(&self, phi: [f64; 3]) -> PointEstimate {
         let scale = phi.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
         let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
         let mut e21 = phi[1] - phi[0];
@@ -496,6 +539,7 @@ impl OrderSolver {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::estimate::rules::{self, Branch, Rule, RuleInputs};
     use proptest::prelude::*;
 
     /// Compares the fast estimate with the general one at one point.
@@ -509,7 +553,22 @@ mod tests {
         phi: [f64; 3],
         settings: &ThreeGridSettings,
     ) -> Result<(), String> {
-        let g = three_grid::estimate(h, phi, settings).map_err(|e| e.to_string())?;
+        let mut g = three_grid::estimate(h, phi, settings).map_err(|e| e.to_string())?;
+        if settings.rule != Rule::CelikGci {
+            // The rule's U and what fixed it, by the scalar rules (checked against an
+            // independent Python implementation in tests/rules_reference.rs).
+            let inputs = RuleInputs::from_estimate(h, phi, settings.formal_order, g.clone())
+                .map_err(|e| e.to_string())?;
+            let r = rules::apply(settings.rule, &inputs);
+            g.uncertainty = r.uncertainty;
+            g.governing = match r.branch {
+                Branch::Divergent | Branch::NotApplicable => None,
+                Branch::NoChange => Some(Governing::NoChange),
+                Branch::OscillationRange => Some(Governing::OscillationRange),
+                Branch::FormalOrderFallback => Some(Governing::FormalOrder),
+                _ => Some(Governing::Gci),
+            };
+        }
         let f = fast.estimate(phi);
         let close = |a: Option<f64>, b: Option<f64>, rel: f64, abs: f64| match (a, b) {
             (Some(x), Some(y)) => (x - y).abs() <= rel * x.abs().max(y.abs()) + abs,
@@ -560,10 +619,16 @@ mod tests {
             order_max in prop_oneof![Just(20.0), 0.5f64..30.0],
             safety_factor in prop_oneof![Just(1.25), Just(3.0)],
             formal_order in prop_oneof![Just(2.0), Just(1.0)],
+            rule in prop_oneof![
+                Just(Rule::CelikGci),
+                Just(Rule::RoacheFs3),
+                Just(Rule::XingStern),
+                Just(Rule::SternCorrection)
+            ],
         ) {
             let r32 = if r32 == 0.0 { r21 } else { r32 };
             let h = [h1, h1 * r21, h1 * r21 * r32];
-            let settings = ThreeGridSettings { safety_factor, order_max, formal_order, ..Default::default() };
+            let settings = ThreeGridSettings { safety_factor, order_max, formal_order, rule };
             let fast = FastThreeGrid::new(h, &settings).unwrap();
             for (a, b) in std::iter::once((d21, d32)).chain(more) {
                 let phi = [phi1, phi1 + a * 0.01, phi1 + a * 0.01 + b * 0.01];

@@ -606,6 +606,14 @@ mod tests {
     use std::fs::File;
     use std::path::Path;
 
+    /// The Celik et al. (2008) GCI governs (these tests check its formula per point).
+    fn celik_settings() -> ThreeGridSettings {
+        ThreeGridSettings {
+            rule: crate::estimate::rules::Rule::CelikGci,
+            ..ThreeGridSettings::default()
+        }
+    }
+
     const H: [f64; 3] = [1.0, 1.5, 1.5 * 1.3];
 
     /// Writes one probe file per mesh; `rows[i]` holds (id, values on the three meshes).
@@ -722,7 +730,7 @@ mod tests {
         let s = assess_field_with(
             &spec(files, Some(out.clone())),
             H,
-            &ThreeGridSettings::default(),
+            &celik_settings(),
             &small(),
             sink_to(Some(out.clone())),
         )
@@ -788,13 +796,7 @@ mod tests {
             })
             .collect();
         let files = write_meshes(dir.path(), "id,cp", &rows);
-        let s = assess_field(
-            &spec(files, None),
-            H,
-            &ThreeGridSettings::default(),
-            sink_to(None),
-        )
-        .unwrap();
+        let s = assess_field(&spec(files, None), H, &celik_settings(), sink_to(None)).unwrap();
         let c = &s.columns[0];
         assert_relative_eq!(c.median_order.unwrap(), 2.0, max_relative = 1e-10);
         assert_relative_eq!(c.mean_order.unwrap(), 2.0, max_relative = 1e-10);
