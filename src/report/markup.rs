@@ -275,6 +275,50 @@ fn results_table(a: &Assessment) -> TableBlock {
     t
 }
 
+/// Every published rule's U per quantity, the governing one marked; `None` when no quantity
+/// has the rules (fewer than two meshes).
+fn rules_table(a: &Assessment) -> Option<TableBlock> {
+    use crate::estimate::rules::Rule;
+    let rules: Vec<Rule> = Rule::ALL
+        .into_iter()
+        .filter(|r| {
+            a.quantities
+                .iter()
+                .any(|q| q.rules.iter().any(|x| x.rule == *r))
+        })
+        .collect();
+    if rules.is_empty() {
+        return None;
+    }
+    let mut columns: Vec<(&str, Align)> = vec![("quantity", Align::Left)];
+    columns.extend(rules.iter().map(|r| (r.label(), Align::Right)));
+    let mut t = TableBlock::new(
+        "U of the finest mesh by every published rule (* governs; docs/method.md §12)",
+        &columns,
+    );
+    for q in a.quantities.iter().filter(|q| !q.rules.is_empty()) {
+        let governs = q
+            .governing
+            .as_ref()
+            .filter(|g| g.method != Method::LeastSquares)
+            .and_then(|g| g.three_mesh_rule);
+        let mut row = vec![Cell::text(&q.name)];
+        for r in &rules {
+            let u = q
+                .rules
+                .iter()
+                .find(|x| x.rule == *r)
+                .and_then(|x| x.uncertainty);
+            row.push(Cell::num(u.map(|u| {
+                let mark = if governs == Some(*r) { " *" } else { "" };
+                format!("{}{mark}", sig(u, 3))
+            })));
+        }
+        t.rows.push(row);
+    }
+    Some(t)
+}
+
 /// The two estimates side by side, for quantities with a least-squares estimate.
 fn both_estimates_table(a: &Assessment) -> Option<TableBlock> {
     let mut t = TableBlock::new(
@@ -639,6 +683,9 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
             .collect();
         out.push(Block::List(items));
         out.push(Block::Table(results_table(a)));
+        if let Some(t) = rules_table(a) {
+            out.push(Block::Table(t));
+        }
         if let Some(t) = both_estimates_table(a) {
             out.push(Block::Table(t));
         }
@@ -789,7 +836,7 @@ mod tests {
             })
             .collect();
         // meshes, results, breakdown summary, one per-mesh breakdown table, band
-        assert_eq!(tables.len(), 5);
+        assert_eq!(tables.len(), 6);
         for t in &tables {
             assert_eq!(t.headers.len(), t.align.len());
             for r in &t.rows {
