@@ -152,6 +152,8 @@ pub struct Tally {
     pub quiet_misses: usize,
     /// Cases where the order-2 floor set U of the finest mesh.
     pub floor_set_u: usize,
+    /// Where the floor set U: U/|φ1 − φ0| of the published rules and of the floor.
+    pub floored: Vec<(f64, f64)>,
     /// U/|φ1 − φ0| where both exist and the error is not zero.
     pub effectivity: Vec<f64>,
 }
@@ -177,17 +179,16 @@ impl Tally {
     }
     /// Median effectivity (NaN when there is none).
     pub fn median_effectivity(&self) -> f64 {
-        let mut v = self.effectivity.clone();
-        if v.is_empty() {
-            return f64::NAN;
-        }
-        v.sort_by(f64::total_cmp);
-        let n = v.len();
-        if n % 2 == 1 {
-            v[n / 2]
-        } else {
-            0.5 * (v[n / 2 - 1] + v[n / 2])
-        }
+        median(self.effectivity.clone())
+    }
+
+    /// Median and largest U/|φ1 − φ0| where the floor set U: (published median, guarded
+    /// median, guarded largest); NaN when the floor never set U.
+    pub fn floored_effectivity(&self) -> (f64, f64, f64) {
+        let before: Vec<f64> = self.floored.iter().map(|f| f.0).collect();
+        let after: Vec<f64> = self.floored.iter().map(|f| f.1).collect();
+        let largest = after.iter().copied().fold(f64::NAN, f64::max);
+        (median(before), median(after), largest)
     }
 
     fn add(&mut self, result: Option<&LeastSquares>, error: f64) {
@@ -204,11 +205,30 @@ impl Tally {
             self.quiet_misses += usize::from(!covered);
         }
         self.floor_set_u += usize::from(result.is_some_and(LeastSquares::floor_governs));
+        if let (Some(g), Some(u)) = (result.and_then(|r| r.guard.as_ref()), u) {
+            if g.governs && error > 0.0 {
+                self.floored
+                    .push((g.published_uncertainty / error, u / error));
+            }
+        }
         if let Some(u) = u {
             if error > 0.0 {
                 self.effectivity.push(u / error);
             }
         }
+    }
+}
+
+fn median(mut v: Vec<f64>) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
     }
 }
 
@@ -330,6 +350,20 @@ pub fn table(s: &Study) -> String {
             share(t.quiet_miss_share_of_all()),
             t.median_effectivity(),
             share(t.floor_share()),
+        ));
+    }
+    out.push_str(
+        "\nwhere the floor set U: cases, median U/|e| published -> guarded, largest guarded U/|e|\n",
+    );
+    for r in s.rows.iter().filter(|r| r.rules == Rules::Guarded) {
+        let (before, after, largest) = r.tally.floored_effectivity();
+        out.push_str(&format!(
+            "{:<6}  {:>7}  {:>6.2} -> {:>6.2}  {:>8.2}\n",
+            r.family.label(),
+            r.tally.floored.len(),
+            before,
+            after,
+            largest
         ));
     }
     out.push_str("\nby fitted free order: cases, coverage published / guarded, median U/|e| published / guarded\n");
