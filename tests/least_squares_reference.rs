@@ -5,11 +5,17 @@
 //! scipy; its version is recorded in the JSON) on noisy manufactured data. The fits are those
 //! of Eça & Hoekstra 2014 (J. Comput. Phys. 262, 104–130) as written in the project's method
 //! notes §4 — the rules are from memory of the paper. The test fails when the JSON is missing.
+//!
+//! Also: the least-squares coverage study (`examples/ls_coverage.rs`, docs/method.md §5) at a
+//! small size.
 
 use meshbound::estimate::least_squares::{
     estimate, LsSettings, DEFAULT_ORDER_MAX, DEFAULT_ORDER_MIN, EXCLUDED_ORDER_HALF_WIDTH,
 };
 use serde_json::Value;
+
+#[path = "../examples/ls_coverage/study.rs"]
+mod ls_study;
 
 /// Relative tolerance of the comparison (the brief: 1e-6 relative).
 const REL_TOL: f64 = 1e-6;
@@ -164,4 +170,73 @@ fn fits_agree_with_scipy() {
         worst.1
     );
     assert!(compared >= 5 * 8 * 4);
+}
+
+#[test]
+fn ls_coverage_study_small_run() {
+    // docs/method.md §5 at a small size: the shape of the result and the properties that hold
+    // by construction. Checks: the floor only raises U (so coverage never drops and the
+    // published run never reports a floor); on exact power laws the guarded rules cover every
+    // case with a U (analytic: for p ≥ 2 the floor bounds the error of the finest mesh since
+    // r^p − 1 ≥ r² − 1, and for 0.5 ≤ p < 2 the free fit is exact and Fs = 1.25 ≥ 1). The
+    // figures themselves are measured, not check values.
+    use ls_study::{Family, Rules, ORDER_RANGES};
+    let n = 300;
+    let s = ls_study::run(n, 7);
+    assert_eq!(s.rows.len(), Family::ALL.len() * Rules::ALL.len());
+    assert_eq!(s.breakdown.len(), Family::ALL.len());
+    let find = |family: Family, rules: Rules| {
+        s.rows
+            .iter()
+            .find(|r| r.family == family && r.rules == rules)
+            .map(|r| r.tally.clone())
+            .unwrap_or_default()
+    };
+    for r in &s.rows {
+        let t = &r.tally;
+        assert_eq!(t.cases, n);
+        assert!(t.covered + t.no_u <= n && t.quiet_misses <= t.quiet && t.quiet <= n);
+        assert!((0.0..=1.0).contains(&t.coverage()));
+        assert!(t.median_effectivity() > 0.0);
+        match r.rules {
+            Rules::Published => assert_eq!(t.floor_set_u, 0),
+            Rules::Guarded => {
+                let p = find(r.family, Rules::Published);
+                assert!(t.covered >= p.covered, "{}", r.family.label());
+                assert_eq!(t.no_u, p.no_u);
+            }
+        }
+    }
+    for b in &s.breakdown {
+        assert_eq!(b.by_order.len(), ORDER_RANGES.len());
+        let total: usize = b.by_order.iter().map(|[p, _]| p.cases).sum();
+        assert_eq!(total, n);
+        // the floor acts only from p = 2 on
+        for [_, g] in &b.by_order[..2] {
+            assert_eq!(g.floor_set_u, 0);
+        }
+    }
+    let power = find(Family::Power, Rules::Guarded);
+    assert_eq!(
+        power.covered + power.no_u,
+        n,
+        "exact power laws are all covered"
+    );
+    assert!(power.floor_set_u > 0);
+    // every kept case converges monotonically
+    let mut rng = ls_study::SplitMix64::new(11);
+    for family in Family::ALL {
+        let c = ls_study::draw(&mut rng, family);
+        assert!((4..=6).contains(&c.h.len()));
+        assert!(c.h.windows(2).all(|w| (1.2..2.0).contains(&(w[1] / w[0]))));
+        assert!(ls_study::converges_monotonically(&c.phi));
+    }
+    assert!(!ls_study::converges_monotonically(&[1.0, 1.1, 1.05, 1.2]));
+    // the table has a header line, a column line, one line per row, and the breakdown
+    let text = ls_study::table(&s);
+    assert!(text.starts_with("cases per family: 300, seed: 7;"));
+    assert!(text.lines().count() >= 2 + s.rows.len() + 2);
+    // same seed, same numbers (the study is deterministic)
+    let again = ls_study::run(n, 7);
+    assert_eq!(ls_study::table(&again), text);
 }

@@ -19,6 +19,19 @@
 //! * `σ < Δφ`: `U_i = Fs |ε_i| + σ + |φ_i − fit(h_i)|`;
 //!   `σ ≥ Δφ`: `U_i = 3 (σ/Δφ) (|ε_i| + σ + |φ_i − fit(h_i)|)`.
 //!
+//! # The order-2 floor (a project rule, docs/method.md §5)
+//!
+//! On exact power laws with `2 < p < 2.7` the rules above give U below the true error (the
+//! first-and-second-order fit bends through the finest value and under-states its error). When
+//! the kept free order is `p ≥ 2` and [`LsSettings::guard`] is on (the default), every mesh's U
+//! is raised to at least the Richardson error estimate of that mesh and its coarser neighbour
+//! with the order fixed at 2 and the procedure's own `Fs`:
+//! `U_i ≥ Fs |φ_{i+1} − φ_i| / (r² − 1)` with `r = h_{i+1}/h_i`, and on the coarsest mesh
+//! `U_n ≥ Fs r² |φ_n − φ_{n−1}| / (r² − 1)` with `r = h_n/h_{n−1}`. For any error that behaves as
+//! `α h^q` with `q ≥ 2` these bound the true error even with `Fs = 1`, because
+//! `r^q − 1 ≥ r² − 1`. The result records the published U of the finest mesh and the floor
+//! ([`OrderTwoFloor`]); when the floor sets U the warning [`WARN_ORDER_TWO_FLOOR`] says so.
+//!
 //! # Numerics (project choices)
 //!
 //! * Sizes are scaled by the finest size (`x = h / h_1 ≥ 1`) and values are shifted by the
@@ -78,6 +91,15 @@ pub const WARN_NONMONOTONIC: &str = "ls_nonmonotonic";
 pub const WARN_DIVERGENT: &str = "ls_divergent";
 /// Warning code: the fitted free order is below 0.5, the fixed-order fits govern.
 pub const WARN_LOW_ORDER: &str = "ls_low_order";
+/// Warning code: the order-2 floor (a project rule for free orders `p ≥ 2`) set the
+/// uncertainty of the finest mesh above the published rules' figure.
+pub const WARN_ORDER_TWO_FLOOR: &str = "ls_order_two_floor";
+
+/// The order-2 floor applies from this free order on (a project rule: the published rules
+/// switch to the second-order fits there, docs/method.md §5).
+pub const FLOOR_FROM_ORDER: f64 = 2.0;
+/// The order the floor assumes: the formal order the procedure's fixed-order fits stand for.
+pub const FLOOR_ORDER: f64 = 2.0;
 
 /// Settings of the least-squares estimate.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -86,17 +108,65 @@ pub struct LsSettings {
     pub order_min: f64,
     /// Upper end of the searched free order.
     pub order_max: f64,
+    /// Whether the order-2 floor applies to free orders `p ≥ 2` (a project rule, see the
+    /// module documentation). Off gives the published rules alone.
+    pub guard: bool,
 }
 
 impl Default for LsSettings {
     /// The range `[DEFAULT_ORDER_MIN, DEFAULT_ORDER_MAX]` = `[−4, 8]`, always without the band
-    /// `|p| < EXCLUDED_ORDER_HALF_WIDTH`.
+    /// `|p| < EXCLUDED_ORDER_HALF_WIDTH`, and the order-2 floor on.
     fn default() -> Self {
         LsSettings {
             order_min: DEFAULT_ORDER_MIN,
             order_max: DEFAULT_ORDER_MAX,
+            guard: true,
         }
     }
+}
+
+impl LsSettings {
+    /// The default settings without the order-2 floor: the published rules alone.
+    pub fn published() -> Self {
+        LsSettings {
+            guard: false,
+            ..LsSettings::default()
+        }
+    }
+}
+
+/// The name of a guard rule (part of the JSON contract).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum GuardRule {
+    /// U at least the two-mesh Richardson estimate with order 2 and the procedure's `Fs`.
+    OrderTwoFloor,
+}
+
+impl GuardRule {
+    /// The snake_case label used in every output.
+    pub fn label(self) -> &'static str {
+        match self {
+            GuardRule::OrderTwoFloor => "order_two_floor",
+        }
+    }
+}
+
+/// What the order-2 floor did, on the finest mesh (part of the JSON contract).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OrderTwoFloor {
+    /// The rule (`order_two_floor`).
+    pub rule: GuardRule,
+    /// The order the floor assumes ([`FLOOR_ORDER`] = 2).
+    pub order: f64,
+    /// Its factor of safety: the procedure's `Fs` of this result.
+    pub safety_factor: f64,
+    /// The floor on the finest mesh, `Fs |φ2 − φ1| / (r21² − 1)`.
+    pub floor: f64,
+    /// U of the finest mesh by the published rules alone.
+    pub published_uncertainty: f64,
+    /// Whether the floor set U of the finest mesh (it exceeds the published figure).
+    pub governs: bool,
 }
 
 /// The form of a candidate fit.
@@ -219,6 +289,9 @@ pub struct LeastSquares {
     pub convergence_basis: String,
     /// Whether the free-order minimum lies on an end of the searched range.
     pub order_at_bound: bool,
+    /// The order-2 floor when it applied (free order `p ≥ 2`, guard on); `None` otherwise.
+    /// `per_mesh[].uncertainty` already holds the floored figures.
+    pub guard: Option<OrderTwoFloor>,
     /// Warnings for the caller to move into the top-level list (not serialised here).
     #[serde(skip)]
     pub warnings: Vec<Warning>,
@@ -230,6 +303,21 @@ impl LeastSquares {
         self.fits
             .iter()
             .find(|f| f.kind == self.selected.kind && f.weighted == self.selected.weighted)
+    }
+
+    /// Whether the order-2 floor set U of the finest mesh.
+    pub fn floor_governs(&self) -> bool {
+        self.guard.as_ref().is_some_and(|g| g.governs)
+    }
+
+    /// The order behind U of the finest mesh: 2 when the order-2 floor set it, else the order
+    /// of the selected fit (the free order `p` for the free fit, 1 or 2 for the fixed-order
+    /// fits, `None` for the first-and-second-order fit, which has two).
+    pub fn governing_order(&self) -> Option<f64> {
+        match &self.guard {
+            Some(g) if g.governs => Some(g.order),
+            _ => self.selected_fit().and_then(|f| f.order),
+        }
     }
 }
 
@@ -921,6 +1009,7 @@ fn no_change(names: &[String], phi: &[f64], data_range: f64) -> LeastSquares {
         convergence_basis: "all values are equal (to rounding): no change between meshes"
             .to_string(),
         order_at_bound: false,
+        guard: None,
         warnings: Vec::new(),
     }
 }
@@ -1083,6 +1172,26 @@ pub fn estimate(
     }
     let error_estimate = (scale * sel.solved.error(prep.x[0])).abs();
 
+    // The order-2 floor for p ≥ 2 (a project rule, docs/method.md §5).
+    let guard = if settings.guard && p >= FLOOR_FROM_ORDER {
+        let floors = order_two_floors(&prep, safety_factor);
+        let published_uncertainty = per_mesh.first().map_or(0.0, |m| m.uncertainty);
+        for (m, &f) in per_mesh.iter_mut().zip(&floors) {
+            m.uncertainty = m.uncertainty.max(f);
+        }
+        let floor = floors.first().copied().unwrap_or(0.0);
+        Some(OrderTwoFloor {
+            rule: GuardRule::OrderTwoFloor,
+            order: FLOOR_ORDER,
+            safety_factor,
+            floor,
+            published_uncertainty,
+            governs: floor > published_uncertainty,
+        })
+    } else {
+        None
+    };
+
     // Convergence class.
     let pattern = sign_pattern(phi);
     let mut warnings = Vec::new();
@@ -1173,6 +1282,23 @@ pub fn estimate(
         ));
     }
 
+    if let Some(g) = guard.as_ref().filter(|g| g.governs) {
+        warnings.push(Warning::new(
+            WARN_ORDER_TWO_FLOOR,
+            format!(
+                "the fitted free order p = {p:.4} is at least {FLOOR_FROM_ORDER}: the \
+                 uncertainty of the finest mesh was raised from {:.4e} (published rules, {} fit) \
+                 to {:.4e}, the Richardson estimate of the two finest meshes with order {} and \
+                 Fs = {} (the order-2 floor, a project rule)",
+                g.published_uncertainty,
+                sel.kind.label(),
+                g.floor,
+                g.order,
+                g.safety_factor
+            ),
+        ));
+    }
+
     let fits: Vec<Fit> = cands.iter().map(|c| c.to_fit(&prep)).collect();
     let result = LeastSquares {
         fits,
@@ -1188,6 +1314,7 @@ pub fn estimate(
         convergence,
         convergence_basis,
         order_at_bound: free.bound.is_some(),
+        guard,
         warnings,
     };
     if all_finite(&result) {
@@ -1195,6 +1322,31 @@ pub fn estimate(
     } else {
         Err(invalid_numbers())
     }
+}
+
+/// The order-2 floor of every mesh, in input units: `Fs |φ_{i+1} − φ_i| / (r² − 1)` with
+/// `r = h_{i+1}/h_i`, and on the coarsest mesh `Fs r² |φ_n − φ_{n−1}| / (r² − 1)` with
+/// `r = h_n/h_{n−1}`. For an error `α h^q` with `q ≥ 2` the first is at least `Fs` times the
+/// error of the finer mesh of the pair, the second `Fs` times that of the coarser one, since
+/// `r^q − 1 ≥ r² − 1` and `r^q/(r^q − 1) ≤ r²/(r² − 1)` (analytic). `r² − 1` is formed as
+/// `(r − 1)(r + 1)` to keep its digits when r is close to 1.
+fn order_two_floors(prep: &Prepared, fs: f64) -> Vec<f64> {
+    let n = prep.n();
+    let pair = |i: usize| -> (f64, f64) {
+        let r = prep.x[i + 1] / prep.x[i];
+        let diff = prep.scale * (prep.y[i + 1] - prep.y[i]).abs();
+        (r, diff / ((r - 1.0) * (r + 1.0)))
+    };
+    (0..n)
+        .map(|i| {
+            if i + 1 < n {
+                fs * pair(i).1
+            } else {
+                let (r, d) = pair(i - 1);
+                fs * r * r * d
+            }
+        })
+        .collect()
 }
 
 fn all_finite(r: &LeastSquares) -> bool {
@@ -1208,8 +1360,12 @@ fn all_finite(r: &LeastSquares) -> bool {
         .per_mesh
         .iter()
         .all(|m| m.fit.is_finite() && m.uncertainty.is_finite());
+    let guard_ok = r.guard.as_ref().is_none_or(|g| {
+        g.floor.is_finite() && g.published_uncertainty.is_finite() && g.safety_factor.is_finite()
+    });
     fits_ok
         && mesh_ok
+        && guard_ok
         && r.order.is_none_or(f64::is_finite)
         && r.data_range.is_finite()
         && r.error_estimate.is_finite()

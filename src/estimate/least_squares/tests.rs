@@ -51,8 +51,23 @@ fn has_warning(r: &LeastSquares, code: &str) -> bool {
     r.warnings.iter().any(|w| w.code == code)
 }
 
+/// The order-2 floor of mesh i, written out from its definition (docs/method.md §5, a project
+/// rule): `Fs |φ_{i+1} − φ_i|/(r² − 1)`, and on the coarsest mesh `Fs r² |φ_n − φ_{n−1}|/(r² − 1)`.
+fn floor_of(h: &[f64], phi: &[f64], fs: f64, i: usize) -> f64 {
+    let n = h.len();
+    let (a, b) = if i + 1 < n { (i, i + 1) } else { (i - 1, i) };
+    let r = h[b] / h[a];
+    let d = (phi[b] - phi[a]).abs() / (r * r - 1.0);
+    if i + 1 < n {
+        fs * d
+    } else {
+        fs * r * r * d
+    }
+}
+
 /// Checks selection, safety factor and U against the rules of method notes §4 (Eça & Hoekstra
-/// 2014, from memory), given the fitted order of the result.
+/// 2014, from memory), given the fitted order of the result, with the order-2 floor of the
+/// default settings for p ≥ 2 (a project rule, docs/method.md §5).
 fn check_rules(r: &LeastSquares, h: &[f64], phi: &[f64]) {
     let p = r.order.unwrap_or(f64::NAN);
     let sel = r.selected_fit().cloned();
@@ -103,16 +118,40 @@ fn check_rules(r: &LeastSquares, h: &[f64], phi: &[f64]) {
         max_relative = 1e-9,
         epsilon = 1e-12 * max.abs().max(min.abs())
     );
+    assert_eq!(
+        r.guard.is_some(),
+        p >= 2.0,
+        "the floor applies exactly from p = 2"
+    );
     for (i, m) in r.per_mesh.iter().enumerate() {
         let fit_i = sel.value_at(h[i]);
         let eps = sel.error_at(h[i]).abs();
         let res = (phi[i] - fit_i).abs();
-        let u = if sigma < dphi {
+        let published = if sigma < dphi {
             fs * eps + sigma + res
         } else {
             3.0 * (sigma / dphi) * (eps + sigma + res)
         };
         let tol = 1e-10 * max.abs().max(min.abs());
+        let u = match &r.guard {
+            Some(g) => {
+                let floor = floor_of(h, phi, fs, i);
+                if i == 0 {
+                    assert_relative_eq!(
+                        g.published_uncertainty,
+                        published,
+                        max_relative = 1e-8,
+                        epsilon = tol
+                    );
+                    assert_relative_eq!(g.floor, floor, max_relative = 1e-8, epsilon = tol);
+                    assert_eq!(g.governs, g.floor > g.published_uncertainty);
+                    assert_eq!(g.governs, has_warning(r, WARN_ORDER_TWO_FLOOR));
+                    assert_relative_eq!(g.order, 2.0, max_relative = 0.0, epsilon = 0.0);
+                }
+                published.max(floor)
+            }
+            None => published,
+        };
         assert_relative_eq!(m.fit, fit_i, max_relative = 1e-9, epsilon = tol);
         assert_relative_eq!(m.uncertainty, u, max_relative = 1e-8, epsilon = tol);
         assert!(m.uncertainty >= 0.0);
@@ -406,6 +445,7 @@ fn custom_range_bounds_the_search() {
     let settings = LsSettings {
         order_min: 0.5,
         order_max: 3.0,
+        ..LsSettings::default()
     };
     let r = match estimate(&names(5), &h, &phi, &settings) {
         Ok(r) => r,
@@ -439,11 +479,13 @@ fn invalid_inputs_are_refused_with_clear_messages() {
     let bad = LsSettings {
         order_min: 3.0,
         order_max: 1.0,
+        ..LsSettings::default()
     };
     assert!(invalid(&names(4), &h4, &p4, &bad).contains("order_min < order_max"));
     let band = LsSettings {
         order_min: -0.01,
         order_max: 0.02,
+        ..LsSettings::default()
     };
     assert!(invalid(&names(4), &h4, &p4, &band).contains("band"));
 }
@@ -488,6 +530,7 @@ fn serialised_form_follows_the_contract() {
             "data_range",
             "error_estimate",
             "fits",
+            "guard",
             "order",
             "order_at_bound",
             "per_mesh",
@@ -528,6 +571,143 @@ fn serialised_form_follows_the_contract() {
     assert_eq!(v["per_mesh"][0]["mesh"], "M1");
     assert!(v["per_mesh"][4]["uncertainty"].is_f64());
     assert_eq!(v["convergence"], "monotonic");
+}
+
+// ---- the order-2 floor (a project rule, docs/method.md §5) ---------------------------------
+
+fn run_with(h: &[f64], phi: &[f64], settings: &LsSettings) -> LeastSquares {
+    match estimate(&names(h.len()), h, phi, settings) {
+        Ok(r) => r,
+        Err(e) => panic!("estimate failed: {e}"),
+    }
+}
+
+/// Geometric sizes r^0 … r^(n−1).
+fn geometric(r: f64, n: usize) -> Vec<f64> {
+    (0..n).map(|i| r.powi(i as i32)).collect()
+}
+
+#[test]
+fn floor_covers_exact_power_laws_the_published_rules_miss() {
+    // Analytic manufactured data φ = φ0 + α h^p with φ0 = 1 known exactly, so the true error
+    // of the finest mesh is |φ1 − φ0| = |α| h1^p. The published rules (method notes §4, from
+    // memory of Eça & Hoekstra 2014) miss at p = 2.1 (r = 1.96, five meshes: U ≈ 0.69 × the
+    // error) and at p = 2.5 (r = 1.21, five meshes: U ≈ 0.03 × the error), and cover p = 3
+    // (r = 1.1, four meshes: U ≈ 1.7 × the error); these are the cases found worst by a scan
+    // of constant ratios 1.10–2.00 on four to six meshes. With the floor every case is covered.
+    for &(p, r, n, published_misses) in &[
+        (2.1, 1.96, 5, true),
+        (2.5, 1.21, 5, true),
+        (3.0, 1.10, 4, false),
+    ] {
+        let h = geometric(r, n);
+        for alpha in [0.05, -0.05] {
+            let phi: Vec<f64> = h.iter().map(|x| 1.0 + alpha * x.powf(p)).collect();
+            let error = (phi[0] - 1.0).abs();
+            let published = run_with(&h, &phi, &LsSettings::published());
+            let guarded = run_with(&h, &phi, &LsSettings::default());
+            let u_pub = published.per_mesh[0].uncertainty;
+            let u = guarded.per_mesh[0].uncertainty;
+            assert_eq!(
+                u_pub < error,
+                published_misses,
+                "p = {p}: published U/error = {}",
+                u_pub / error
+            );
+            assert!(u >= error, "p = {p}: guarded U/error = {}", u / error);
+            // the floor only raises U, and says so when it sets it
+            assert!(u >= u_pub);
+            let g = guarded
+                .guard
+                .as_ref()
+                .map(|g| (g.governs, g.published_uncertainty));
+            assert_eq!(g.map(|g| g.0), Some(published_misses || u > u_pub));
+            assert_relative_eq!(g.map_or(f64::NAN, |g| g.1), u_pub, max_relative = 0.0);
+            assert_eq!(
+                has_warning(&guarded, WARN_ORDER_TWO_FLOOR),
+                guarded.floor_governs()
+            );
+            assert!(published.guard.is_none());
+            assert!(!has_warning(&published, WARN_ORDER_TWO_FLOOR));
+            check_rules(&guarded, &h, &phi);
+            // every mesh is covered: the floor bounds each mesh's error (analytic, q ≥ 2)
+            for (m, v) in guarded.per_mesh.iter().zip(&phi) {
+                assert!(m.uncertainty >= (v - 1.0).abs(), "p = {p}, mesh {}", m.mesh);
+            }
+        }
+    }
+}
+
+#[test]
+fn floor_changes_nothing_but_u_guard_and_warning() {
+    // analytic manufactured data, p = 2.5 on r = 1.21 (a published miss, see above): the
+    // guarded and the published results agree in every figure but U, `guard` and the warning
+    let h = geometric(1.21, 5);
+    let phi = manufactured(&h, 2.0, 0.01, 2.5);
+    let published = run_with(&h, &phi, &LsSettings::published());
+    let guarded = run_with(&h, &phi, &LsSettings::default());
+    assert!(guarded.floor_governs());
+    assert_eq!(guarded.fits, published.fits);
+    assert_eq!(guarded.selected, published.selected);
+    assert_eq!(guarded.order, published.order);
+    for (a, b) in [
+        (guarded.safety_factor, published.safety_factor),
+        (guarded.error_estimate, published.error_estimate),
+    ] {
+        assert_relative_eq!(a, b, max_relative = 0.0, epsilon = 0.0);
+    }
+    assert_eq!(guarded.convergence, published.convergence);
+    let extra: Vec<&str> = guarded
+        .warnings
+        .iter()
+        .filter(|w| !published.warnings.contains(w))
+        .map(|w| w.code.as_str())
+        .collect();
+    assert_eq!(extra, [WARN_ORDER_TWO_FLOOR]);
+    assert_eq!(guarded.governing_order(), Some(2.0));
+    // the published result names its own fit and order: the first-and-second fit has two
+    let sel = published.selected_fit().map(|f| f.order);
+    assert_eq!(published.governing_order(), sel.flatten());
+    // Fs = 3 here (p ≥ 2.1), so the floor of the finest mesh is 3 |φ2 − φ1|/(r² − 1)
+    let floor = 3.0 * (phi[1] - phi[0]).abs() / (1.21_f64 * 1.21 - 1.0);
+    assert_relative_eq!(guarded.per_mesh[0].uncertainty, floor, max_relative = 1e-12);
+    let json = serde_json::to_value(&guarded).unwrap_or_default();
+    assert_eq!(json["guard"]["rule"], "order_two_floor");
+    assert_eq!(json["guard"]["governs"], true);
+    assert!(json["guard"]["floor"].is_f64());
+    assert!(json["guard"]["published_uncertainty"].is_f64());
+    let json = serde_json::to_value(&published).unwrap_or_default();
+    assert!(json["guard"].is_null());
+}
+
+#[test]
+fn floor_does_not_apply_below_order_two() {
+    // analytic manufactured data p = 1.9 < 2: the free fit governs and no floor is formed
+    let h = [1.0, 1.3, 1.7, 2.2, 2.9];
+    let phi = manufactured(&h, 0.5, 0.02, 1.9);
+    let r = run(&h, &phi);
+    assert!(r.guard.is_none());
+    assert!(!r.floor_governs());
+    assert_eq!(r.selected.kind, FitKind::Free);
+    assert_relative_eq!(
+        r.governing_order().unwrap_or(f64::NAN),
+        1.9,
+        max_relative = 1e-8
+    );
+    check_rules(&r, &h, &phi);
+}
+
+#[test]
+fn floor_with_the_low_safety_factor_between_two_and_two_point_one() {
+    // analytic manufactured data p = 2.05: Fs = 1.25 (p < 2.1, σ < Δφ) and the floor uses it;
+    // 1.25 |φ2 − φ1|/(r² − 1) ≥ 1.25 |φ1 − φ0| for q ≥ 2, so the finest mesh is covered
+    let h = geometric(1.5, 5);
+    let phi = manufactured(&h, 3.0, -0.2, 2.05);
+    let r = run(&h, &phi);
+    let g = r.guard.as_ref().map(|g| g.safety_factor);
+    assert_eq!(g, Some(1.25));
+    assert!(r.per_mesh[0].uncertainty >= 0.2);
+    check_rules(&r, &h, &phi);
 }
 
 // ---- properties -----------------------------------------------------------------------------
@@ -572,6 +752,31 @@ proptest! {
             prop_assert!((f.phi0 - phi0).abs() <= 1e-8 * phi0.abs(), "φ0 {} vs {}", f.phi0, phi0);
         }
         prop_assert_eq!(r.convergence, Convergence::Monotonic);
+        check_rules(&r, &h, &phi);
+    }
+
+    /// Analytic manufactured data φ = φ0 + α h^p with p ∈ [2, 6] on 4–8 meshes with irregular
+    /// ratios: with the order-2 floor every mesh's U covers its true error |φ_i − φ0|, and U is
+    /// the larger of the published figure and the floor (docs/method.md §5, a project rule).
+    #[test]
+    fn floor_covers_every_mesh_of_exact_power_laws(
+        h in sizes_strategy(),
+        p in 2.0_f64..6.0,
+        phi0 in -50.0_f64..50.0,
+        rel in 1e-3_f64..0.3,
+        alpha_neg in any::<bool>(),
+    ) {
+        let eps1 = rel * (1.0 + phi0.abs()) * if alpha_neg { -1.0 } else { 1.0 };
+        let phi = manufactured(&h, phi0, eps1, p);
+        let r = estimate(&names(h.len()), &h, &phi, &LsSettings::default())
+            .map_err(|e| TestCaseError::fail(e.to_string()))?;
+        let published = estimate(&names(h.len()), &h, &phi, &LsSettings::published())
+            .map_err(|e| TestCaseError::fail(e.to_string()))?;
+        for ((m, mp), v) in r.per_mesh.iter().zip(&published.per_mesh).zip(&phi) {
+            let error = (v - phi0).abs();
+            prop_assert!(m.uncertainty >= error * (1.0 - 1e-9), "mesh {}: U {} < error {}", m.mesh, m.uncertainty, error);
+            prop_assert!(m.uncertainty >= mp.uncertainty);
+        }
         check_rules(&r, &h, &phi);
     }
 
