@@ -576,13 +576,41 @@ pub fn fold(v: &[f64]) -> Option<(usize, Vec<usize>)> {
     Some((turn, rows))
 }
 
-/// `lines 20, 21 and 22` (at most eight named).
+/// `lines 20–22`, `point 5` or `points 3, 7–9` (at most eight runs named): `rows` are 0-based
+/// row indices, ascending.
 fn row_list(src: &Source, rows: &[usize]) -> String {
-    let mut names: Vec<String> = rows.iter().take(8).map(|&r| src.label(r)).collect();
-    if rows.len() > 8 {
-        names.push(format!("{} more", rows.len() - 8));
+    let number = |r: usize| match &src.csv {
+        Some((_, lines, _)) => lines.get(r).copied().unwrap_or(0),
+        None => r + 1,
+    };
+    let mut runs: Vec<(usize, usize)> = Vec::new();
+    for &r in rows {
+        match runs.last_mut() {
+            Some((_, last)) if *last + 1 == r => *last = r,
+            _ => runs.push((r, r)),
+        }
     }
-    names.join(", ")
+    let kind = match (&src.csv, rows.len()) {
+        (Some(_), 1) => "line",
+        (Some(_), _) => "lines",
+        (None, 1) => "point",
+        (None, _) => "points",
+    };
+    let mut parts: Vec<String> = runs
+        .iter()
+        .take(8)
+        .map(|&(a, b)| {
+            if a == b {
+                number(a).to_string()
+            } else {
+                format!("{}–{}", number(a), number(b))
+            }
+        })
+        .collect();
+    if runs.len() > 8 {
+        parts.push(format!("{} more", runs.len() - 8));
+    }
+    format!("{kind} {}", parts.join(", "))
 }
 
 /// Refuses an abscissa that is not monotone along the sweep as recorded.
@@ -607,17 +635,23 @@ fn refuse_fold(
         first,
         column,
         format!(
-            "`{name}` is not monotone along the sweep as recorded: it {went} from {} ({}) to {} ({}) and {back} again at {} ({}); a sweep that folds back (σ turning at deep breakdown) cannot be read as one curve of `{name}` and is not re-sorted: end the sweep at the turn, or record it against an abscissa that keeps running one way (for NPSH3, `abscissa: npsh`)",
+            "`{name}` is not monotone along the sweep as recorded: it {went} from {} ({}) to {} ({}) and {back} again at {} ({}); a sweep that folds back (σ turning at deep breakdown) cannot be read as one curve of `{name}` and is not re-sorted: end the sweep at the turn, or sweep against an abscissa that keeps running one way (`x: npsh`, recorded or derived from raw monitors)",
             crate::sweep::fmt_num(v[0]),
             src.label(0),
             crate::sweep::fmt_num(v[turn]),
             src.label(turn),
             row_list(src, &rows),
-            rows.iter()
-                .take(8)
-                .map(|&r| crate::sweep::fmt_num(v[r]))
-                .collect::<Vec<_>>()
-                .join(", "),
+            {
+                let mut shown: Vec<String> = rows
+                    .iter()
+                    .take(4)
+                    .map(|&r| crate::sweep::fmt_num(v[r]))
+                    .collect();
+                if rows.len() > 4 {
+                    shown.push(format!("… {}", crate::sweep::fmt_num(v[rows[rows.len() - 1]])));
+                }
+                shown.join(", ")
+            },
         ),
     ))
 }
@@ -995,4 +1029,27 @@ pub fn check(
         });
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::fold;
+
+    // Source: the definition of a monotone sequence (analytic): strictly falling or rising runs
+    // pass, a reversed order passes, a turn is found with the rows that run back.
+    #[test]
+    fn folds_are_found_with_their_rows() {
+        assert_eq!(fold(&[0.4, 0.3, 0.2, 0.15, 0.124]), None);
+        assert_eq!(fold(&[0.124, 0.15, 0.2, 0.3, 0.4]), None);
+        assert_eq!(fold(&[0.4, 0.3]), None);
+        // σ falls to 0.124 (index 4) and rises again at indices 5 and 6.
+        assert_eq!(
+            fold(&[0.4, 0.3, 0.2, 0.15, 0.124, 0.126, 0.129]),
+            Some((4, vec![5, 6]))
+        );
+        // A turn followed by a second turn: only the run back is named.
+        assert_eq!(fold(&[0.4, 0.3, 0.35, 0.1]), Some((1, vec![2])));
+        // A shuffled order is a fold too (the order as recorded must run one way).
+        assert_eq!(fold(&[0.2, 0.5, 0.1, 0.3]), Some((1, vec![2])));
+    }
 }

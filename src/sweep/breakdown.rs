@@ -723,4 +723,135 @@ mod tests {
         assert_eq!(a, b);
         assert_eq!(a.points_in_plateau, Some(2));
     }
+
+    // Source: manufactured data, analytic crossing with linear interpolation. A plateau of
+    // 0.9 and a straight fall y = 0.9 − 2·(0.2 − x) below x = 0.2; one noisy point at
+    // x = 0.35 dips to 0.88 (below the 1 % threshold 0.891) and the curve comes back. The
+    // persistence rule (2 points, the default) passes over the dip; breakdown is the crossing
+    // of the fall: 0.9 − 2·(0.2 − x) = 0.891 → x = 0.2 − 0.0045 = 0.1955.
+    #[test]
+    fn one_noisy_dip_does_not_set_breakdown() {
+        let x = [0.5, 0.4, 0.35, 0.3, 0.2, 0.15, 0.1];
+        let y = [0.9, 0.9, 0.88, 0.9, 0.9, 0.8, 0.7];
+        let b = ok(find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        ));
+        assert_relative_eq!(b.x, 0.1955, max_relative = 1e-12);
+        assert_eq!(b.bracket, (0.15, 0.2));
+        assert!(b.confirmed);
+        assert_eq!(b.points_below, 2);
+        assert_eq!(
+            b.ignored_dips,
+            vec![Dip {
+                x: vec![0.35],
+                lowest: 0.88
+            }]
+        );
+        // Without persistence (1 point) the dip sets breakdown, as before the rule: the
+        // crossing between (0.35, 0.88) and (0.4, 0.9) at 0.35 + 0.05·0.011/0.02 = 0.3775.
+        let one = Persistence {
+            points: 1,
+            span: 0.0,
+        };
+        let b1 = ok(find_breakdown_with(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &one,
+        ));
+        assert_relative_eq!(b1.x, 0.3775, max_relative = 1e-12);
+        assert!(b1.ignored_dips.is_empty());
+        // Three points asked: the run at the end (0.15, 0.1) holds two, and the sweep ends
+        // there: breakdown at the same crossing, unconfirmed.
+        let three = Persistence {
+            points: 3,
+            span: 0.0,
+        };
+        let b3 = ok(find_breakdown_with(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &three,
+        ));
+        assert_relative_eq!(b3.x, 0.1955, max_relative = 1e-12);
+        assert!(!b3.confirmed);
+        assert_eq!(b3.points_below, 2);
+    }
+
+    // Source: manufactured data (analytic run lengths and spans). A two-point dip at 0.36 and
+    // 0.35 meets a 2-point rule but not a span of 0.02 (its span is 0.01); the final fall
+    // (0.15, 0.1, 0.05) spans 0.1.
+    #[test]
+    fn span_rule_and_dips_only() {
+        let x = [0.05, 0.1, 0.15, 0.2, 0.3, 0.35, 0.36, 0.4, 0.5];
+        let y = [0.6, 0.7, 0.8, 0.9, 0.9, 0.885, 0.88, 0.9, 0.9];
+        let rule = Persistence {
+            points: 2,
+            span: 0.02,
+        };
+        let b = ok(find_breakdown_with(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &rule,
+        ));
+        assert_eq!(b.bracket, (0.15, 0.2));
+        assert_eq!(b.ignored_dips.len(), 1);
+        assert_eq!(b.ignored_dips[0].x, vec![0.36, 0.35]);
+        assert_eq!(b.points_below, 3);
+        // Without the final fall only the dip lies below: refused, the dip named.
+        let r = find_breakdown_with(
+            &x[3..],
+            &y[3..],
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &rule,
+        );
+        assert!(matches!(r, Err(BreakdownError::OnlyDips { .. })), "{r:?}");
+        assert_eq!(
+            err_text(r),
+            "no breakdown: the response falls below the threshold 0.891 only in dips that come \
+             back above it (x = 0.36 to 0.35 (2 points)); breakdown needs 2 consecutive points \
+             over an x span of at least 0.02 below the threshold; extend the sweep to lower x \
+             or check those points"
+        );
+        // A rule of no points or a bad span is refused.
+        for bad in [
+            Persistence {
+                points: 0,
+                span: 0.0,
+            },
+            Persistence {
+                points: 2,
+                span: -0.1,
+            },
+            Persistence {
+                points: 2,
+                span: f64::NAN,
+            },
+        ] {
+            assert!(matches!(
+                find_breakdown_with(
+                    &x,
+                    &y,
+                    &ReferenceKind::Highest,
+                    &DropRule::Relative(0.01),
+                    Interpolation::Linear,
+                    &bad
+                ),
+                Err(BreakdownError::InvalidPersistence(_))
+            ));
+        }
+    }
 }
