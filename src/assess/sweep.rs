@@ -358,7 +358,7 @@ fn point_names(c: &Curve, xs: &[f64], at: &[f64]) -> String {
         .map(|v| {
             let label = xs
                 .iter()
-                .position(|x| x == v)
+                .position(|x| x.total_cmp(v).is_eq())
                 .and_then(|i| c.labels.get(i))
                 .map_or(String::new(), |l| format!(" ({l})"));
             format!("{}{label}", sweep::fmt_num(*v))
