@@ -360,4 +360,13 @@ fn demo_studies_still_assess() {
     assert_eq!(b["response"], "head");
     assert_eq!(b["abscissa"], "npsh");
     assert_eq!(b["x_estimate"]["unit"], "m");
+    // The text output labels it NPSH, not σ.
+    let o = run(&["assess", "studies/pump-turbine-raw-sweep.yaml"]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        text.contains("3.00 % drop of head below the value at the highest NPSH, read against NPSH")
+            && text.contains("NPSH_b = ")
+            && text.contains("breakdown npsh"),
+        "{text}"
+    );
 }
