@@ -370,3 +370,81 @@ fn demo_studies_still_assess() {
         "{text}"
     );
 }
+
+mod properties {
+    use meshbound::study::scale::mixed_scale;
+    use meshbound::sweep::{
+        find_breakdown, find_breakdown_with, DropRule, Interpolation, Persistence, ReferenceKind,
+    };
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(200))]
+
+        // Manufactured: a plateau at v0, then a linear fall; one plateau point (not the top)
+        // dips below the 1 % threshold. The dip must not move breakdown (the curve without
+        // it gives the same crossing) and must be reported with its x.
+        #[test]
+        fn one_dip_never_moves_breakdown(
+            plateau in 4usize..15,
+            fall in 2usize..7,
+            v0 in 0.5f64..1.0,
+            slope in 0.5f64..5.0,
+            dip_at in 1usize..14,
+            depth in 0.011f64..0.5,
+        ) {
+            // Neither the top point nor the plateau's last one (a dip there joins the fall).
+            let dip = 1 + dip_at % (plateau - 2);
+            // x from high to low: plateau points 1.0, 0.95, …; fall points below.
+            let mut x = Vec::new();
+            let mut y = Vec::new();
+            for i in 0..plateau {
+                x.push(1.0 - 0.05 * i as f64);
+                y.push(v0);
+            }
+            let x_edge = x[plateau - 1];
+            for j in 1..=fall {
+                let xj = x_edge - 0.05 * j as f64;
+                x.push(xj);
+                y.push(v0 - slope * (x_edge - xj));
+            }
+            let clean = find_breakdown(&x, &y, &ReferenceKind::Value(v0), &DropRule::Relative(0.01), Interpolation::Linear).unwrap();
+            let mut yd = y.clone();
+            yd[dip] = v0 * (1.0 - depth);
+            let r = find_breakdown_with(&x, &yd, &ReferenceKind::Value(v0), &DropRule::Relative(0.01), Interpolation::Linear, &Persistence::default()).unwrap();
+            prop_assert_eq!(r.x, clean.x);
+            prop_assert_eq!(r.ignored_dips.len(), 1);
+            prop_assert_eq!(&r.ignored_dips[0].x, &vec![x[dip]]);
+        }
+
+        // Manufactured: efficiencies as fractions in [0.8, 0.95] on 3 to 12 meshes or points,
+        // one typed in percent — always refused, and the odd value is the one in percent.
+        #[test]
+        fn one_percent_among_fractions_is_always_found(
+            v in proptest::collection::vec(0.8f64..0.95, 3..12),
+            k in 0usize..12,
+        ) {
+            let k = k % v.len();
+            let mut w = v.clone();
+            w[k] *= 100.0;
+            let m = mixed_scale(&w, "efficiency", None);
+            prop_assert!(m.is_some());
+            prop_assert_eq!(m.unwrap().odd().to_vec(), vec![k]);
+            prop_assert!(mixed_scale(&v, "efficiency", None).is_none());
+        }
+
+        // Manufactured: an NPSH or a head that falls geometrically across decades (steps
+        // below a factor of 10) is never taken for a percent/fraction mix, with or without
+        // a name that marks a fraction.
+        #[test]
+        fn curves_across_decades_pass(
+            start in 1.5f64..100.0,
+            step in 0.3f64..0.95,
+            n in 4usize..60,
+        ) {
+            let v: Vec<f64> = (0..n).map(|i| start * step.powi(i as i32)).collect();
+            prop_assert!(mixed_scale(&v, "npsh", None).is_none());
+            prop_assert!(mixed_scale(&v, "vapour_fraction", Some("%")).is_none());
+        }
+    }
+}
