@@ -7,9 +7,11 @@ use crate::estimate::Convergence;
 use crate::grid::Mesh;
 use crate::machine::{DerivedPoint, Mode};
 use crate::study::raw::EstimatorChoice;
-use crate::study::sweep::{BandAt, Sweep};
+use crate::study::sweep::{Abscissa, BandAt, Curve, Sweep};
 use crate::study::StudyError;
-use crate::sweep::{self, find_breakdown, DropRule, Interpolant, Interpolation, ReferenceKind};
+use crate::sweep::{
+    self, find_breakdown_with, DropRule, Interpolant, Interpolation, Persistence, ReferenceKind,
+};
 use crate::warning::Warning;
 use serde::Serialize;
 use std::path::Path;
@@ -47,6 +49,14 @@ pub struct MeshBreakdown {
     pub bracket: [f64; 2],
     /// Points averaged for a plateau reference.
     pub points_in_plateau: Option<usize>,
+    /// Consecutive points below the threshold from the crossing down.
+    pub points_below: usize,
+    /// `false` when the sweep ended before the persistence rule was met (breakdown taken at
+    /// the crossing, unconfirmed).
+    pub confirmed: bool,
+    /// Abscissae of the points that dipped below the threshold above breakdown and came back
+    /// (one list per dip, highest first); they did not set breakdown.
+    pub ignored_dips: Vec<Vec<f64>>,
 }
 
 /// A breakdown definition and its results.
@@ -60,6 +70,11 @@ pub struct BreakdownResult {
     pub relative: bool,
     /// The reference rule.
     pub reference_rule: ReferenceKind,
+    /// What breakdown is read against: the sweep's abscissa name, or `npsh`.
+    pub abscissa: String,
+    /// The persistence rule: `points` consecutive points below the threshold over an
+    /// abscissa span of at least `span`.
+    pub persistence: Persistence,
     /// Per mesh, finest first.
     pub per_mesh: Vec<MeshBreakdown>,
     /// The breakdown abscissa as a quantity over the meshes (name `<sweep>.breakdown.<response>`).
@@ -204,16 +219,43 @@ pub fn assess_sweep(
     for (bi, b) in s.breakdown.iter().enumerate() {
         let key = format!("sweeps.{}.breakdown[{bi}]", s.name);
         let mut per_mesh = Vec::new();
+        let abscissa = match b.abscissa {
+            Abscissa::X => s.x.as_str(),
+            Abscissa::Npsh => "npsh",
+        };
+        let subject = format!("{}.breakdown.{}", s.name, b.response);
         for c in &s.curves {
             let y = &c.responses[b.response_index];
-            let r =
-                find_breakdown(&c.x, y, &b.reference, &b.drop, s.interpolation).map_err(|e| {
-                    input_error(
+            let xs = match (b.abscissa, &c.npsh) {
+                (Abscissa::X, _) => &c.x,
+                (Abscissa::Npsh, Some(n)) => n,
+                (Abscissa::Npsh, None) => {
+                    return Err(input_error(
                         file,
-                        key.clone(),
-                        format!("mesh `{}`, response `{}`: {e}", c.mesh, b.response),
-                    )
-                })?;
+                        format!("{key}.abscissa"),
+                        format!("mesh `{}`: no NPSH was read for this sweep", c.mesh),
+                    ))
+                }
+            };
+            let r = find_breakdown_with(
+                xs,
+                y,
+                &b.reference,
+                &b.drop,
+                s.interpolation,
+                &b.persistence,
+            )
+            .map_err(|e| {
+                input_error(
+                    file,
+                    key.clone(),
+                    format!(
+                        "mesh `{}`, response `{}` against `{abscissa}`: {e}",
+                        c.mesh, b.response
+                    ),
+                )
+            })?;
+            breakdown_warnings(c, xs, abscissa, &b.persistence, &r, &subject, warnings);
             per_mesh.push(MeshBreakdown {
                 mesh: c.mesh.clone(),
                 x: r.x,
@@ -221,6 +263,9 @@ pub fn assess_sweep(
                 threshold: r.threshold,
                 bracket: [r.bracket.0, r.bracket.1],
                 points_in_plateau: r.points_in_plateau,
+                points_below: r.points_below,
+                confirmed: r.confirmed,
+                ignored_dips: r.ignored_dips.iter().map(|d| d.x.clone()).collect(),
             });
         }
         let bx: Vec<f64> = per_mesh.iter().map(|m| m.x).collect();
@@ -234,6 +279,8 @@ pub fn assess_sweep(
             },
             relative: matches!(b.drop, DropRule::Relative(_)),
             reference_rule: b.reference,
+            abscissa: abscissa.to_string(),
+            persistence: b.persistence,
             per_mesh,
             x_estimate: quantity(
                 &bname,
@@ -241,7 +288,10 @@ pub fn assess_sweep(
                     sweep: s.name.clone(),
                     response: b.response.clone(),
                 },
-                Some(&s.x),
+                Some(match b.abscissa {
+                    Abscissa::X => s.x.as_str(),
+                    Abscissa::Npsh => "m",
+                }),
                 &sub,
                 &bx,
                 settings,
@@ -299,6 +349,66 @@ pub fn assess_sweep(
         breakdown,
         band,
     })
+}
+
+/// The point names (`line 12`, `point 3`) of the abscissae `at` on curve `c` read against
+/// `xs` (the curve's x or NPSH, aligned with its labels).
+fn point_names(c: &Curve, xs: &[f64], at: &[f64]) -> String {
+    at.iter()
+        .map(|v| {
+            let label = xs
+                .iter()
+                .position(|x| x.total_cmp(v).is_eq())
+                .and_then(|i| c.labels.get(i))
+                .map_or(String::new(), |l| format!(" ({l})"));
+            format!("{}{label}", sweep::fmt_num(*v))
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// Warnings about one mesh's breakdown: dips passed over, a breakdown the sweep's end left
+/// unconfirmed.
+fn breakdown_warnings(
+    c: &Curve,
+    xs: &[f64],
+    abscissa: &str,
+    rule: &Persistence,
+    r: &sweep::Breakdown,
+    subject: &str,
+    warnings: &mut Vec<Warning>,
+) {
+    for d in &r.ignored_dips {
+        warnings.push(
+            Warning::new(
+                "breakdown_dip_ignored",
+                format!(
+                    "mesh `{}`: the response fell below the threshold {} at `{abscissa}` = {} and came back above it; not taken as breakdown (the rule asks {} below the threshold)",
+                    c.mesh,
+                    sweep::fmt_num(r.threshold),
+                    point_names(c, xs, &d.x),
+                    sweep::breakdown::persistence_text(rule),
+                ),
+            )
+            .about(subject),
+        );
+    }
+    if !r.confirmed {
+        warnings.push(
+            Warning::new(
+                "breakdown_unconfirmed",
+                format!(
+                    "mesh `{}`: only {} point{} below the threshold before the sweep ends (crossing at `{abscissa}` = {}); the rule asks {} below it, so breakdown is taken there unconfirmed: extend the sweep to lower `{abscissa}`",
+                    c.mesh,
+                    r.points_below,
+                    if r.points_below == 1 { "" } else { "s" },
+                    sweep::fmt_num(r.x),
+                    sweep::breakdown::persistence_text(rule),
+                ),
+            )
+            .about(subject),
+        );
+    }
 }
 
 #[allow(clippy::too_many_arguments)]

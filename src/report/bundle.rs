@@ -99,7 +99,7 @@ pub fn figures(a: &Assessment) -> Vec<Figure> {
         for b in &s.breakdown {
             let title = format!(
                 "Convergence of the breakdown {} of {} (sweep {})",
-                s.x, b.response, s.name
+                b.abscissa, b.response, s.name
             );
             convergence(&b.x_estimate, title, &mut taken, &mut out);
             let title = format!(

@@ -373,7 +373,11 @@ fn both_estimates_table(a: &Assessment) -> Option<TableBlock> {
 }
 
 fn breakdown_summary(s: &SweepResult) -> TableBlock {
-    let xs = format!("breakdown {}", s.x);
+    let xs = if s.breakdown.iter().all(|b| b.abscissa == s.x) {
+        format!("breakdown {}", s.x)
+    } else {
+        "breakdown".to_string()
+    };
     let mut t = TableBlock::new(
         format!(
             "Breakdown of sweep {}: the finest mesh's {} and reference, with their uncertainty",
@@ -408,7 +412,7 @@ fn breakdown_summary(s: &SweepResult) -> TableBlock {
 }
 
 fn breakdown_per_mesh(s: &SweepResult, b: &BreakdownResult) -> TableBlock {
-    let xs = format!("breakdown {}", s.x);
+    let xs = format!("breakdown {}", b.abscissa);
     let mut t = TableBlock::new(
         format!("Breakdown per mesh: {}", breakdown_rule(b, &s.x)),
         &[
@@ -612,7 +616,7 @@ fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
                 Span::Strong(breakdown_rule(b, &s.x)),
                 text(format!(
                     ": {}_b = {}; reference {} = {}",
-                    symbol(&s.x),
+                    symbol(&b.abscissa),
                     statement(&b.x_estimate),
                     symbol(&b.response),
                     statement(&b.reference_estimate)

@@ -333,6 +333,7 @@ fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
     };
     let x = symbol(&s.x);
     for b in &s.breakdown {
+        let x = symbol(&b.abscissa);
         let (xv, xt) = figure(&b.x_estimate, String::new());
         let (rv, rt) = figure(&b.reference_estimate, String::new());
         out.push(format!(

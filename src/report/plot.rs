@@ -1054,7 +1054,12 @@ pub fn response_scene(
     layers.extend(mesh_layers.into_iter().rev());
 
     let mut breakdown_legend = false;
-    for b in s.breakdown.iter().filter(|b| b.response == response) {
+    // A breakdown read against another abscissa (NPSH) has no place on this axis.
+    for b in s
+        .breakdown
+        .iter()
+        .filter(|b| b.response == response && b.abscissa == s.x)
+    {
         for m in &b.per_mesh {
             let (colour, marker, _) = mesh_style(mesh_index(&m.mesh));
             layers.push(Layer {
@@ -1080,7 +1085,7 @@ pub fn response_scene(
         notes.push(format!(
             "Breakdown: {}. {}_b = {}.",
             breakdown_rule(b, &s.x),
-            symbol(&s.x),
+            symbol(&b.abscissa),
             statement(&b.x_estimate)
         ));
     }

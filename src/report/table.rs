@@ -274,9 +274,16 @@ pub fn symbol(name: &str) -> &str {
     }
 }
 
-/// Describes a breakdown rule in words.
+/// Describes a breakdown rule in words (`x`: the sweep's abscissa; a breakdown read against
+/// another abscissa, NPSH, says so).
 pub fn breakdown_rule(b: &crate::assess::sweep::BreakdownResult, x: &str) -> String {
     use crate::sweep::ReferenceKind;
+    let against = if b.abscissa == x {
+        String::new()
+    } else {
+        format!(", read against {}", symbol(&b.abscissa))
+    };
+    let x = b.abscissa.as_str();
     let drop = if b.relative {
         format!("{} drop", percent(b.drop))
     } else {
@@ -289,7 +296,7 @@ pub fn breakdown_rule(b: &crate::assess::sweep::BreakdownResult, x: &str) -> Str
         ReferenceKind::Highest => format!("the value at the highest {}", symbol(x)),
         ReferenceKind::Value(v) => format!("the given value {}", num(v, 8)),
     };
-    format!("{drop} of {} below {reference}", b.response)
+    format!("{drop} of {} below {reference}{against}", b.response)
 }
 
 fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
@@ -309,7 +316,7 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
         out.push_str(&format!("\n  breakdown: {}\n", breakdown_rule(b, &s.x)));
         out.push_str(&format!(
             "    {}_b = {}\n",
-            symbol(&s.x),
+            symbol(&b.abscissa),
             statement(&b.x_estimate)
         ));
         out.push_str(&format!(
@@ -321,7 +328,7 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
             "mesh",
             "reference",
             "threshold",
-            &format!("breakdown {}", s.x),
+            &format!("breakdown {}", b.abscissa),
         ]);
         for m in &b.per_mesh {
             t.add_row(vec![

@@ -11,6 +11,7 @@ pub mod num;
 pub mod raw;
 pub mod reach;
 pub mod reference;
+pub mod scale;
 pub mod sweep;
 
 use crate::grid::{self, GridError, Mesh, MeshSpec, SizeBasis};
@@ -666,6 +667,8 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
                 *slot = own.get(&m.name).map(|v| v.0.abs());
             }
         }
+        let names: Vec<String> = meshes.iter().map(|m| m.name.clone()).collect();
+        scale::check_quantity(qname, q.unit.as_deref(), &values, &names, &at)?;
         quantities.push(Quantity {
             name: qname.clone(),
             unit: q.unit.clone(),

@@ -5,7 +5,7 @@
 use super::num::{Finite, NonNegativeOrPercent};
 use super::StudyError;
 use crate::machine::{self, Mode, RawPoint};
-use crate::sweep::{DropRule, Interpolation, ReferenceKind};
+use crate::sweep::{DropRule, Interpolation, Persistence, ReferenceKind};
 use indexmap::IndexMap;
 use serde::de::{self, Deserializer, MapAccess, SeqAccess, Visitor};
 use serde::Deserialize;
@@ -188,6 +188,20 @@ impl<'de> Deserialize<'de> for ReferenceChoice {
     }
 }
 
+/// What a breakdown is read against.
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize, schemars::JsonSchema,
+)]
+#[serde(rename_all = "snake_case")]
+pub enum Abscissa {
+    /// The sweep's abscissa `x` (default).
+    #[default]
+    X,
+    /// The NPSH of every point, m: from the raw monitors (`mode`), from an `npsh` response, or
+    /// σ·H from `x: sigma` and a `head` response. NPSH3 (a 3 % head drop) is defined on it.
+    Npsh,
+}
+
 /// One breakdown definition as written.
 #[derive(Debug, Deserialize, schemars::JsonSchema)]
 #[serde(deny_unknown_fields)]
@@ -206,6 +220,16 @@ pub struct RawBreakdown {
     /// Lower end of the plateau, for `reference: plateau`.
     #[serde(default)]
     pub plateau_from: Option<Finite>,
+    /// Consecutive points that must lie below the threshold for a crossing to be breakdown
+    /// (default 2; 1 takes the first point below).
+    #[serde(default)]
+    pub confirm_points: Option<u32>,
+    /// Span of the abscissa those points must cover (default 0: none).
+    #[serde(default)]
+    pub confirm_span: Option<Finite>,
+    /// What breakdown is read against: `x` (default) or `npsh`.
+    #[serde(default)]
+    pub abscissa: Option<Abscissa>,
 }
 
 /// Where the band is evaluated.
@@ -276,6 +300,10 @@ pub struct Curve {
     /// Derived columns when the sweep gives raw monitors (head, efficiency, npsh, sigma and
     /// the vapour pressure and density used), aligned with `x`.
     pub derived: Option<Vec<machine::DerivedPoint>>,
+    /// NPSH of every point \[m\], aligned with `x`, when a breakdown is read against it.
+    pub npsh: Option<Vec<f64>>,
+    /// Where each point was given (`line 12 of sweeps/L1.csv`, `point 3`), aligned with `x`.
+    pub labels: Vec<String>,
 }
 
 /// A checked breakdown definition.
@@ -289,6 +317,10 @@ pub struct BreakdownSpec {
     pub drop: DropRule,
     /// The non-cavitating reference.
     pub reference: ReferenceKind,
+    /// How long the response must stay below the threshold.
+    pub persistence: Persistence,
+    /// What breakdown is read against.
+    pub abscissa: Abscissa,
 }
 
 /// A checked band definition.
@@ -329,6 +361,14 @@ pub struct Sweep {
 
 type Ctx<'a> = super::At<'a>;
 
+/// The needed columns of a CSV file, with the line of every row and the field number of every
+/// column (0-based, as in the header row).
+struct CsvColumns {
+    cols: IndexMap<String, Vec<f64>>,
+    lines: Vec<usize>,
+    fields: Vec<usize>,
+}
+
 /// Reads the needed numeric columns of a CSV file. Errors name the CSV file, its line and the
 /// column.
 fn read_csv(
@@ -336,7 +376,7 @@ fn read_csv(
     needed: &[String],
     key: &str,
     ctx: &Ctx,
-) -> Result<IndexMap<String, Vec<f64>>, StudyError> {
+) -> Result<CsvColumns, StudyError> {
     let data_err = |message: String| StudyError {
         file: path.to_path_buf(),
         key: String::new(),
@@ -384,6 +424,7 @@ fn read_csv(
         }
     }
     let mut cols: Vec<Vec<f64>> = vec![Vec::new(); needed.len()];
+    let mut lines = Vec::new();
     let mut rec = csv::StringRecord::new();
     loop {
         let more = rdr.read_record(&mut rec).map_err(unreadable)?;
@@ -391,6 +432,7 @@ fn read_csv(
             break;
         }
         let line = rec.position().map(|p| p.line() as usize);
+        lines.push(line.unwrap_or(0));
         if cols[0].len() >= MAX_POINTS {
             return Err(StudyError {
                 line,
@@ -422,7 +464,196 @@ fn read_csv(
             cols[k].push(v);
         }
     }
-    Ok(needed.iter().cloned().zip(cols).collect())
+    Ok(CsvColumns {
+        cols: needed.iter().cloned().zip(cols).collect(),
+        lines,
+        fields: idx,
+    })
+}
+
+/// The 1-based character column at which field `field` (0-based) starts on line `line` of a
+/// CSV file (leading blanks skipped, as the reader trims them), read again only to place an
+/// error; `None` when the line cannot be read or has fewer fields.
+fn csv_column(path: &Path, line: usize, field: usize) -> Option<usize> {
+    use std::io::BufRead;
+    let file = crate::input::open_regular(path).ok()?;
+    let reader = std::io::BufReader::new(super::csv_input::Bounded::new(file));
+    let bytes = reader.split(b'\n').nth(line.checked_sub(1)?)?.ok()?;
+    let text = String::from_utf8_lossy(&bytes);
+    let mut k = 0;
+    let mut quoted = false;
+    let mut start = true;
+    for (col, c) in text.chars().enumerate() {
+        if k == field && start && !c.is_whitespace() {
+            return Some(col + 1);
+        }
+        match c {
+            '"' => quoted = !quoted,
+            ',' if !quoted => {
+                k += 1;
+                start = true;
+                continue;
+            }
+            _ => {}
+        }
+        if !c.is_whitespace() {
+            start = false;
+        }
+    }
+    None
+}
+
+/// Where one point of a mesh's data was given, for messages.
+struct Source<'a> {
+    /// The mesh.
+    mesh: &'a str,
+    /// `sweeps.<name>.data.<mesh>`.
+    key: String,
+    /// The CSV file, its row lines and the field number of each column; `None` for inline data.
+    csv: Option<(PathBuf, Vec<usize>, IndexMap<String, usize>)>,
+}
+
+impl Source<'_> {
+    /// `line 12` of a CSV file, `point 3` of inline data (rows counted from 1).
+    fn label(&self, row: usize) -> String {
+        match &self.csv {
+            Some((_, lines, _)) => format!("line {}", lines.get(row).copied().unwrap_or(0)),
+            None => format!("point {}", row + 1),
+        }
+    }
+
+    /// An error at one row (0-based, as recorded) of column `column` (`None`: a derived
+    /// column, placed at the row only).
+    fn err(&self, ctx: &Ctx, row: usize, column: Option<&str>, message: String) -> StudyError {
+        match &self.csv {
+            Some((path, lines, fields)) => {
+                let line = lines.get(row).copied();
+                let col = match (line, column.and_then(|c| fields.get(c))) {
+                    (Some(l), Some(&f)) => csv_column(path, l, f),
+                    _ => None,
+                };
+                StudyError {
+                    file: path.clone(),
+                    key: String::new(),
+                    line,
+                    column: col,
+                    message: format!(
+                        "mesh `{}`: {message} (named by {} at {}.file)",
+                        self.mesh,
+                        ctx.file.display(),
+                        self.key
+                    ),
+                }
+            }
+            None => {
+                let key = match column {
+                    Some(c) => format!("{}.{c}[{row}]", self.key),
+                    None => self.key.clone(),
+                };
+                ctx.err(key, format!("mesh `{}`: {message}", self.mesh))
+            }
+        }
+    }
+}
+
+/// Checks that `v` (one mesh's abscissa, as recorded) runs one way, strictly increasing or
+/// strictly decreasing. Returns the 0-based index of the turning point and the rows after it
+/// that run back, when it does not.
+pub fn fold(v: &[f64]) -> Option<(usize, Vec<usize>)> {
+    let step = |i: usize| v[i + 1].total_cmp(&v[i]);
+    if v.len() < 3 {
+        return None;
+    }
+    let dir = step(0);
+    let turn = (1..v.len() - 1).find(|&i| step(i) != dir)?;
+    let back = step(turn);
+    let mut rows = vec![turn + 1];
+    let mut i = turn + 1;
+    while i + 1 < v.len() && step(i) == back {
+        rows.push(i + 1);
+        i += 1;
+    }
+    Some((turn, rows))
+}
+
+/// `lines 20–22`, `point 5` or `points 3, 7–9` (at most eight runs named): `rows` are 0-based
+/// row indices, ascending.
+fn row_list(src: &Source, rows: &[usize]) -> String {
+    let number = |r: usize| match &src.csv {
+        Some((_, lines, _)) => lines.get(r).copied().unwrap_or(0),
+        None => r + 1,
+    };
+    let mut runs: Vec<(usize, usize)> = Vec::new();
+    for &r in rows {
+        match runs.last_mut() {
+            Some((_, last)) if *last + 1 == r => *last = r,
+            _ => runs.push((r, r)),
+        }
+    }
+    let kind = match (&src.csv, rows.len()) {
+        (Some(_), 1) => "line",
+        (Some(_), _) => "lines",
+        (None, 1) => "point",
+        (None, _) => "points",
+    };
+    let mut parts: Vec<String> = runs
+        .iter()
+        .take(8)
+        .map(|&(a, b)| {
+            if a == b {
+                number(a).to_string()
+            } else {
+                format!("{}–{}", number(a), number(b))
+            }
+        })
+        .collect();
+    if runs.len() > 8 {
+        parts.push(format!("{} more", runs.len() - 8));
+    }
+    format!("{kind} {}", parts.join(", "))
+}
+
+/// Refuses an abscissa that is not monotone along the sweep as recorded.
+fn refuse_fold(
+    src: &Source,
+    ctx: &Ctx,
+    name: &str,
+    column: Option<&str>,
+    v: &[f64],
+) -> Result<(), StudyError> {
+    let Some((turn, rows)) = fold(v) else {
+        return Ok(());
+    };
+    let first = rows.first().copied().unwrap_or(turn);
+    let (went, back) = if v[1] > v[0] {
+        ("rises", "falls")
+    } else {
+        ("falls", "rises")
+    };
+    Err(src.err(
+        ctx,
+        first,
+        column,
+        format!(
+            "`{name}` is not monotone along the sweep as recorded: it {went} from {} ({}) to {} ({}) and {back} again at {} ({}); a sweep that folds back (σ turning at deep breakdown) cannot be read as one curve of `{name}` and is not re-sorted: end the sweep at the turn, or sweep against an abscissa that keeps running one way (`x: npsh`, recorded or derived from raw monitors)",
+            crate::sweep::fmt_num(v[0]),
+            src.label(0),
+            crate::sweep::fmt_num(v[turn]),
+            src.label(turn),
+            row_list(src, &rows),
+            {
+                let mut shown: Vec<String> = rows
+                    .iter()
+                    .take(4)
+                    .map(|&r| crate::sweep::fmt_num(v[r]))
+                    .collect();
+                if rows.len() > 4 {
+                    shown.push(format!("… {}", crate::sweep::fmt_num(v[rows[rows.len() - 1]])));
+                }
+                shown.join(", ")
+            },
+        ),
+    ))
 }
 
 /// Checks every sweep. `mesh_names` are the study's meshes, finest first.
@@ -483,19 +714,48 @@ pub fn check(
                 ));
             }
         }
+        // Where the NPSH comes from when a breakdown is read against it.
+        let npsh_from_sigma_head = match s
+            .breakdown
+            .iter()
+            .position(|b| b.abscissa == Some(Abscissa::Npsh))
+        {
+            None => None,
+            Some(_)
+                if s.mode.is_some() || s.x == "npsh" || s.responses.iter().any(|r| r == "npsh") =>
+            {
+                Some(false)
+            }
+            Some(_) if s.x == "sigma" && s.responses.iter().any(|r| r == "head") => Some(true),
+            Some(i) => {
+                return Err(ctx.err(
+                    format!("sweeps.{name}.breakdown[{i}].abscissa"),
+                    "`npsh` needs the NPSH of every point: give raw monitors (`mode`), list `npsh` among the responses, or sweep `x: sigma` with `head` among the responses (NPSH = σ·H)".into(),
+                ))
+            }
+        };
+        let derived_name = |c: &str| s.mode.is_some() && DERIVED_COLUMNS.contains(&c);
         let mut mesh_indices = Vec::new();
         let mut curves = Vec::new();
+        let mut recorded: Vec<(Source, Vec<Vec<f64>>)> = Vec::new();
         for (mi, mname) in mesh_names.iter().enumerate() {
             let Some(d) = s.data.get(mname) else { continue };
             let key = at(&format!("data.{mname}"));
+            let mut src = Source {
+                mesh: mname,
+                key: key.clone(),
+                csv: None,
+            };
             let cols = if let Some(f) = &d.file {
                 let p = base.join(f);
                 reach
                     .read(f, &p)
                     .map_err(|m| ctx.err(format!("{key}.file"), m))?;
                 let c = read_csv(&p, &wanted, &format!("{key}.file"), ctx)?;
-                files_read.push(p);
-                c
+                files_read.push(p.clone());
+                let fields = wanted.iter().cloned().zip(c.fields).collect();
+                src.csv = Some((p, c.lines, fields));
+                c.cols
             } else {
                 let mut c = IndexMap::new();
                 for w in &wanted {
@@ -578,6 +838,32 @@ pub fn check(
                     )));
                 }
             }
+            // The abscissa must run one way as recorded (reversed is fine): a fold is refused,
+            // never re-sorted.
+            let x_column = (!derived_name(&s.x)).then_some(s.x.as_str());
+            refuse_fold(&src, ctx, &s.x, x_column, &x)?;
+            let npsh = match npsh_from_sigma_head {
+                None => None,
+                Some(product) => {
+                    let v: Vec<f64> = if product {
+                        let h = column("head");
+                        x.iter().zip(&h).map(|(sigma, h)| sigma * h).collect()
+                    } else {
+                        column("npsh")
+                    };
+                    if let Some(bad) = v.iter().position(|n| !n.is_finite()) {
+                        return Err(src.err(
+                            ctx,
+                            bad,
+                            None,
+                            "the NPSH σ·H of this point is not a finite number".into(),
+                        ));
+                    }
+                    let col = (!product && !derived_name("npsh")).then_some("npsh");
+                    refuse_fold(&src, ctx, "npsh", col, &v)?;
+                    Some(v)
+                }
+            };
             curves.push(Curve {
                 mesh: mname.clone(),
                 x: order.iter().map(|&i| x[i]).collect(),
@@ -586,8 +872,37 @@ pub fn check(
                     .map(|y| order.iter().map(|&i| y[i]).collect())
                     .collect(),
                 derived: derived.map(|d| order.iter().map(|&i| d[i]).collect()),
+                npsh: npsh.map(|v| order.iter().map(|&i| v[i]).collect()),
+                labels: order.iter().map(|&i| src.label(i)).collect(),
             });
+            recorded.push((src, ys));
             mesh_indices.push(mi);
+        }
+        // A response whose values mix percent and fractions is refused at the first odd value
+        // (derived responses are computed, never typed).
+        for (ri, r) in s.responses.iter().enumerate() {
+            if derived_name(r) {
+                continue;
+            }
+            let mut values = Vec::new();
+            let mut at_row = Vec::new();
+            let mut labels = Vec::new();
+            for (k, (src, ys)) in recorded.iter().enumerate() {
+                for (row, v) in ys[ri].iter().enumerate() {
+                    values.push(*v);
+                    at_row.push((k, row));
+                    labels.push(format!("{} {}", src.mesh, src.label(row)));
+                }
+            }
+            if let Some(mix) = super::scale::mixed_scale(&values, r, None) {
+                let first = mix.odd().first().copied().unwrap_or(0);
+                let (k, row) = at_row[first];
+                let message = format!(
+                    "response `{r}`: {}",
+                    super::scale::describe(&mix, &values, &labels)
+                );
+                return Err(recorded[k].0.err(ctx, row, Some(r), message));
+            }
         }
         if curves.len() < 3 {
             return Err(ctx.err(
@@ -652,7 +967,27 @@ pub fn check(
                     "`reference: plateau` needs `plateau_from`, the lowest x of the plateau".into(),
                 ));
             }
+            let points = b.confirm_points.unwrap_or(2);
+            if points == 0 {
+                return Err(ctx.err(
+                    format!("{k}.confirm_points"),
+                    "expected a count of 1 or more (1 takes the first point below the threshold)"
+                        .into(),
+                ));
+            }
+            let span = b.confirm_span.map_or(0.0, |v| v.0);
+            if span < 0.0 {
+                return Err(ctx.err(
+                    format!("{k}.confirm_span"),
+                    format!("expected a span of 0 or more in the abscissa's unit, found {span}"),
+                ));
+            }
             breakdown.push(BreakdownSpec {
+                persistence: Persistence {
+                    points: points as usize,
+                    span,
+                },
+                abscissa: b.abscissa.unwrap_or_default(),
                 response: b.response.clone(),
                 response_index: ri,
                 drop: match basis {
@@ -694,4 +1029,27 @@ pub fn check(
         });
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::fold;
+
+    // Source: the definition of a monotone sequence (analytic): strictly falling or rising runs
+    // pass, a reversed order passes, a turn is found with the rows that run back.
+    #[test]
+    fn folds_are_found_with_their_rows() {
+        assert_eq!(fold(&[0.4, 0.3, 0.2, 0.15, 0.124]), None);
+        assert_eq!(fold(&[0.124, 0.15, 0.2, 0.3, 0.4]), None);
+        assert_eq!(fold(&[0.4, 0.3]), None);
+        // σ falls to 0.124 (index 4) and rises again at indices 5 and 6.
+        assert_eq!(
+            fold(&[0.4, 0.3, 0.2, 0.15, 0.124, 0.126, 0.129]),
+            Some((4, vec![5, 6]))
+        );
+        // A turn followed by a second turn: only the run back is named.
+        assert_eq!(fold(&[0.4, 0.3, 0.35, 0.1]), Some((1, vec![2])));
+        // A shuffled order is a fold too (the order as recorded must run one way).
+        assert_eq!(fold(&[0.2, 0.5, 0.1, 0.3]), Some((1, vec![2])));
+    }
 }

@@ -18,6 +18,15 @@
 //! breakdown x is the same. Negative drops are refused rather than reinterpreted, so that a
 //! sign slip in an input cannot turn into a plausible-looking σ.
 //!
+//! **Persistence.** A crossing counts only when the response stays below the threshold: the
+//! run of consecutive points below it, from the first one down, must hold at least
+//! [`Persistence::points`] points and cover an x span of at least [`Persistence::span`]
+//! (defaults: 2 points, no span; common practice, no source). A run that comes back to or
+//! above the threshold before that is a *dip*: it is passed over and reported in
+//! [`Breakdown::ignored_dips`], and the scan goes on below it. A run that reaches the lowest
+//! x of the sweep before it is long enough is taken (nothing shows a recovery), with
+//! [`Breakdown::confirmed`] `false`, for the caller to warn.
+//!
 //! The crossing x is solved on the interpolant, inside the interval between the last point
 //! at or above the threshold and the first point below it, by bisection to 1e-12 relative
 //! (or until the interval is two neighbouring floating-point numbers). Each PCHIP piece is
@@ -56,8 +65,38 @@ pub enum ReferenceKind {
     Value(f64),
 }
 
+/// How long the response must stay below the threshold for a crossing to be breakdown.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Persistence {
+    /// Consecutive points below the threshold, the first one included (at least 1; 1 takes
+    /// the first point below, as without a persistence rule).
+    pub points: usize,
+    /// Span of x those points must cover, from the first point below to the last one of the
+    /// run (0: no span asked).
+    pub span: f64,
+}
+
+impl Default for Persistence {
+    /// Two points, no span (common practice, no source).
+    fn default() -> Self {
+        Persistence {
+            points: 2,
+            span: 0.0,
+        }
+    }
+}
+
+/// Points that fell below the threshold and came back before the persistence rule was met.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Dip {
+    /// The x values of the points below the threshold, highest first.
+    pub x: Vec<f64>,
+    /// The lowest response among them.
+    pub lowest: f64,
+}
+
 /// Where the response broke down.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Breakdown {
     /// The breakdown x: where the curve crosses the threshold.
     pub x: f64,
@@ -70,6 +109,13 @@ pub struct Breakdown {
     /// The two neighbouring sweep x values that bracket the crossing: `(below, at_or_above)`
     /// — the first point below the threshold and the last one at or above it.
     pub bracket: (f64, f64),
+    /// Points below the threshold in the run that set breakdown (from the first one down).
+    pub points_below: usize,
+    /// `false` when the run reached the lowest x of the sweep before it met the persistence
+    /// rule: breakdown is taken there, unconfirmed.
+    pub confirmed: bool,
+    /// Dips above the breakdown that came back above the threshold (highest x first).
+    pub ignored_dips: Vec<Dip>,
 }
 
 /// Why no breakdown could be read.
@@ -85,6 +131,19 @@ pub enum BreakdownError {
     /// The reference cannot be formed or used.
     #[error("{0}")]
     InvalidReference(String),
+    /// The persistence rule is not a count ≥ 1 and a finite span ≥ 0.
+    #[error("{0}")]
+    InvalidPersistence(String),
+    /// The response falls below the threshold only in dips that come back.
+    #[error("{}", dips_text(.dips, *.threshold, .persistence))]
+    OnlyDips {
+        /// The dips, highest x first.
+        dips: Vec<Dip>,
+        /// The threshold.
+        threshold: f64,
+        /// The rule they did not meet.
+        persistence: Persistence,
+    },
     /// No point lies on the plateau.
     #[error("no sweep point lies on the plateau x >= {}: the highest x is {}; lower the plateau start or extend the sweep to higher x", fmt_num(*.from), fmt_num(*.highest_x))]
     NoPlateauPoints {
@@ -120,6 +179,50 @@ pub enum BreakdownError {
     },
 }
 
+/// `x = 0.16 (1 point)` or `x = 0.16 to 0.15 (2 points)` for each dip.
+pub fn dip_list(dips: &[Dip]) -> String {
+    dips.iter()
+        .map(|d| {
+            let first = d.x.first().copied().unwrap_or(f64::NAN);
+            let last = d.x.last().copied().unwrap_or(f64::NAN);
+            if d.x.len() == 1 {
+                format!("x = {} (1 point)", fmt_num(first))
+            } else {
+                format!(
+                    "x = {} to {} ({} points)",
+                    fmt_num(first),
+                    fmt_num(last),
+                    d.x.len()
+                )
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// The rule in words: `2 consecutive points` or `2 consecutive points over an x span of 0.01`.
+pub fn persistence_text(p: &Persistence) -> String {
+    let pts = if p.points == 1 {
+        "1 point".to_string()
+    } else {
+        format!("{} consecutive points", p.points)
+    };
+    if p.span > 0.0 {
+        format!("{pts} over an x span of at least {}", fmt_num(p.span))
+    } else {
+        pts
+    }
+}
+
+fn dips_text(dips: &[Dip], threshold: f64, p: &Persistence) -> String {
+    format!(
+        "no breakdown: the response falls below the threshold {} only in dips that come back above it ({}); breakdown needs {} below the threshold; extend the sweep to lower x or check those points",
+        fmt_num(threshold),
+        dip_list(dips),
+        persistence_text(p)
+    )
+}
+
 fn no_crossing_text(lowest_x: f64, largest_drop: f64, reference: f64, threshold: f64) -> String {
     let seen = if largest_drop > 0.0 {
         let fraction = if reference.abs() > 0.0 {
@@ -145,18 +248,11 @@ fn no_crossing_text(lowest_x: f64, largest_drop: f64, reference: f64, threshold:
     )
 }
 
-/// Reads the breakdown x of the sweep `(x[i], y[i])` (points in any order).
-///
-/// Forms the reference, puts the threshold `drop` below it (`reference·(1 − f)` for a
-/// relative drop, `reference − d` for an absolute one), scans the points from the highest x
-/// downward, and solves for the x at which the `kind` interpolant meets the threshold in the
-/// interval of the first point that lies strictly below it.
+/// Reads the breakdown x of the sweep `(x[i], y[i])` (points in any order) with the default
+/// [`Persistence`] (two consecutive points below the threshold); see [`find_breakdown_with`].
 ///
 /// # Errors
-/// [`BreakdownError`] when the points cannot be interpolated, the drop or reference is
-/// invalid, no point lies on the plateau, the highest-x point is already below the threshold,
-/// or the response never falls below the threshold ([`BreakdownError::NoCrossing`], whose
-/// message gives the lowest x reached and the largest drop seen).
+/// As [`find_breakdown_with`].
 pub fn find_breakdown(
     x: &[f64],
     y: &[f64],
@@ -164,6 +260,37 @@ pub fn find_breakdown(
     drop: &DropRule,
     kind: Interpolation,
 ) -> Result<Breakdown, BreakdownError> {
+    find_breakdown_with(x, y, reference, drop, kind, &Persistence::default())
+}
+
+/// Reads the breakdown x of the sweep `(x[i], y[i])` (points in any order).
+///
+/// Forms the reference, puts the threshold `drop` below it (`reference·(1 − f)` for a
+/// relative drop, `reference − d` for an absolute one), scans the points from the highest x
+/// downward, and solves for the x at which the `kind` interpolant meets the threshold in the
+/// interval of the first point that lies strictly below it and starts a run that meets
+/// `persist` (dips that come back are passed over).
+///
+/// # Errors
+/// [`BreakdownError`] when the points cannot be interpolated, the drop or reference is
+/// invalid, no point lies on the plateau, the highest-x point is already below the threshold,
+/// or the response never falls below the threshold ([`BreakdownError::NoCrossing`], whose
+/// message gives the lowest x reached and the largest drop seen), or falls below it only
+/// in dips that come back ([`BreakdownError::OnlyDips`]).
+pub fn find_breakdown_with(
+    x: &[f64],
+    y: &[f64],
+    reference: &ReferenceKind,
+    drop: &DropRule,
+    kind: Interpolation,
+    persist: &Persistence,
+) -> Result<Breakdown, BreakdownError> {
+    if persist.points == 0 || !(persist.span.is_finite() && persist.span >= 0.0) {
+        return Err(BreakdownError::InvalidPersistence(format!(
+            "the persistence rule needs at least 1 point and a finite span of 0 or more, got {} points and a span of {}",
+            persist.points, persist.span
+        )));
+    }
     let curve = Interpolant::new(x, y, kind)?;
     let xs = curve.knots_x();
     let ys = curve.knots_y();
@@ -244,15 +371,48 @@ pub fn find_breakdown(
         });
     }
 
-    // Scan from the highest x downward for the first point below the threshold.
-    let Some(below) = (0..ys.len()).rev().find(|&i| ys[i] < threshold) else {
-        let lowest_y = ys.iter().copied().fold(f64::INFINITY, f64::min);
-        return Err(BreakdownError::NoCrossing {
-            lowest_x,
-            largest_drop: reference - lowest_y,
-            reference,
-            threshold,
+    // Scan from the highest x downward for the first run of points below the threshold that
+    // meets the persistence rule; shorter runs that come back are dips.
+    let mut dips = Vec::new();
+    let mut top = ys.len();
+    let (below, run_end, confirmed) = loop {
+        let Some(below) = (0..top).rev().find(|&i| ys[i] < threshold) else {
+            if !dips.is_empty() {
+                return Err(BreakdownError::OnlyDips {
+                    dips,
+                    threshold,
+                    persistence: *persist,
+                });
+            }
+            let lowest_y = ys.iter().copied().fold(f64::INFINITY, f64::min);
+            return Err(BreakdownError::NoCrossing {
+                lowest_x,
+                largest_drop: reference - lowest_y,
+                reference,
+                threshold,
+            });
+        };
+        // The run: `end..=below`, every point below the threshold.
+        let mut end = below;
+        while end > 0 && ys[end - 1] < threshold {
+            end -= 1;
+        }
+        let count = below - end + 1;
+        let span = xs[below] - xs[end];
+        if count >= persist.points && span >= persist.span {
+            break (below, end, true);
+        }
+        if end == 0 {
+            break (below, end, false);
+        }
+        dips.push(Dip {
+            x: (end..=below).rev().map(|i| xs[i]).collect(),
+            lowest: ys[end..=below]
+                .iter()
+                .copied()
+                .fold(f64::INFINITY, f64::min),
         });
+        top = end;
     };
     // `below` is not the last index (the top point is at or above the threshold), so the
     // interval `below` reaches the point above it.
@@ -271,6 +431,9 @@ pub fn find_breakdown(
         threshold,
         points_in_plateau,
         bracket: (a, b),
+        points_below: below - run_end + 1,
+        confirmed,
+        ignored_dips: dips,
     })
 }
 
@@ -559,5 +722,136 @@ mod tests {
         ));
         assert_eq!(a, b);
         assert_eq!(a.points_in_plateau, Some(2));
+    }
+
+    // Source: manufactured data, analytic crossing with linear interpolation. A plateau of
+    // 0.9 and a straight fall y = 0.9 − 2·(0.2 − x) below x = 0.2; one noisy point at
+    // x = 0.35 dips to 0.88 (below the 1 % threshold 0.891) and the curve comes back. The
+    // persistence rule (2 points, the default) passes over the dip; breakdown is the crossing
+    // of the fall: 0.9 − 2·(0.2 − x) = 0.891 → x = 0.2 − 0.0045 = 0.1955.
+    #[test]
+    fn one_noisy_dip_does_not_set_breakdown() {
+        let x = [0.5, 0.4, 0.35, 0.3, 0.2, 0.15, 0.1];
+        let y = [0.9, 0.9, 0.88, 0.9, 0.9, 0.8, 0.7];
+        let b = ok(find_breakdown(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        ));
+        assert_relative_eq!(b.x, 0.1955, max_relative = 1e-12);
+        assert_eq!(b.bracket, (0.15, 0.2));
+        assert!(b.confirmed);
+        assert_eq!(b.points_below, 2);
+        assert_eq!(
+            b.ignored_dips,
+            vec![Dip {
+                x: vec![0.35],
+                lowest: 0.88
+            }]
+        );
+        // Without persistence (1 point) the dip sets breakdown, as before the rule: the
+        // crossing between (0.35, 0.88) and (0.4, 0.9) at 0.35 + 0.05·0.011/0.02 = 0.3775.
+        let one = Persistence {
+            points: 1,
+            span: 0.0,
+        };
+        let b1 = ok(find_breakdown_with(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &one,
+        ));
+        assert_relative_eq!(b1.x, 0.3775, max_relative = 1e-12);
+        assert!(b1.ignored_dips.is_empty());
+        // Three points asked: the run at the end (0.15, 0.1) holds two, and the sweep ends
+        // there: breakdown at the same crossing, unconfirmed.
+        let three = Persistence {
+            points: 3,
+            span: 0.0,
+        };
+        let b3 = ok(find_breakdown_with(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &three,
+        ));
+        assert_relative_eq!(b3.x, 0.1955, max_relative = 1e-12);
+        assert!(!b3.confirmed);
+        assert_eq!(b3.points_below, 2);
+    }
+
+    // Source: manufactured data (analytic run lengths and spans). A two-point dip at 0.36 and
+    // 0.35 meets a 2-point rule but not a span of 0.02 (its span is 0.01); the final fall
+    // (0.15, 0.1, 0.05) spans 0.1.
+    #[test]
+    fn span_rule_and_dips_only() {
+        let x = [0.05, 0.1, 0.15, 0.2, 0.3, 0.35, 0.36, 0.4, 0.5];
+        let y = [0.6, 0.7, 0.8, 0.9, 0.9, 0.885, 0.88, 0.9, 0.9];
+        let rule = Persistence {
+            points: 2,
+            span: 0.02,
+        };
+        let b = ok(find_breakdown_with(
+            &x,
+            &y,
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &rule,
+        ));
+        assert_eq!(b.bracket, (0.15, 0.2));
+        assert_eq!(b.ignored_dips.len(), 1);
+        assert_eq!(b.ignored_dips[0].x, vec![0.36, 0.35]);
+        assert_eq!(b.points_below, 3);
+        // Without the final fall only the dip lies below: refused, the dip named.
+        let r = find_breakdown_with(
+            &x[3..],
+            &y[3..],
+            &ReferenceKind::Value(0.9),
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+            &rule,
+        );
+        assert!(matches!(r, Err(BreakdownError::OnlyDips { .. })), "{r:?}");
+        assert_eq!(
+            err_text(r),
+            "no breakdown: the response falls below the threshold 0.891 only in dips that come \
+             back above it (x = 0.36 to 0.35 (2 points)); breakdown needs 2 consecutive points \
+             over an x span of at least 0.02 below the threshold; extend the sweep to lower x \
+             or check those points"
+        );
+        // A rule of no points or a bad span is refused.
+        for bad in [
+            Persistence {
+                points: 0,
+                span: 0.0,
+            },
+            Persistence {
+                points: 2,
+                span: -0.1,
+            },
+            Persistence {
+                points: 2,
+                span: f64::NAN,
+            },
+        ] {
+            assert!(matches!(
+                find_breakdown_with(
+                    &x,
+                    &y,
+                    &ReferenceKind::Highest,
+                    &DropRule::Relative(0.01),
+                    Interpolation::Linear,
+                    &bad
+                ),
+                Err(BreakdownError::InvalidPersistence(_))
+            ));
+        }
     }
 }

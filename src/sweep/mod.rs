@@ -7,8 +7,10 @@
 //! - [`interp`]: an [`Interpolant`] through the points, either the monotone piecewise-cubic
 //!   Hermite interpolant of Fritsch & Carlson (1980, SIAM J. Numer. Anal. 17, 238–246) with
 //!   the same derivative choice as `scipy.interpolate.PchipInterpolator`, or piecewise-linear.
-//! - [`breakdown`]: [`find_breakdown`] reads the x at which the response first falls a set
-//!   amount below its non-cavitating reference, scanning from high x downward.
+//! - [`breakdown`]: [`find_breakdown_with`] reads the x at which the response first falls a
+//!   set amount below its non-cavitating reference and stays below it for a set number of
+//!   points or span of x ([`Persistence`]), scanning from high x downward; dips that come
+//!   back are passed over and reported.
 //! - [`overlap`] and [`common_abscissae`]: the common x values at which every mesh's curve can
 //!   be compared (each mesh's σ values differ, because σ depends on that mesh's head).
 //!
@@ -19,7 +21,10 @@
 pub mod breakdown;
 pub mod interp;
 
-pub use breakdown::{find_breakdown, Breakdown, BreakdownError, DropRule, ReferenceKind};
+pub use breakdown::{
+    find_breakdown, find_breakdown_with, Breakdown, BreakdownError, Dip, DropRule, Persistence,
+    ReferenceKind,
+};
 pub use interp::{Interpolant, Interpolation};
 
 /// Why a set of sweep points cannot be interpolated.
