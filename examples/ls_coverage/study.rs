@@ -36,6 +36,14 @@ impl Family {
         Family::TwoTerm(2.0, 3.0),
     ];
 
+    /// The formal order the study of this family would state.
+    pub fn formal_order(self) -> f64 {
+        match self {
+            Family::Power => 2.0,
+            Family::TwoTerm(p1, _) => p1,
+        }
+    }
+
     /// The label in the tables.
     pub fn label(self) -> String {
         match self {
@@ -66,10 +74,13 @@ impl Rules {
         }
     }
 
-    fn settings(self) -> LsSettings {
+    fn settings(self, formal_order: f64) -> LsSettings {
         match self {
             Rules::Published => LsSettings::published(),
-            Rules::Guarded => LsSettings::default(),
+            Rules::Guarded => LsSettings {
+                formal_order,
+                ..LsSettings::default()
+            },
         }
     }
 }
@@ -294,7 +305,15 @@ pub fn run(cases: usize, seed: u64) -> Study {
             let n = case.h.len();
             let results: Vec<Option<LeastSquares>> = Rules::ALL
                 .iter()
-                .map(|r| estimate(&names[..n], &case.h, &case.phi, &r.settings()).ok())
+                .map(|r| {
+                    estimate(
+                        &names[..n],
+                        &case.h,
+                        &case.phi,
+                        &r.settings(family.formal_order()),
+                    )
+                    .ok()
+                })
                 .collect();
             let range = order_range(results[0].as_ref());
             for (i, res) in results.iter().enumerate() {

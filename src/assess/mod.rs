@@ -231,7 +231,11 @@ pub fn quantity(
             warnings.push(w.about(name));
         }
         let hs: Vec<f64> = meshes[..n].iter().map(|m| m.size).collect();
-        match least_squares::estimate(&out.meshes, &hs, &values[..n], &LsSettings::default()) {
+        let ls_settings = LsSettings {
+            formal_order: settings.formal_order,
+            ..LsSettings::default()
+        };
+        match least_squares::estimate(&out.meshes, &hs, &values[..n], &ls_settings) {
             Ok(mut ls) => {
                 warnings.extend(ls.warnings.drain(..).map(|w| w.about(name)));
                 let ls_u = ls.per_mesh.first().map(|m| m.uncertainty);

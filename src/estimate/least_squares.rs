@@ -94,12 +94,18 @@ pub const WARN_LOW_ORDER: &str = "ls_low_order";
 /// Warning code: the order-2 floor (a project rule for free orders `p ≥ 2`) set the
 /// uncertainty of the finest mesh above the published rules' figure.
 pub const WARN_ORDER_TWO_FLOOR: &str = "ls_order_two_floor";
+/// Warning code: the formal-order floor (a project rule for formal orders below 2) set the
+/// uncertainty of the finest mesh above the published rules' figure.
+pub const WARN_FORMAL_ORDER_FLOOR: &str = "ls_formal_order_floor";
 
 /// The order-2 floor applies from this free order on (a project rule: the published rules
 /// switch to the second-order fits there, docs/method.md §5).
 pub const FLOOR_FROM_ORDER: f64 = 2.0;
 /// The order the floor assumes: the formal order the procedure's fixed-order fits stand for.
 pub const FLOOR_ORDER: f64 = 2.0;
+/// With a formal order below 2, the floor (at the formal order) applies from this free order
+/// on: every order the procedure accepts as converging (a project rule, docs/method.md §5).
+pub const FORMAL_FLOOR_FROM_ORDER: f64 = 0.5;
 
 /// Settings of the least-squares estimate.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -111,6 +117,9 @@ pub struct LsSettings {
     /// Whether the order-2 floor applies to free orders `p ≥ 2` (a project rule, see the
     /// module documentation). Off gives the published rules alone.
     pub guard: bool,
+    /// The formal order of the discretisation. Below 2 the floor assumes it instead of 2 and
+    /// applies from p ≥ [`FORMAL_FLOOR_FROM_ORDER`] (the formal-order floor, a project rule).
+    pub formal_order: f64,
 }
 
 impl Default for LsSettings {
@@ -121,6 +130,7 @@ impl Default for LsSettings {
             order_min: DEFAULT_ORDER_MIN,
             order_max: DEFAULT_ORDER_MAX,
             guard: true,
+            formal_order: FLOOR_ORDER,
         }
     }
 }
@@ -141,6 +151,9 @@ impl LsSettings {
 pub enum GuardRule {
     /// U at least the two-mesh Richardson estimate with order 2 and the procedure's `Fs`.
     OrderTwoFloor,
+    /// U at least the two-mesh Richardson estimate with the formal order (below 2) and the
+    /// procedure's `Fs`.
+    FormalOrderFloor,
 }
 
 impl GuardRule {
@@ -148,6 +161,7 @@ impl GuardRule {
     pub fn label(self) -> &'static str {
         match self {
             GuardRule::OrderTwoFloor => "order_two_floor",
+            GuardRule::FormalOrderFloor => "formal_order_floor",
         }
     }
 }
@@ -1172,17 +1186,27 @@ pub fn estimate(
     }
     let error_estimate = (scale * sel.solved.error(prep.x[0])).abs();
 
-    // The order-2 floor for p ≥ 2 (a project rule, docs/method.md §5).
-    let guard = if settings.guard && p >= FLOOR_FROM_ORDER {
-        let floors = order_two_floors(&prep, safety_factor);
+    // The order-2 floor for p ≥ 2, or the formal-order floor for p ≥ 0.5 when the formal order
+    // is below 2 (project rules, docs/method.md §5).
+    let (floor_order, floor_from, floor_rule) = if settings.formal_order < FLOOR_ORDER {
+        (
+            settings.formal_order,
+            FORMAL_FLOOR_FROM_ORDER,
+            GuardRule::FormalOrderFloor,
+        )
+    } else {
+        (FLOOR_ORDER, FLOOR_FROM_ORDER, GuardRule::OrderTwoFloor)
+    };
+    let guard = if settings.guard && p >= floor_from {
+        let floors = order_floors(&prep, safety_factor, floor_order);
         let published_uncertainty = per_mesh.first().map_or(0.0, |m| m.uncertainty);
         for (m, &f) in per_mesh.iter_mut().zip(&floors) {
             m.uncertainty = m.uncertainty.max(f);
         }
         let floor = floors.first().copied().unwrap_or(0.0);
         Some(OrderTwoFloor {
-            rule: GuardRule::OrderTwoFloor,
-            order: FLOOR_ORDER,
+            rule: floor_rule,
+            order: floor_order,
             safety_factor,
             floor,
             published_uncertainty,
@@ -1283,18 +1307,23 @@ pub fn estimate(
     }
 
     if let Some(g) = guard.as_ref().filter(|g| g.governs) {
+        let code = match g.rule {
+            GuardRule::OrderTwoFloor => WARN_ORDER_TWO_FLOOR,
+            GuardRule::FormalOrderFloor => WARN_FORMAL_ORDER_FLOOR,
+        };
         warnings.push(Warning::new(
-            WARN_ORDER_TWO_FLOOR,
+            code,
             format!(
-                "the fitted free order p = {p:.4} is at least {FLOOR_FROM_ORDER}: the \
+                "the fitted free order p = {p:.4} is at least {floor_from}: the \
                  uncertainty of the finest mesh was raised from {:.4e} (published rules, {} fit) \
                  to {:.4e}, the Richardson estimate of the two finest meshes with order {} and \
-                 Fs = {} (the order-2 floor, a project rule)",
+                 Fs = {} (the {}, a project rule)",
                 g.published_uncertainty,
                 sel.kind.label(),
                 g.floor,
                 g.order,
-                g.safety_factor
+                g.safety_factor,
+                g.rule.label().replace('_', " ")
             ),
         ));
     }
@@ -1330,20 +1359,29 @@ pub fn estimate(
 /// error of the finer mesh of the pair, the second `Fs` times that of the coarser one, since
 /// `r^q − 1 ≥ r² − 1` and `r^q/(r^q − 1) ≤ r²/(r² − 1)` (analytic). `r² − 1` is formed as
 /// `(r − 1)(r + 1)` to keep its digits when r is close to 1.
-fn order_two_floors(prep: &Prepared, fs: f64) -> Vec<f64> {
+///
+/// With another order q (the formal-order floor) the same holds for errors `α h^q'` with
+/// `q' ≥ q`: `r^q − 1` is formed as `expm1(q ln r)`.
+fn order_floors(prep: &Prepared, fs: f64, q: f64) -> Vec<f64> {
     let n = prep.n();
     let pair = |i: usize| -> (f64, f64) {
         let r = prep.x[i + 1] / prep.x[i];
         let diff = prep.scale * (prep.y[i + 1] - prep.y[i]).abs();
-        (r, diff / ((r - 1.0) * (r + 1.0)))
+        #[allow(clippy::float_cmp)] // exactly the order-2 form, kept bit for bit
+        let den = if q == FLOOR_ORDER {
+            (r - 1.0) * (r + 1.0)
+        } else {
+            (q * r.ln()).exp_m1()
+        };
+        (r.powf(q), diff / den)
     };
     (0..n)
         .map(|i| {
             if i + 1 < n {
                 fs * pair(i).1
             } else {
-                let (r, d) = pair(i - 1);
-                fs * r * r * d
+                let (rq, d) = pair(i - 1);
+                fs * rq * d
             }
         })
         .collect()

@@ -249,7 +249,11 @@ fn basis(q: &QuantityResult, method: Method) -> String {
                 };
                 match ls.guard.as_ref().filter(|g| g.governs) {
                     Some(g) => format!(
-                        "with U raised above the figure of {fit}{order} to the order-2 floor, the Richardson estimate of the two finest meshes with order {} and safety factor Fs = {fs}, and {class}",
+                        "with U raised above the figure of {fit}{order} to the {}, the Richardson estimate of the two finest meshes with order {} and safety factor Fs = {fs}, and {class}",
+                        match g.rule {
+                            crate::estimate::least_squares::GuardRule::OrderTwoFloor => "order-2 floor",
+                            crate::estimate::least_squares::GuardRule::FormalOrderFloor => "formal-order floor",
+                        },
                         num(g.order, 4)
                     ),
                     None => format!("with {fit}{order}, safety factor Fs = {fs} and {class}"),
