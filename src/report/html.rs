@@ -190,7 +190,8 @@ mod tests {
         ] {
             assert!(!page.contains(banned), "{banned}");
         }
-        assert_eq!(page.matches("<table>").count(), 5);
+        // meshes, results, breakdown summary and per mesh, band, the band's point warnings
+        assert_eq!(page.matches("<table>").count(), 6);
         assert!(page.contains(&escape(&a.caution)));
         assert!(page.contains("<title>Demo runner &amp; draft tube_test (invented) 100%</title>"));
     }
