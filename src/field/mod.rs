@@ -48,7 +48,10 @@
 //!
 //! # Summary (contract)
 //! Per column: the count of each convergence class; the mean and median observed order over the
-//! points that have one; the mean and largest relative uncertainty `U/|φ1|` over the points that
+//! points that have one and demonstrate convergence (`order_points` of them: an order on an end
+//! of the search, or a point below order 0.5 or with R = ε21/ε32 > 0.9, is left out, as in
+//! `assess::govern`); the warnings of the points per code with the ids of the first five
+//! (`point_warnings`, the codes of [`FIELD_CODES`]); the mean and largest relative uncertainty `U/|φ1|` over the points that
 //! have an uncertainty and a nonzero finest value (divergent points and points with φ1 = 0 are
 //! left out; no-change points count with 0), and the count of points whose uncertainty `U` or
 //! `U/|φ1|` overflows (`overflowed`: left out of the relative figures, they count as failures
