@@ -59,32 +59,30 @@ impl PointChecks {
     }
 
     /// Bit `1 << k` set for each code `FIELD_CODES[k]` the scalar estimate would raise at a
-    /// point with values `phi` (finest first) and fast estimate `e`.
+    /// point with values `phi` (finest first) and fast estimate `e`. The same tests as the
+    /// scalar path, written out without loops: this runs at every probe.
+    #[inline]
     pub fn codes(&self, e: &PointEstimate, phi: [f64; 3]) -> u16 {
-        let mut bits = 0u16;
-        let mut set = |k: usize| bits |= 1 << k;
         // Round-off exactly as the estimators decide it.
-        let scale = phi.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
+        let scale = phi[0].abs().max(phi[1].abs()).max(phi[2].abs());
         let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
-        let mut e21 = phi[1] - phi[0];
-        let mut e32 = phi[2] - phi[1];
-        if e21 != 0.0 && e21.abs() <= tiny {
-            e21 = 0.0;
-            set(C_ROUND_OFF);
-        }
-        if e32 != 0.0 && e32.abs() <= tiny {
-            e32 = 0.0;
-            set(C_ROUND_OFF);
-        }
+        let d21 = phi[1] - phi[0];
+        let d32 = phi[2] - phi[1];
+        let round21 = d21 != 0.0 && d21.abs() <= tiny;
+        let round32 = d32 != 0.0 && d32.abs() <= tiny;
+        let mut bits: u16 = if round21 || round32 {
+            1 << C_ROUND_OFF
+        } else {
+            0
+        };
+        let e21 = if round21 { 0.0 } else { d21 };
+        let e32 = if round32 { 0.0 } else { d32 };
         match e.convergence {
-            Convergence::NoChange => {
-                set(C_NO_CHANGE);
-                return bits;
-            }
-            Convergence::Divergent => set(C_DIV),
+            Convergence::NoChange => return bits | 1 << C_NO_CHANGE,
+            Convergence::Divergent => bits |= 1 << C_DIV,
             // The scalar estimate says `oscillatory` when it found an order (its message
             // compares the GCI with the half range); without one it says `order_not_found`.
-            Convergence::Oscillatory if e.observed_order.is_some() => set(C_OSC),
+            Convergence::Oscillatory if e.observed_order.is_some() => bits |= 1 << C_OSC,
             Convergence::Oscillatory | Convergence::Monotonic => {}
         }
         // assess::not_demonstrated on a three-mesh estimate: R = ε21/ε32 above the limit, an
@@ -93,30 +91,30 @@ impl PointChecks {
         match e.observed_order {
             Some(p) => {
                 if p >= self.order_max * (1.0 - 1e-9) || p <= SCAN_LO * (1.0 + 1e-9) {
-                    set(C_BOUND);
-                    nd = true;
-                }
-                if p < DEMONSTRATED_MIN_ORDER {
+                    bits |= 1 << C_BOUND;
                     nd = true;
                 }
                 let pf = self.formal_order;
+                if p < DEMONSTRATED_MIN_ORDER {
+                    nd = true;
+                }
                 if p < 0.5 {
-                    set(C_LOW);
+                    bits |= 1 << C_LOW;
                 } else if p > pf + 1.0 {
-                    set(C_HIGH);
+                    bits |= 1 << C_HIGH;
                 } else if ((p - pf) / pf).abs() > FORMAL_ORDER_TOLERANCE {
-                    set(C_FAR);
+                    bits |= 1 << C_FAR;
                 }
             }
-            None if e.convergence != Convergence::Divergent => set(C_NOT_FOUND),
+            None if e.convergence != Convergence::Divergent => bits |= 1 << C_NOT_FOUND,
             None => {}
         }
         if nd {
-            set(C_ND);
+            bits |= 1 << C_ND;
         }
         if let Some(u) = e.uncertainty {
             if phi[0].abs() < e21.abs().max(u) {
-                set(C_NEAR_ZERO);
+                bits |= 1 << C_NEAR_ZERO;
             }
         }
         bits
@@ -322,14 +320,13 @@ impl ColumnAcc {
             _ => {}
         }
         let codes = checks.codes(e, phi);
-        if codes != 0 {
-            for k in 0..FIELD_CODES.len() {
-                if codes & (1 << k) != 0 {
-                    self.code_n[k] += 1;
-                    if self.code_at[k].len() < LISTED {
-                        self.code_at[k].push(String::from_utf8_lossy(id).trim().to_string());
-                    }
-                }
+        let mut rest = codes;
+        while rest != 0 {
+            let k = rest.trailing_zeros() as usize;
+            rest &= rest - 1;
+            self.code_n[k] += 1;
+            if self.code_at[k].len() < LISTED {
+                self.code_at[k].push(String::from_utf8_lossy(id).trim().to_string());
             }
         }
         // Orders on a bound, not found or not demonstrated are left out of mean and median.
