@@ -275,6 +275,18 @@ impl FieldSummary {
     }
 }
 
+/// A probe id as listed in `point_warnings`: trimmed, at most 40 characters (longer ids are
+/// cut and end in `…`, as in the field's error messages), control characters shown as `�`. An
+/// id can be as long as a record (1 MiB): only its first bytes are read, so that a hostile file
+/// cannot make the summary hold large ids.
+fn listed_id(id: &[u8]) -> String {
+    let head = &id[..id.len().min(256)];
+    super::parse::shown(String::from_utf8_lossy(head).trim().as_bytes())
+        .chars()
+        .map(|c| if c.is_control() { '\u{fffd}' } else { c })
+        .collect()
+}
+
 #[derive(Debug, Clone, Default)]
 pub(super) struct ColumnAcc {
     pub(super) classes: ClassCounts,
@@ -326,7 +338,7 @@ impl ColumnAcc {
             rest &= rest - 1;
             self.code_n[k] += 1;
             if self.code_at[k].len() < LISTED {
-                self.code_at[k].push(String::from_utf8_lossy(id).trim().to_string());
+                self.code_at[k].push(listed_id(id));
             }
         }
         // Orders on a bound, not found or not demonstrated are left out of mean and median.
@@ -602,6 +614,16 @@ mod tests {
         );
         assert!(w.iter().any(|w| w.code == "field_point_warnings"
             && w.message.contains("order_low at 7 of 16 points")));
+    }
+
+    #[test]
+    fn listed_ids_are_short_and_printable() {
+        assert_eq!(listed_id(b"  p17 "), "p17");
+        let long = vec![b'a'; 1 << 20];
+        let l = listed_id(&long);
+        assert_eq!(l.chars().count(), 41);
+        assert!(l.ends_with('…'));
+        assert_eq!(listed_id(b"a\nb\x1b"), "a\u{fffd}b\u{fffd}");
     }
 
     #[test]
