@@ -4,7 +4,10 @@
 //! `<sweep>.reference.<response>` — and any of `max_relative`, `max_absolute`, `require` (a
 //! convergence class) and `min_meshes`. Each becomes one check. A divergent target has no
 //! uncertainty and so fails every uncertainty limit. A field column with points whose
-//! uncertainty overflows (see `ColumnSummary::overflowed`) fails every limit set on it.
+//! uncertainty overflows (see `ColumnSummary::overflowed`) fails every limit set on it, and so
+//! does a column with points whose convergence is not demonstrated (the
+//! `convergence_not_demonstrated` entry of `ColumnSummary::point_warnings`): their U is not
+//! quotable, so no figure over the column can be vouched for.
 
 use crate::assess::{Assessment, QuantityResult};
 use crate::study::raw::RawAcceptance;
@@ -44,6 +47,9 @@ pub enum Resolved<'a> {
         points: usize,
         /// Points whose uncertainty overflows (each limit on the column fails while any exist).
         overflowed: usize,
+        /// Points whose convergence is not demonstrated (each limit on the column fails while
+        /// any exist).
+        not_demonstrated: usize,
     },
 }
 
@@ -82,6 +88,7 @@ fn resolve_field<'a>(a: &'a Assessment, target: &str) -> Option<Resolved<'a>> {
         ],
         points: f.points as usize,
         overflowed: c.overflowed as usize,
+        not_demonstrated: c.not_demonstrated() as usize,
     })
 }
 
@@ -202,16 +209,25 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                 classes,
                 points,
                 overflowed,
+                not_demonstrated,
             } => {
-                // Points whose uncertainty overflows are failures, not points to leave out:
-                // every limit on the column fails while any exist, and says why.
-                let clear = overflowed == 0;
+                // Points whose uncertainty overflows, or whose convergence is not demonstrated,
+                // are failures, not points to leave out: every limit on the column fails while
+                // any exist, and says why.
+                let clear = overflowed == 0 && not_demonstrated == 0;
                 let overflow_note = || {
-                    (!clear).then(|| {
-                        format!(
+                    let mut why = Vec::new();
+                    if overflowed > 0 {
+                        why.push(format!(
                             "{overflowed} of {points} points have an uncertainty too large to represent (overflow); they count as failures"
-                        )
-                    })
+                        ));
+                    }
+                    if not_demonstrated > 0 {
+                        why.push(format!(
+                            "convergence not demonstrated at {not_demonstrated} of {points} points: their uncertainty is not quotable (see the field_points_not_demonstrated warning)"
+                        ));
+                    }
+                    (!why.is_empty()).then(|| why.join("; "))
                 };
                 if let Some(m) = l.max_relative {
                     out.push(mk(

@@ -56,6 +56,7 @@ pub mod grid;
 pub mod input;
 pub mod machine;
 pub mod plan;
+pub mod point_warnings;
 pub mod report;
 pub mod sink;
 pub mod study;

@@ -1,12 +1,15 @@
 //! Comparisons with measurements: the simulation value and its discretisation uncertainty at
 //! every measured point, then the V&V 20 comparison of [`crate::compare`].
 
+use super::sweep::{band_point_warnings, point_codes};
 use super::{quantity, QuantityResult, Role};
 use crate::compare::{compare, CompareSettings, Comparison, Measured, Simulated};
 use crate::estimate::three_grid::ThreeGridSettings;
+use crate::point_warnings::{self, PointWarning, Tally};
 use crate::study::reference::{AbsOrPercent, Reference, ReferenceTarget};
 use crate::study::{Study, StudyError};
 use crate::sweep::Interpolant;
+use crate::warning::Warning;
 use serde::Serialize;
 
 /// One comparison with its name and what it compares.
@@ -21,6 +24,18 @@ pub struct ComparisonResult {
     /// The comparison.
     #[serde(flatten)]
     pub comparison: Comparison,
+    /// For a sweep: the warnings of the pointwise estimates at the measured points, per code,
+    /// with how many points raised it and the first abscissae (empty for a scalar quantity,
+    /// whose own warnings are in the study's list).
+    pub point_warnings: Vec<PointWarning<f64>>,
+    /// For a sweep: the mean observed order of the pointwise estimates over the points whose
+    /// convergence is demonstrated (orders on a bound, not found or not demonstrated are left
+    /// out); `None` for a scalar quantity or when no point qualifies.
+    pub mean_order: Option<f64>,
+    /// The median observed order over the same points.
+    pub median_order: Option<f64>,
+    /// Number of points whose order enters the mean and the median (0 for a scalar quantity).
+    pub order_points: usize,
 }
 
 fn fail(study: &Study, r: &Reference, message: String) -> StudyError {
@@ -34,10 +49,14 @@ fn fail(study: &Study, r: &Reference, message: String) -> StudyError {
 }
 
 /// Runs every comparison of a study. `quantities` are the assessed quantities, in study order.
+/// The warnings of the pointwise estimates go into each comparison's `point_warnings`, and a
+/// summary line per comparison into `warnings` (`comparison_points_not_demonstrated`,
+/// `comparison_point_warnings`).
 pub fn run(
     study: &Study,
     quantities: &[QuantityResult],
     settings: &ThreeGridSettings,
+    warnings: &mut Vec<Warning>,
 ) -> Result<Vec<ComparisonResult>, StudyError> {
     let mut out = Vec::new();
     for r in &study.references {
@@ -74,6 +93,10 @@ pub fn run(
                     kind: "quantity",
                     response: None,
                     comparison: c,
+                    point_warnings: Vec::new(),
+                    mean_order: None,
+                    median_order: None,
+                    order_points: 0,
                 });
             }
             ReferenceTarget::Sweep(si, ri) => {
@@ -94,6 +117,8 @@ pub fn run(
                     .collect::<Result<_, _>>()
                     .map_err(|e| fail(study, r, e.to_string()))?;
                 let mut sim = Vec::with_capacity(meas.len());
+                let mut tally = Tally::default();
+                let mut orders = Vec::new();
                 for m in &meas {
                     let values: Option<Vec<f64>> = interps.iter().map(|f| f.eval(m.x)).collect();
                     let values = values.ok_or_else(|| {
@@ -106,7 +131,7 @@ pub fn run(
                             ),
                         )
                     })?;
-                    let mut ignored = Vec::new();
+                    let mut raised = Vec::new();
                     let q = quantity(
                         "",
                         Role::ComparisonPoint {
@@ -118,8 +143,13 @@ pub fn run(
                         &values,
                         settings,
                         study.settings.estimator,
-                        &mut ignored,
+                        &mut raised,
                     );
+                    let codes = point_codes(&q, &raised);
+                    tally.point(codes.iter().map(String::as_str), m.x);
+                    if let Some(g) = q.governing.as_ref().filter(|g| g.demonstrated) {
+                        orders.extend(g.order);
+                    }
                     sim.push(Simulated {
                         x: m.x,
                         value: values[0],
@@ -132,11 +162,23 @@ pub fn run(
                     .copied()
                     .fold(f64::NEG_INFINITY, f64::max);
                 let c = compare(&sim, &meas, peak, &cs).map_err(|e| fail(study, r, e))?;
+                let point_warnings = tally.finish();
+                warnings.extend(band_point_warnings(
+                    &point_warnings,
+                    meas.len(),
+                    &sw.x,
+                    &r.name,
+                    "comparison",
+                ));
                 out.push(ComparisonResult {
                     name: r.name.clone(),
                     kind: "sweep",
                     response: Some(sw.responses[ri].clone()),
                     comparison: c,
+                    point_warnings,
+                    mean_order: point_warnings::mean(&orders),
+                    order_points: orders.len(),
+                    median_order: point_warnings::median(orders),
                 });
             }
         }

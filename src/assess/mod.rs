@@ -516,7 +516,7 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
             r
         })
         .collect::<Vec<_>>();
-    let comparisons = compare::run(study, &quantities, &settings)?;
+    let comparisons = compare::run(study, &quantities, &settings, &mut warnings)?;
     if comparisons.iter().any(|c| c.comparison.normalised) {
         warnings.push(Warning::new(
             "comparison_normalised",

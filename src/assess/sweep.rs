@@ -6,6 +6,7 @@ use crate::estimate::three_grid::ThreeGridSettings;
 use crate::estimate::Convergence;
 use crate::grid::Mesh;
 use crate::machine::{DerivedPoint, Mode};
+use crate::point_warnings::{self, PointWarning, Tally, NOT_DEMONSTRATED, ORDER_AT_BOUND};
 use crate::study::raw::EstimatorChoice;
 use crate::study::sweep::{Abscissa, BandAt, Curve, Sweep};
 use crate::study::StudyError;
@@ -102,6 +103,13 @@ pub struct BandPoint {
     pub upper: Option<f64>,
     /// Convergence class.
     pub convergence: Option<Convergence>,
+    /// Whether the data demonstrate convergence at this point (the governing record's
+    /// `demonstrated`: `false` when it diverges, when there is no estimate, or when a
+    /// `convergence_not_demonstrated` rule holds; then U is not quotable).
+    pub demonstrated: bool,
+    /// Codes of the warnings the point's estimate raised, each once, in the order of
+    /// [`crate::point_warnings::rank`] (the band's `point_warnings` aggregates them).
+    pub warnings: Vec<String>,
 }
 
 /// Counts and shares of the convergence classes along a band.
@@ -138,9 +146,15 @@ pub struct BandSummary {
     pub max_relative: Option<f64>,
     /// Abscissa of the largest relative uncertainty.
     pub max_relative_at: Option<f64>,
-    /// Average observed order over points with an order (Celik et al. 2008 report the average
-    /// order along a profile).
+    /// Average observed order (Celik et al. 2008 report the average order along a profile)
+    /// over the points whose convergence is demonstrated: orders on an end of their search,
+    /// orders not found and orders of points that do not demonstrate convergence are left out,
+    /// so that orders stuck on a bound cannot inflate it.
     pub mean_order: Option<f64>,
+    /// Median observed order over the same points.
+    pub median_order: Option<f64>,
+    /// Number of points whose order enters the mean and the median.
+    pub order_points: usize,
 }
 
 /// The band along one response.
@@ -156,6 +170,8 @@ pub struct BandResult {
     pub points: Vec<BandPoint>,
     /// Summary.
     pub summary: BandSummary,
+    /// The points' warnings per code: how many points raised it and the first abscissae.
+    pub point_warnings: Vec<PointWarning<f64>>,
 }
 
 /// A sweep's results.
@@ -457,12 +473,12 @@ fn band(
     let mut rel_sum = 0.0;
     let mut rel_n = 0usize;
     let mut max_rel: Option<(f64, f64)> = None;
-    let mut order_sum = 0.0;
-    let mut order_n = 0usize;
-    let mut point_warnings = Vec::new();
+    let mut orders = Vec::new();
+    let mut tally = Tally::default();
     for &x in &xs {
         let values: Option<Vec<f64>> = interps.iter().map(|f| f.eval(x)).collect();
         let Some(values) = values else { continue };
+        let mut point_warnings = Vec::new();
         let q = quantity(
             "",
             Role::BandPoint {
@@ -477,7 +493,10 @@ fn band(
             estimator,
             &mut point_warnings,
         );
+        let codes = point_codes(&q, &point_warnings);
+        tally.point(codes.iter().map(String::as_str), x);
         let g = q.governing.as_ref();
+        let demonstrated = g.is_some_and(|g| g.demonstrated);
         let (extrapolated, order) = (g.and_then(|g| g.extrapolated), g.and_then(|g| g.order));
         match q.convergence {
             Some(Convergence::Monotonic) => classes.monotonic += 1,
@@ -486,9 +505,9 @@ fn band(
             Some(Convergence::NoChange) => classes.no_change += 1,
             Some(Convergence::Undetermined) | None => classes.none += 1,
         }
-        if let Some(p) = order {
-            order_sum += p;
-            order_n += 1;
+        // Orders on a bound, not found or not demonstrated are left out of mean and median.
+        if let Some(p) = order.filter(|_| demonstrated) {
+            orders.push(p);
         }
         let u = q.uncertainty.as_ref().map(|u| u.absolute);
         if let (Some(u), true) = (u, values[0] != 0.0) {
@@ -508,6 +527,8 @@ fn band(
             lower: u.map(|u| values[0] - u),
             upper: u.map(|u| values[0] + u),
             convergence: q.convergence,
+            demonstrated,
+            warnings: codes,
         });
     }
     if points.is_empty() {
@@ -531,6 +552,14 @@ fn band(
             .about(&format!("{}.band.{}", s.name, b.response)),
         );
     }
+    let point_warnings = tally.finish();
+    warnings.extend(band_point_warnings(
+        &point_warnings,
+        points.len(),
+        &s.x,
+        &format!("{}.band.{}", s.name, b.response),
+        "band",
+    ));
     Ok(BandResult {
         response: b.response.clone(),
         interpolation: b.interpolation,
@@ -547,8 +576,76 @@ fn band(
             mean_relative: (rel_n > 0).then(|| rel_sum / rel_n as f64),
             max_relative: max_rel.map(|m| m.0),
             max_relative_at: max_rel.map(|m| m.1),
-            mean_order: (order_n > 0).then(|| order_sum / order_n as f64),
+            mean_order: point_warnings::mean(&orders),
+            order_points: orders.len(),
+            median_order: point_warnings::median(orders),
         },
         points,
+        point_warnings,
     })
+}
+
+/// The codes of the warnings one point's estimate raised, each once, ordered by
+/// [`point_warnings::rank`], with [`ORDER_AT_BOUND`] when the three-mesh order sits on an end
+/// of its search (that estimate has no warning of its own for it).
+pub(crate) fn point_codes(q: &QuantityResult, raised: &[Warning]) -> Vec<String> {
+    let mut codes: Vec<String> = Vec::new();
+    let at_bound = q
+        .three_grid
+        .as_ref()
+        .is_some_and(|t| t.estimate.order_at_bound);
+    for c in raised
+        .iter()
+        .map(|w| w.code.as_str())
+        .chain(at_bound.then_some(ORDER_AT_BOUND))
+    {
+        if !codes.iter().any(|k| k == c) {
+            codes.push(c.to_string());
+        }
+    }
+    codes.sort_by(|a, b| (point_warnings::rank(a), a).cmp(&(point_warnings::rank(b), b)));
+    codes
+}
+
+/// The study-level lines for the point warnings of a band or a comparison (`kind` `band` or
+/// `comparison`): `<kind>_points_not_demonstrated` when convergence is not demonstrated at
+/// some points, and `<kind>_point_warnings` summing up every other code, each about `subject`.
+pub(crate) fn band_point_warnings(
+    list: &[PointWarning<f64>],
+    total: usize,
+    x: &str,
+    subject: &str,
+    kind: &str,
+) -> Vec<Warning> {
+    let total = total as u64;
+    let what = format!("{x} = ");
+    let place = |v: &f64| format!("{v}");
+    let mut out = Vec::new();
+    if let Some(nd) = list.iter().find(|w| w.code == NOT_DEMONSTRATED) {
+        out.push(
+            Warning::new(
+                &format!("{kind}_points_not_demonstrated"),
+                format!(
+                    "{}: the uncertainty there is not quotable, and their orders are left out of the mean and median order",
+                    point_warnings::describe(nd, total, &what, place)
+                ),
+            )
+            .about(subject),
+        );
+    }
+    let rest: Vec<String> = list
+        .iter()
+        .filter(|w| w.code != NOT_DEMONSTRATED)
+        .map(|w| point_warnings::describe(w, total, &what, place))
+        .collect();
+    if !rest.is_empty() {
+        out.push(
+            Warning::new(
+                &format!("{kind}_point_warnings"),
+                format!("{kind} points carry warnings: {}", rest.join("; ")),
+            )
+            .about(subject),
+        );
+    }
+    out
 }

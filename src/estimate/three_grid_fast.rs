@@ -33,8 +33,12 @@ pub struct PointEstimate {
     pub observed_order: Option<f64>,
     /// Richardson-extrapolated value, when it exists.
     pub extrapolated: Option<f64>,
-    /// Absolute fine-mesh uncertainty (`None` when divergent).
+    /// Absolute fine-mesh uncertainty by the settings' rule (`None` when divergent or when
+    /// the rule gives none).
     pub uncertainty: Option<f64>,
+    /// The Celik et al. (2008) GCI's U, as [`three_grid::estimate`] gives it (the same as
+    /// `uncertainty` when that rule governs).
+    pub gci_uncertainty: Option<f64>,
     /// What governed the uncertainty (`None` when divergent).
     pub governing: Option<Governing>,
 }
@@ -119,6 +123,7 @@ impl FastThreeGrid {
     pub fn estimate(&self, phi: [f64; 3]) -> PointEstimate {
         use crate::estimate::rules::{self, Branch, Rule};
         let mut out = self.estimate_gci(phi);
+        out.gci_uncertainty = out.uncertainty;
         if self.rule == Rule::CelikGci {
             return out;
         }
@@ -168,6 +173,7 @@ impl FastThreeGrid {
             observed_order: None,
             extrapolated: None,
             uncertainty: None,
+            gci_uncertainty: None,
             governing: None,
         };
         if e21 == 0.0 && e32 == 0.0 {

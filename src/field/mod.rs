@@ -48,7 +48,10 @@
 //!
 //! # Summary (contract)
 //! Per column: the count of each convergence class; the mean and median observed order over the
-//! points that have one; the mean and largest relative uncertainty `U/|φ1|` over the points that
+//! points that have one and demonstrate convergence (`order_points` of them: an order on an end
+//! of the search, or a point below order 0.5 or with R = ε21/ε32 > 0.9, is left out, as in
+//! `assess::govern`); the warnings of the points per code with the ids of the first five
+//! (`point_warnings`, the codes of [`FIELD_CODES`]); the mean and largest relative uncertainty `U/|φ1|` over the points that
 //! have an uncertainty and a nonzero finest value (divergent points and points with φ1 = 0 are
 //! left out; no-change points count with 0), and the count of points whose uncertainty `U` or
 //! `U/|φ1|` overflows (`overflowed`: left out of the relative figures, they count as failures
@@ -68,7 +71,7 @@ mod summary;
 mod write;
 
 pub use crate::estimate::three_grid_fast::{FastThreeGrid, PointEstimate};
-pub use summary::{ClassCounts, ColumnSummary, FieldSummary};
+pub use summary::{ClassCounts, ColumnSummary, FieldSummary, PointChecks, FIELD_CODES};
 
 use crate::estimate::three_grid::ThreeGridSettings;
 use crate::sink::PointSink;
@@ -423,6 +426,7 @@ pub fn assess_field_with(
             &raw_pool,
             &layouts,
             &fast,
+            &PointChecks::new(settings),
             spec,
             chunk_rows,
             round_rows,
@@ -488,6 +492,7 @@ fn drive(
     raw_pool: &Pool,
     layouts: &[Layout],
     fast: &FastThreeGrid,
+    checks: &PointChecks,
     spec: &FieldSpec,
     chunk_rows: usize,
     round_rows: usize,
@@ -536,7 +541,7 @@ fn drive(
             || {
                 chunks
                     .par_iter()
-                    .map(|c| compute_chunk(fast, layouts, c, ncols, write))
+                    .map(|c| compute_chunk(fast, layouts, c, ncols, checks, write))
                     .collect::<Vec<_>>()
             },
         );
@@ -771,9 +776,21 @@ mod tests {
                 max_relative = 1e-8
             );
         }
-        // Mean of the orders 1 + 1.5 i/n over i < n is 1 + 1.5 (n − 1)/(2n) (arithmetic).
+        // Mean and median leave out the points whose convergence is not demonstrated. Here
+        // that is R = ε21/ε32 > 0.9 (assess::govern's limit), which for the exact power law
+        // on these ratios is R(p) = (1.5^p − 1)/(1.5^p (1.3^p − 1)) (analytic), decreasing in
+        // p: the low orders near 1 are left out. The kept orders 1 + 1.5 i/n are evenly
+        // spaced, so their mean is the mean of the first and last (arithmetic).
         let c = &s.columns[0];
-        let mean = 1.0 + 1.5 * (n as f64 - 1.0) / (2.0 * n as f64);
+        let ratio = |p: f64| (1.5_f64.powf(p) - 1.0) / (1.5_f64.powf(p) * (1.3_f64.powf(p) - 1.0));
+        let kept: Vec<f64> = (0..n)
+            .map(|i| p_of(i as f64 / n as f64))
+            .filter(|p| ratio(*p) <= crate::assess::DEMONSTRATED_MAX_RATIO)
+            .collect();
+        assert!(kept.len() > n / 2 && kept.len() < n, "{}", kept.len());
+        assert_eq!(c.order_points, kept.len() as u64);
+        assert_eq!(c.not_demonstrated(), (n - kept.len()) as u64);
+        let mean = 0.5 * (kept[0] + kept[kept.len() - 1]);
         assert_relative_eq!(c.mean_order.unwrap(), mean, max_relative = 1e-9);
         // The median lies within one histogram bin (20/20000) of the exact median, here the
         // same value as the mean (orders evenly spaced).

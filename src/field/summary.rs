@@ -1,11 +1,132 @@
 //! Summaries: per-column accumulators over chunks, the column and field summaries (a
 //! contract: their serde form) and the warnings they carry.
 
-use crate::estimate::three_grid::Governing;
+use crate::assess::{DEMONSTRATED_MAX_RATIO, DEMONSTRATED_MIN_ORDER};
+use crate::estimate::three_grid::{
+    Governing, ThreeGridSettings, FORMAL_ORDER_TOLERANCE, ROUNDOFF_ULPS, SCAN_LO,
+};
 use crate::estimate::three_grid_fast::PointEstimate;
 use crate::estimate::Convergence;
+use crate::point_warnings::{self, PointWarning, LISTED, NOT_DEMONSTRATED, ORDER_AT_BOUND};
 use crate::warning::Warning;
 use serde::Serialize;
+
+/// The per-point codes of a field, in the order of [`point_warnings::rank`]: the codes the
+/// scalar three-mesh estimate raises at a point ([`crate::estimate::three_grid::estimate`]),
+/// `convergence_not_demonstrated` by the rule of [`crate::assess::not_demonstrated`], and
+/// [`ORDER_AT_BOUND`].
+pub const FIELD_CODES: [&str; 11] = [
+    NOT_DEMONSTRATED,
+    ORDER_AT_BOUND,
+    "divergent",
+    "order_not_found",
+    "order_low",
+    "order_high",
+    "order_far_from_formal",
+    "oscillatory",
+    "no_change",
+    "round_off",
+    "value_near_zero",
+];
+const C_ND: usize = 0;
+const C_BOUND: usize = 1;
+const C_DIV: usize = 2;
+const C_NOT_FOUND: usize = 3;
+const C_LOW: usize = 4;
+const C_HIGH: usize = 5;
+const C_FAR: usize = 6;
+const C_OSC: usize = 7;
+const C_NO_CHANGE: usize = 8;
+const C_ROUND_OFF: usize = 9;
+const C_NEAR_ZERO: usize = 10;
+
+/// The settings the per-point checks of a field need (the same limits as the scalar estimate).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PointChecks {
+    /// The order cap of the search (`settings.order_max`).
+    pub order_max: f64,
+    /// The formal order.
+    pub formal_order: f64,
+}
+
+impl PointChecks {
+    /// The checks for these settings.
+    pub fn new(settings: &ThreeGridSettings) -> Self {
+        PointChecks {
+            order_max: settings.order_max,
+            formal_order: settings.formal_order,
+        }
+    }
+
+    /// Bit `1 << k` set for each code `FIELD_CODES[k]` the scalar estimate would raise at a
+    /// point with values `phi` (finest first) and fast estimate `e`. The same tests as the
+    /// scalar path, written out without loops: this runs at every probe.
+    #[inline]
+    pub fn codes(&self, e: &PointEstimate, phi: [f64; 3]) -> u16 {
+        // Round-off exactly as the estimators decide it.
+        let scale = phi[0].abs().max(phi[1].abs()).max(phi[2].abs());
+        let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
+        let d21 = phi[1] - phi[0];
+        let d32 = phi[2] - phi[1];
+        let round21 = d21 != 0.0 && d21.abs() <= tiny;
+        let round32 = d32 != 0.0 && d32.abs() <= tiny;
+        let mut bits: u16 = if round21 || round32 {
+            1 << C_ROUND_OFF
+        } else {
+            0
+        };
+        let e21 = if round21 { 0.0 } else { d21 };
+        let e32 = if round32 { 0.0 } else { d32 };
+        match e.convergence {
+            Convergence::NoChange => return bits | 1 << C_NO_CHANGE,
+            Convergence::Divergent => bits |= 1 << C_DIV,
+            // The scalar estimate says `oscillatory` when it found an order (its message
+            // compares the GCI with the half range); without one it says `order_not_found`.
+            Convergence::Oscillatory if e.observed_order.is_some() => bits |= 1 << C_OSC,
+            Convergence::Oscillatory | Convergence::Monotonic | Convergence::Undetermined => {}
+        }
+        // assess::not_demonstrated on a three-mesh estimate: R = ε21/ε32 above the limit, an
+        // order on an end of its search, or an order below the limit.
+        let mut nd = e32 != 0.0 && e21 / e32 > DEMONSTRATED_MAX_RATIO;
+        match e.observed_order {
+            Some(p) => {
+                if p >= self.order_max * (1.0 - 1e-9) || p <= SCAN_LO * (1.0 + 1e-9) {
+                    bits |= 1 << C_BOUND;
+                    nd = true;
+                }
+                let pf = self.formal_order;
+                if p < DEMONSTRATED_MIN_ORDER {
+                    nd = true;
+                }
+                if p < 0.5 {
+                    bits |= 1 << C_LOW;
+                } else if p > pf + 1.0 {
+                    bits |= 1 << C_HIGH;
+                } else if ((p - pf) / pf).abs() > FORMAL_ORDER_TOLERANCE {
+                    bits |= 1 << C_FAR;
+                }
+            }
+            None if e.convergence != Convergence::Divergent => {
+                bits |= 1 << C_NOT_FOUND;
+                // Shrinking differences no power law with p > 0 fits (assess::not_demonstrated).
+                if e21 != 0.0 && e32 != 0.0 && e21 / e32 > 0.0 {
+                    nd = true;
+                }
+            }
+            None => {}
+        }
+        if nd {
+            bits |= 1 << C_ND;
+        }
+        // The scalar estimate decides `value_near_zero` with its own (Celik GCI) U.
+        if let Some(u) = e.gci_uncertainty {
+            if phi[0].abs() < e21.abs().max(u) {
+                bits |= 1 << C_NEAR_ZERO;
+            }
+        }
+        bits
+    }
+}
 
 /// Bins of the order histogram behind the median (over `(0, order_max]`).
 pub(crate) const ORDER_BINS: usize = 20_000;
@@ -30,11 +151,15 @@ pub struct ColumnSummary {
     pub name: String,
     /// Points per convergence class.
     pub classes: ClassCounts,
-    /// Mean observed order over the points that have one.
+    /// Mean observed order over the points whose convergence is demonstrated (orders on an
+    /// end of the search, not found, or of points that do not demonstrate convergence are
+    /// left out).
     pub mean_order: Option<f64>,
-    /// Median observed order over the points that have one, within one histogram bin
+    /// Median observed order over the same points, within one histogram bin
     /// (`order_max / ORDER_BINS`).
     pub median_order: Option<f64>,
+    /// Number of points whose order enters the mean and the median.
+    pub order_points: u64,
     /// Mean of `U/|φ1|` over points with an uncertainty and φ1 ≠ 0 (fraction).
     pub mean_relative: Option<f64>,
     /// Largest `U/|φ1|` over the same points (fraction).
@@ -49,6 +174,19 @@ pub struct ColumnSummary {
     /// Points where half the range of the oscillation governed the uncertainty.
     #[serde(skip)]
     pub oscillation_range_points: u64,
+    /// The points' warnings per code ([`FIELD_CODES`]): how many points raised it and the ids
+    /// of the first ones, in the order of the probe files.
+    pub point_warnings: Vec<PointWarning<String>>,
+}
+
+impl ColumnSummary {
+    /// Points whose convergence is not demonstrated (`convergence_not_demonstrated`).
+    pub fn not_demonstrated(&self) -> u64 {
+        self.point_warnings
+            .iter()
+            .find(|w| w.code == NOT_DEMONSTRATED)
+            .map_or(0, |w| w.points)
+    }
 }
 
 /// Summary of a field (contract: the serde form).
@@ -105,9 +243,55 @@ impl FieldSummary {
                     .about(&self.name),
                 );
             }
+            let what = "probes ";
+            let place = |id: &String| id.clone();
+            if let Some(nd) = c.point_warnings.iter().find(|w| w.code == NOT_DEMONSTRATED) {
+                out.push(
+                    Warning::new(
+                        "field_points_not_demonstrated",
+                        format!(
+                            "column `{}`: {}: the uncertainty there is not quotable, their orders are left out of the mean and median order, and every acceptance limit on this column fails",
+                            c.name,
+                            point_warnings::describe(nd, self.points, what, place)
+                        ),
+                    )
+                    .about(&self.name),
+                );
+            }
+            let rest: Vec<String> = c
+                .point_warnings
+                .iter()
+                .filter(|w| w.code != NOT_DEMONSTRATED)
+                .map(|w| point_warnings::describe(w, self.points, what, place))
+                .collect();
+            if !rest.is_empty() {
+                out.push(
+                    Warning::new(
+                        "field_point_warnings",
+                        format!(
+                            "column `{}`: field points carry warnings: {}",
+                            c.name,
+                            rest.join("; ")
+                        ),
+                    )
+                    .about(&self.name),
+                );
+            }
         }
         out
     }
+}
+
+/// A probe id as listed in `point_warnings`: trimmed, at most 40 characters (longer ids are
+/// cut and end in `…`, as in the field's error messages), control characters shown as `�`. An
+/// id can be as long as a record (1 MiB): only its first bytes are read, so that a hostile file
+/// cannot make the summary hold large ids.
+fn listed_id(id: &[u8]) -> String {
+    let head = &id[..id.len().min(256)];
+    super::parse::shown(String::from_utf8_lossy(head).trim().as_bytes())
+        .chars()
+        .map(|c| if c.is_control() { '\u{fffd}' } else { c })
+        .collect()
 }
 
 #[derive(Debug, Clone, Default)]
@@ -127,12 +311,22 @@ pub(super) struct ColumnAcc {
     /// Points whose `U` or `U/|φ1|` overflows.
     pub(super) overflowed: u64,
     pub(super) osc_range: u64,
+    /// Points per code of [`FIELD_CODES`], and the ids of the first ones.
+    pub(super) code_n: [u64; FIELD_CODES.len()],
+    pub(super) code_at: [Vec<String>; FIELD_CODES.len()],
 }
 
 impl ColumnAcc {
     /// Adds one point. Its order is kept in `orders` until [`ColumnAcc::merge`] bins it, so that
     /// a chunk's accumulator stays small (no histogram per chunk).
-    pub(super) fn add(&mut self, e: &PointEstimate, phi1: f64) {
+    pub(super) fn add(
+        &mut self,
+        e: &PointEstimate,
+        phi: [f64; 3],
+        id: &[u8],
+        checks: &PointChecks,
+    ) {
+        let phi1 = phi[0];
         match e.convergence {
             Convergence::Monotonic => self.classes.monotonic += 1,
             Convergence::Oscillatory => self.classes.oscillatory += 1,
@@ -146,7 +340,18 @@ impl ColumnAcc {
             Some(Governing::OscillationRange) => self.osc_range += 1,
             _ => {}
         }
-        if let Some(p) = e.observed_order {
+        let codes = checks.codes(e, phi);
+        let mut rest = codes;
+        while rest != 0 {
+            let k = rest.trailing_zeros() as usize;
+            rest &= rest - 1;
+            self.code_n[k] += 1;
+            if self.code_at[k].len() < LISTED {
+                self.code_at[k].push(listed_id(id));
+            }
+        }
+        // Orders on a bound, not found or not demonstrated are left out of mean and median.
+        if let Some(p) = e.observed_order.filter(|_| codes & (1 << C_ND) == 0) {
             self.order_n += 1;
             self.order_sum += p;
             self.orders.push(p);
@@ -190,6 +395,11 @@ impl ColumnAcc {
         self.formal += o.formal;
         self.overflowed += o.overflowed;
         self.osc_range += o.osc_range;
+        for k in 0..FIELD_CODES.len() {
+            self.code_n[k] += o.code_n[k];
+            let room = LISTED.saturating_sub(self.code_at[k].len());
+            self.code_at[k].extend(o.code_at[k].iter().take(room).cloned());
+        }
     }
 
     /// Mean of the values in the bin holding 0-based rank `rank`.
@@ -235,9 +445,21 @@ impl ColumnAcc {
             } else {
                 None
             },
+            order_points: self.order_n,
             overflowed: self.overflowed,
             formal_order_points: self.formal,
             oscillation_range_points: self.osc_range,
+            point_warnings: FIELD_CODES
+                .iter()
+                .enumerate()
+                .filter(|(k, _)| self.code_n[*k] > 0)
+                .map(|(k, code)| PointWarning {
+                    code: code.to_string(),
+                    points: self.code_n[k],
+                    at: self.code_at[k].clone(),
+                    more: self.code_n[k] - self.code_at[k].len() as u64,
+                })
+                .collect(),
         }
     }
 }
@@ -250,6 +472,173 @@ mod tests {
     use crate::field::write::push_opt;
 
     const H: [f64; 3] = [1.0, 1.5, 1.5 * 1.3];
+
+    fn checks() -> PointChecks {
+        PointChecks::new(&ThreeGridSettings::default())
+    }
+
+    /// The codes the scalar path gives at one point: the three-mesh estimate's warnings, the
+    /// search-bound flag, and `assess::govern`'s not-demonstrated rule (what
+    /// `assess::quantity` does with three meshes).
+    fn scalar_codes(h: [f64; 3], phi: [f64; 3], settings: &ThreeGridSettings) -> Vec<String> {
+        let tg = three_grid::estimate(h, phi, settings).expect("an estimate");
+        let mut codes: Vec<String> = tg.warnings.iter().map(|w| w.code.clone()).collect();
+        if tg.order_at_bound {
+            codes.push(ORDER_AT_BOUND.into());
+        }
+        let g = crate::assess::govern(
+            Some(&tg),
+            None,
+            crate::study::raw::EstimatorChoice::Auto,
+            None,
+        )
+        .expect("governs");
+        if g.not_demonstrated_because.is_some() {
+            codes.push(NOT_DEMONSTRATED.into());
+        }
+        codes.sort();
+        codes.dedup();
+        codes
+    }
+
+    fn field_codes(fast: &FastThreeGrid, checks: &PointChecks, phi: [f64; 3]) -> Vec<String> {
+        let bits = checks.codes(&fast.estimate(phi), phi);
+        let mut codes: Vec<String> = FIELD_CODES
+            .iter()
+            .enumerate()
+            .filter(|(k, _)| bits & (1 << k) != 0)
+            .map(|(_, c)| c.to_string())
+            .collect();
+        codes.sort();
+        codes
+    }
+
+    fn diff() -> impl proptest::strategy::Strategy<Value = f64> {
+        use proptest::prelude::*;
+        prop_oneof![
+            (-3.0f64..3.0).prop_map(|e| 10f64.powf(e)),
+            (-3.0f64..3.0).prop_map(|e| -(10f64.powf(e))),
+            Just(0.0),
+            Just(1e-17),
+        ]
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig { cases: 300, ..Default::default() })]
+        // Source of the check: the project's scalar path (`three_grid::estimate`, checked
+        // against Celik et al. 2008 Table 1, and `assess::govern`): a field point raises
+        // exactly the codes a scalar quantity with the same three values raises.
+        #[test]
+        fn field_point_codes_equal_the_scalar_codes(
+            r21 in 1.1f64..3.0,
+            r32 in proptest::prop_oneof![1.1f64..3.0, proptest::strategy::Just(0.0)],
+            phi1 in -10.0f64..10.0,
+            d21 in diff(),
+            d32 in diff(),
+            order_max in proptest::prop_oneof![proptest::strategy::Just(20.0), 2.0f64..8.0],
+            formal_order in proptest::prop_oneof![proptest::strategy::Just(2.0), proptest::strategy::Just(1.0)],
+        ) {
+            let r32 = if r32 == 0.0 { r21 } else { r32 };
+            let h = [1.0, r21, r21 * r32];
+            let settings = ThreeGridSettings { safety_factor: 1.25, order_max, formal_order, ..ThreeGridSettings::default() };
+            let fast = FastThreeGrid::new(h, &settings).unwrap();
+            let checks = PointChecks::new(&settings);
+            let phi = [phi1, phi1 + d21, phi1 + d21 + d32];
+            proptest::prop_assert_eq!(
+                field_codes(&fast, &checks, phi),
+                scalar_codes(h, phi, &settings),
+                "h {:?} phi {:?}", h, phi
+            );
+        }
+    }
+
+    #[test]
+    fn known_bad_probes_are_named_and_left_out_of_the_orders() {
+        // Manufactured field on h = 1, 2, 4 (ratio 2, analytic orders): probes g0..g5 follow
+        // φ = 1 + 0.01 h² exactly (p = 2, demonstrated); b0..b2 have constant differences
+        // (R = 1: convergence not demonstrated, and divergent by the class rule since R ≥ 1);
+        // s0..s6 follow φ = 1 + h^0.3 (p = 0.3 < 0.5: order_low, not demonstrated).
+        let h = [1.0, 2.0, 4.0];
+        let settings = ThreeGridSettings::default();
+        let fast = FastThreeGrid::new(h, &settings).unwrap();
+        let checks = PointChecks::new(&settings);
+        let good = h.map(|x| 1.0 + 0.01 * x * x);
+        let step = [1.0, 1.1, 1.2];
+        let slow = h.map(|x| 1.0 + x.powf(0.3));
+        let mut acc = ColumnAcc::default();
+        let mut part = ColumnAcc::default();
+        let probes: Vec<(String, [f64; 3])> = (0..6)
+            .map(|i| (format!("g{i}"), good))
+            .chain((0..3).map(|i| (format!("b{i}"), step)))
+            .chain((0..7).map(|i| (format!("s{i}"), slow)))
+            .collect();
+        for (k, (id, phi)) in probes.iter().enumerate() {
+            part.add(&fast.estimate(*phi), *phi, id.as_bytes(), &checks);
+            if k % 5 == 4 {
+                acc.merge(&part, ORDER_BINS as f64 / fast.order_cap());
+                part = ColumnAcc::default();
+            }
+        }
+        acc.merge(&part, ORDER_BINS as f64 / fast.order_cap());
+        let c = acc.finish("cp");
+        let nd = c
+            .point_warnings
+            .iter()
+            .find(|w| w.code == NOT_DEMONSTRATED)
+            .expect("not demonstrated listed");
+        assert_eq!(nd.points, 10);
+        assert_eq!(nd.at, ["b0", "b1", "b2", "s0", "s1"]);
+        assert_eq!(nd.more, 5);
+        assert_eq!(c.not_demonstrated(), 10);
+        let low = c
+            .point_warnings
+            .iter()
+            .find(|w| w.code == "order_low")
+            .unwrap();
+        assert_eq!((low.points, low.at[0].as_str()), (7, "s0"));
+        // Only the six good probes enter the orders: mean and median exactly 2 (analytic; the
+        // median's histogram bin holds equal values, so it is exact).
+        assert_eq!(c.order_points, 6);
+        assert!(
+            (c.mean_order.unwrap() - 2.0).abs() < 1e-12,
+            "{:?}",
+            c.mean_order
+        );
+        assert!(
+            (c.median_order.unwrap() - 2.0).abs() < 1e-12,
+            "{:?}",
+            c.median_order
+        );
+        let s = FieldSummary {
+            name: "runner".into(),
+            points: probes.len() as u64,
+            written: None,
+            columns: vec![c],
+        };
+        let w = s.warnings();
+        let nd = w
+            .iter()
+            .find(|w| w.code == "field_points_not_demonstrated")
+            .expect("a study-level line");
+        assert!(
+            nd.message
+                .contains("10 of 16 points (probes b0, b1, b2, s0, s1 … and 5 more)"),
+            "{}",
+            nd.message
+        );
+        assert!(w.iter().any(|w| w.code == "field_point_warnings"
+            && w.message.contains("order_low at 7 of 16 points")));
+    }
+
+    #[test]
+    fn listed_ids_are_short_and_printable() {
+        assert_eq!(listed_id(b"  p17 "), "p17");
+        let long = vec![b'a'; 1 << 20];
+        let l = listed_id(&long);
+        assert_eq!(l.chars().count(), 41);
+        assert!(l.ends_with('…'));
+        assert_eq!(listed_id(b"a\nb\x1b"), "a\u{fffd}b\u{fffd}");
+    }
 
     #[test]
     fn overflowing_figures_leave_empty_cells() {
@@ -266,7 +655,7 @@ mod tests {
         push_opt(&mut b, e.uncertainty);
         assert!(b.is_empty());
         let mut part = ColumnAcc::default();
-        part.add(&e, phi[0]);
+        part.add(&e, phi, b"a", &checks());
         let mut acc = ColumnAcc::default();
         acc.merge(&part, 1.0);
         let c = acc.finish("cp");
@@ -298,7 +687,7 @@ mod tests {
         assert!(ub.is_finite() && !(ub / 1e-300).is_finite(), "{b:?}");
         let mut part = ColumnAcc::default();
         for phi in points {
-            part.add(&fast.estimate(phi), phi[0]);
+            part.add(&fast.estimate(phi), phi, b"a", &checks());
         }
         let mut acc = ColumnAcc::default();
         acc.merge(&part, 1.0);
@@ -320,7 +709,7 @@ mod tests {
         assert!(o.message.contains("2 of 3 points"), "{}", o.message);
         // A column without overflow gets no such warning.
         let mut fine = ColumnAcc::default();
-        fine.add(&fast.estimate([2.0, 2.0, 2.0]), 2.0);
+        fine.add(&fast.estimate([2.0, 2.0, 2.0]), [2.0; 3], b"a", &checks());
         let s = FieldSummary {
             columns: vec![fine.finish("cp")],
             ..s

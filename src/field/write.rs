@@ -3,7 +3,7 @@
 
 use super::align::{same_id, Cursor, Segment};
 use super::parse::{shown, Layout};
-use super::summary::ColumnAcc;
+use super::summary::{ColumnAcc, PointChecks};
 use super::{give_back, pooled, FieldError, IdMismatch, Pool};
 use crate::estimate::three_grid_fast::FastThreeGrid;
 use crate::sink::PointSink;
@@ -114,6 +114,7 @@ pub(super) fn compute_chunk(
     layouts: &[Layout],
     chunk: &[Vec<Segment>; 3],
     ncols: usize,
+    checks: &PointChecks,
     write: Option<&Pool>,
 ) -> Result<Computed, FieldError> {
     let n: usize = chunk[0].iter().map(|s| s.2 - s.1).sum();
@@ -164,7 +165,7 @@ pub(super) fn compute_chunk(
         for (c, acc) in accs.iter_mut().enumerate() {
             let phi = [b0.value(i0, c), b1.value(i1, c), b2.value(i2, c)];
             let e = fast.estimate(phi);
-            acc.add(&e, phi[0]);
+            acc.add(&e, phi, id, checks);
             if write {
                 buf.push(b',');
                 match b0.text(i0, c) {

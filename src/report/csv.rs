@@ -4,7 +4,10 @@
 //! 1. one `quantity` row per scalar quantity, then per sweep and per breakdown the breakdown
 //!    abscissa (`<sweep>.breakdown.<response>`) and the reference (`<sweep>.reference.<response>`);
 //! 2. one `band_point` row per point of every sweep's band, increasing abscissa;
-//! 3. one `file_read` row per file the study made meshbound read (the study file first, then
+//! 3. the aggregated warnings of the points of a result, one row per code: `band_warning`
+//!    (per sweep's band), `comparison_warning` (per comparison along a sweep), `field_warning`
+//!    (per field column), in that order;
+//! 4. one `file_read` row per file the study made meshbound read (the study file first, then
 //!    sweep CSVs, probe files and measured points, paths as given), then one `file_written`
 //!    row per file it made meshbound write: the path is in `name`, every other cell is empty.
 //!
@@ -35,6 +38,14 @@
 //! | `least_squares_fit`, `least_squares_weighted` | selected fit (`free`, `first`, `second`, `first_second`), `true`/`false` | – |
 //! | `meshes` | mesh names finest first, `;`-separated | the sweep's meshes |
 //! | `mesh_values` | values finest first, `;`-separated | – |
+//! | `warning` | – | the codes of the point's warnings, `;`-separated |
+//! | `warning_points`, `warning_at` | – | – |
+//!
+//! A `band_warning`, `comparison_warning` or `field_warning` row holds `sweep` (the sweep, for a
+//! band or comparison), `name` (the band's or comparison's response, or `<field>.<column>`),
+//! `warning` (one code), `warning_points` (how many points raised it) and `warning_at` (the
+//! first abscissae or probe ids, `;`-separated; `warning_points` minus their number were not
+//! listed); every other cell is empty.
 //!
 //! Text cells (names, units, mesh lists, paths, labels) that begin with `=`, `+`, `-`, `@`, tab
 //! or carriage return get a leading `'` and are quoted, so that a spreadsheet shows them as text
@@ -46,6 +57,7 @@ use super::format::full;
 use super::Exporter;
 use crate::assess::sweep::{BandPoint, SweepResult};
 use crate::assess::{Assessment, Method, QuantityResult};
+use crate::point_warnings::PointWarning;
 
 /// CSV exporter.
 pub struct Csv;
@@ -82,6 +94,10 @@ pub const COLUMNS: [&str; 26] = [
 
 const MESHES: &str = "meshes";
 const MESH_VALUES: &str = "mesh_values";
+/// The columns after `meshes` and `mesh_values`: the point warnings.
+pub const WARNING_COLUMNS: [&str; 3] = ["warning", "warning_points", "warning_at"];
+/// Cells per row.
+const WIDTH: usize = COLUMNS.len() + 2 + WARNING_COLUMNS.len();
 
 fn o(v: Option<f64>) -> String {
     v.map_or(String::new(), full)
@@ -151,11 +167,14 @@ fn quantity_row(q: &QuantityResult) -> Vec<String> {
             .map(|v| full(*v))
             .collect::<Vec<_>>()
             .join(";"),
+        String::new(),
+        String::new(),
+        String::new(),
     ]
 }
 
 fn band_row(s: &SweepResult, response: &str, p: &BandPoint) -> Vec<String> {
-    let mut row = vec![String::new(); COLUMNS.len() + 2];
+    let mut row = vec![String::new(); WIDTH];
     row[0] = "band_point".into();
     row[1] = text(&s.name);
     row[2] = text(response);
@@ -168,6 +187,26 @@ fn band_row(s: &SweepResult, response: &str, p: &BandPoint) -> Vec<String> {
     row[12] = o(p.order);
     row[13] = o(p.extrapolated);
     row[COLUMNS.len()] = text(&s.meshes.join(";"));
+    row[COLUMNS.len() + 2] = text(&p.warnings.join(";"));
+    row
+}
+
+/// One row of aggregated point warnings (`record` `band_warning`, `comparison_warning` or
+/// `field_warning`).
+fn warning_row<T>(
+    record: &str,
+    sweep: &str,
+    name: &str,
+    w: &PointWarning<T>,
+    place: impl Fn(&T) -> String,
+) -> Vec<String> {
+    let mut row = vec![String::new(); WIDTH];
+    row[0] = record.into();
+    row[1] = text(sweep);
+    row[2] = text(name);
+    row[COLUMNS.len() + 2] = text(&w.code);
+    row[COLUMNS.len() + 3] = w.points.to_string();
+    row[COLUMNS.len() + 4] = text(&w.at.iter().map(place).collect::<Vec<_>>().join(";"));
     row
 }
 
@@ -176,6 +215,7 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
     let mut out = vec![COLUMNS
         .iter()
         .chain(&[MESHES, MESH_VALUES])
+        .chain(&WARNING_COLUMNS)
         .map(|c| c.to_string())
         .collect::<Vec<_>>()];
     for q in &a.quantities {
@@ -194,9 +234,42 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
             }
         }
     }
+    for s in &a.sweeps {
+        if let Some(band) = &s.band {
+            for w in &band.point_warnings {
+                out.push(warning_row(
+                    "band_warning",
+                    &s.name,
+                    &band.response,
+                    w,
+                    |x| full(*x),
+                ));
+            }
+        }
+    }
+    for c in &a.comparisons {
+        for w in &c.point_warnings {
+            let response = c.response.as_deref().unwrap_or_default();
+            out.push(warning_row(
+                "comparison_warning",
+                &c.name,
+                response,
+                w,
+                |x| full(*x),
+            ));
+        }
+    }
+    for f in &a.fields {
+        for c in &f.columns {
+            let name = format!("{}.{}", f.name, c.name);
+            for w in &c.point_warnings {
+                out.push(warning_row("field_warning", "", &name, w, String::clone));
+            }
+        }
+    }
     let files = |kind: &str, paths: &[String], out: &mut Vec<Vec<String>>| {
         for path in paths {
-            let mut row = vec![String::new(); COLUMNS.len() + 2];
+            let mut row = vec![String::new(); WIDTH];
             row[0] = kind.into();
             row[2] = text(path);
             out.push(row);
@@ -253,9 +326,10 @@ mod tests {
     fn rows_have_the_columns_of_the_header_and_both_record_kinds() {
         let a = fixture::assess(fixture::DEMO);
         let (head, rows) = parse(&Csv.export(&a));
-        assert_eq!(head.len(), COLUMNS.len() + 2);
+        assert_eq!(head.len(), COLUMNS.len() + 2 + WARNING_COLUMNS.len());
         assert_eq!(&head[0], "record");
-        assert_eq!(&head[head.len() - 1], "mesh_values");
+        assert_eq!(&head[COLUMNS.len() + 1], "mesh_values");
+        assert_eq!(&head[head.len() - 1], "warning_at");
         for r in &rows {
             assert_eq!(r.len(), head.len());
         }
@@ -282,7 +356,11 @@ mod tests {
             .map(|r| r.get(2).unwrap_or(""))
             .collect();
         assert_eq!(read, ["demo.yaml"]);
-        assert_eq!(rows.len(), quantities.len() + points + read.len());
+        // The band's points raise warnings (the demo's orders), aggregated in one row per code.
+        let warned = rows.iter().filter(|r| &r[0] == "band_warning").count();
+        assert_eq!(warned, band.point_warnings.len());
+        assert!(warned > 0);
+        assert_eq!(rows.len(), quantities.len() + points + warned + read.len());
     }
 
     #[test]
@@ -388,7 +466,7 @@ quantities:
             text.contains("\nquantity,,\"'=HYPERLINK(\"\"x\"\")\",\"'+1\",,-0.5,"),
             "{text}"
         );
-        assert!(text.contains(",\"'@m1;m2;m3\",-0.5;-0.8;-2\n"), "{text}");
+        assert!(text.contains(",\"'@m1;m2;m3\",-0.5;-0.8;-2,,,\n"), "{text}");
         let (head, rows) = parse(&bytes);
         let col = |name: &str| head.iter().position(|h| h == name).expect(name);
         let q = rows.iter().find(|r| &r[0] == "quantity").expect("row");

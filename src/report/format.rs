@@ -173,6 +173,48 @@ pub fn condensed(n: usize, max: usize) -> (Vec<usize>, usize) {
     (idx, step)
 }
 
+/// The places of an aggregated point warning as listed: the first places, then "… and N
+/// more" for the points not listed (`show` words one place).
+pub fn places<T>(
+    w: &crate::point_warnings::PointWarning<T>,
+    show: impl Fn(&T) -> String,
+) -> String {
+    let mut s = w.at.iter().map(show).collect::<Vec<_>>().join(", ");
+    if w.more > 0 {
+        s.push_str(&format!(" … and {} more", w.more));
+    }
+    s
+}
+
+/// How many points raised an aggregated point warning: "7 of 13".
+pub fn points_of<T>(w: &crate::point_warnings::PointWarning<T>, total: u64) -> String {
+    format!("{} of {total}", w.points)
+}
+
+/// The class of a band point as shown: "convergence not demonstrated" where the point's
+/// record says so (never "monotonic" then), else its class, or "no estimate".
+pub fn point_class_label(p: &crate::assess::sweep::BandPoint) -> &'static str {
+    match p.convergence {
+        Some(crate::estimate::Convergence::Divergent) => "divergent",
+        Some(_) if !p.demonstrated => NOT_DEMONSTRATED,
+        Some(c) => c.label(),
+        None => "no estimate",
+    }
+}
+
+/// The mean and median order of a band, comparison or field column in words, with how many
+/// points they cover: "mean 3.39, median 3.14 over 13 points".
+pub fn orders(mean: Option<f64>, median: Option<f64>, points: u64) -> String {
+    match (mean, median) {
+        (None, None) => "– (no point with a demonstrated order)".to_string(),
+        _ => format!(
+            "mean {}, median {} over {points} points",
+            opt(mean, 3),
+            opt(median, 3)
+        ),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -218,6 +260,26 @@ mod tests {
         assert_eq!(full(f64::INFINITY), "");
         assert_eq!(full(3.4e6), "3400000");
         assert_eq!(full(1.5e-7), "1.5e-7");
+    }
+
+    #[test]
+    fn point_warnings_are_worded() {
+        let w = crate::point_warnings::PointWarning {
+            code: "order_high".into(),
+            points: 7,
+            at: vec![0.144, 0.15],
+            more: 5,
+        };
+        assert_eq!(places(&w, |x| num(*x, 6)), "0.144, 0.15 … and 5 more");
+        assert_eq!(points_of(&w, 13), "7 of 13");
+        assert_eq!(
+            orders(Some(3.3875), Some(3.143), 13),
+            "mean 3.39, median 3.14 over 13 points"
+        );
+        assert_eq!(
+            orders(None, None, 0),
+            "– (no point with a demonstrated order)"
+        );
     }
 
     #[test]

@@ -190,7 +190,9 @@ mod tests {
         ] {
             assert!(!page.contains(banned), "{banned}");
         }
-        assert_eq!(page.matches("<table>").count(), 6);
+        // meshes, results, the published rules, breakdown summary and per mesh, band, the
+        // band's point warnings
+        assert_eq!(page.matches("<table>").count(), 7);
         assert!(page.contains(&escape(&a.caution)));
         assert!(page.contains("<title>Demo runner &amp; draft tube_test (invented) 100%</title>"));
     }

@@ -209,10 +209,11 @@ mod tests {
         let a = fixture::assess(fixture::DEMO);
         let text = String::from_utf8(Latex.export(&a)).unwrap();
         let count = |s: &str| text.matches(s).count();
-        // meshes, results, the published rules, breakdown summary, breakdown per mesh, band
-        assert_eq!(count("\\begin{tabular}"), 6);
+        // meshes, results, the published rules, breakdown summary and per mesh, band, the
+        // band's point warnings
+        assert_eq!(count("\\begin{tabular}"), 7);
         for rule in ["\\toprule", "\\midrule", "\\bottomrule", "\\end{tabular}"] {
-            assert_eq!(count(rule), 6, "{rule}");
+            assert_eq!(count(rule), 7, "{rule}");
         }
         assert_eq!(count("\\begin{"), count("\\end{"));
         assert!(text.contains("\\section*{Demo runner \\& draft tube\\_test (invented) 100\\%}"));

@@ -170,7 +170,9 @@ mod tests {
                 }
             }
         }
-        assert_eq!(tables, 6);
+        // meshes, results, the published rules, breakdown summary and per mesh, band, the
+        // band's point warnings
+        assert_eq!(tables, 7);
         assert!(text.contains("| M\\_fine | 2000000 | 1 | – |"), "{text}");
         assert!(text.contains(&format!("> **Caution.** {}", escape(&a.caution))));
         assert!(!text.contains("NaN") && !text.contains("inf "));

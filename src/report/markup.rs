@@ -7,12 +7,13 @@
 //! is a figure the assessment holds, rounded for display by [`super::format`].
 
 use super::format::{
-    class_label, condensed, governing_extrapolated, governing_label, governing_order, num, opt,
-    percent, sig, with_uncertainty,
+    class_label, condensed, governing_extrapolated, governing_label, governing_order, num, orders,
+    percent, places, point_class_label, points_of, sig, with_uncertainty,
 };
 use super::table::{breakdown_rule, statement, symbol};
 use crate::assess::sweep::{BandResult, BreakdownResult, SweepResult};
 use crate::assess::{Assessment, Method, QuantityResult};
+use crate::point_warnings::PointWarning;
 
 /// Rows of the condensed band table (about this many, always with the last point).
 pub const BAND_ROWS: usize = 16;
@@ -433,6 +434,37 @@ fn breakdown_per_mesh(s: &SweepResult, b: &BreakdownResult) -> TableBlock {
     t
 }
 
+/// The aggregated warnings of the points of a band, comparison or field column as a table:
+/// one row per code, with how many points raised it and where (`show` words one place);
+/// `None` when the points raised none.
+fn point_warnings_table<T>(
+    caption: String,
+    list: &[PointWarning<T>],
+    total: u64,
+    label: &str,
+    show: impl Fn(&T) -> String,
+) -> Option<Block> {
+    if list.is_empty() {
+        return None;
+    }
+    let mut t = TableBlock::new(
+        caption,
+        &[
+            ("warning", Align::Left),
+            ("points", Align::Right),
+            (label, Align::Left),
+        ],
+    );
+    for w in list {
+        t.rows.push(vec![
+            Cell::text(&w.code),
+            Cell::text(points_of(w, total)),
+            Cell::text(places(w, &show)),
+        ]);
+    }
+    Some(Block::Table(t))
+}
+
 fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
     let sm = &band.summary;
     out.push(Block::Heading(
@@ -443,7 +475,7 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
         .max_relative_at
         .map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6)));
     out.push(Block::Paragraph(vec![text(format!(
-        "{} points, {} interpolation: {} monotonic, {} oscillatory, {} divergent; mean relative U {}, largest {}{largest_at}; mean observed order {}.",
+        "{} points, {} interpolation: {} monotonic, {} oscillatory, {} divergent; mean relative U {}, largest {}{largest_at}; observed order {} (orders on a search bound, not found or not demonstrated left out).",
         sm.points,
         band.interpolation.label(),
         percent(sm.share_monotonic),
@@ -451,7 +483,7 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
         percent(sm.share_divergent),
         sm.mean_relative.map_or("–".into(), percent),
         sm.max_relative.map_or("–".into(), percent),
-        opt(sm.mean_order, 3),
+        orders(sm.mean_order, sm.median_order, sm.order_points as u64),
     ))]));
     let (rows, step) = condensed(band.points.len(), BAND_ROWS);
     let caption = if step > 1 {
@@ -484,10 +516,17 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
             Cell::num(p.absolute.map(|u| sig(u, 3))),
             Cell::num(p.lower.map(|v| sig(v, 6))),
             Cell::num(p.upper.map(|v| sig(v, 6))),
-            Cell::text(p.convergence.map_or("no estimate", |c| c.label())),
+            Cell::text(point_class_label(p)),
         ]);
     }
     out.push(Block::Table(t));
+    out.extend(point_warnings_table(
+        format!("Warnings at the points of the band of {}", band.response),
+        &band.point_warnings,
+        band.points.len() as u64,
+        &format!("at {}", s.x),
+        |x| num(*x, 6),
+    ));
 }
 
 fn comparison_blocks(
@@ -515,6 +554,19 @@ fn comparison_blocks(
             ""
         }
     ))]));
+    if c.kind == "sweep" {
+        out.push(Block::Paragraph(vec![text(format!(
+            "Observed order of the pointwise estimates at the measured points: {} (orders on a search bound, not found or not demonstrated left out).",
+            orders(c.mean_order, c.median_order, c.order_points as u64)
+        ))]));
+    }
+    let warned = point_warnings_table(
+        format!("Warnings at the measured points of {}", c.name),
+        &c.point_warnings,
+        cm.points.len() as u64,
+        &format!("at {x}"),
+        |v| num(*v, 6),
+    );
     let mut t = TableBlock::new(
         format!(
             "Comparison of {}{} with measurements",
@@ -554,6 +606,7 @@ fn comparison_blocks(
         ]);
     }
     out.push(Block::Table(t));
+    out.extend(warned);
 }
 
 fn field_blocks(f: &crate::field::FieldSummary, out: &mut Vec<Block>) {
@@ -592,6 +645,18 @@ fn field_blocks(f: &crate::field::FieldSummary, out: &mut Vec<Block>) {
         ]);
     }
     out.push(Block::Table(t));
+    out.push(Block::Paragraph(vec![text(
+        "Mean and median orders are over the probes whose convergence is demonstrated (orders on a search bound, not found or not demonstrated left out).",
+    )]));
+    for c in &f.columns {
+        out.extend(point_warnings_table(
+            format!("Warnings at the probes of {}.{}", f.name, c.name),
+            &c.point_warnings,
+            f.points,
+            "at probes",
+            String::clone,
+        ));
+    }
 }
 
 fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
@@ -839,8 +904,9 @@ mod tests {
                 _ => None,
             })
             .collect();
-        // meshes, results, breakdown summary, one per-mesh breakdown table, band
-        assert_eq!(tables.len(), 6);
+        // meshes, results, the published rules, breakdown summary, one per-mesh breakdown
+        // table, band, the band's point warnings
+        assert_eq!(tables.len(), 7);
         for t in &tables {
             assert_eq!(t.headers.len(), t.align.len());
             for r in &t.rows {

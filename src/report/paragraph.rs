@@ -12,7 +12,7 @@
 //! Every figure is one the [`Assessment`] holds, rounded for display by [`super::format`];
 //! nothing is computed here beyond formatting.
 
-use super::format::{not_demonstrated, num, percent, sig, with_uncertainty};
+use super::format::{not_demonstrated, num, percent, points_of, sig, with_uncertainty};
 use super::table::{breakdown_rule, symbol};
 use crate::assess::sweep::SweepResult;
 use crate::assess::{Assessment, Method, QuantityResult, Rule};
@@ -370,6 +370,48 @@ fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
             percent(sm.share_monotonic),
             percent(sm.share_oscillatory),
             percent(sm.share_divergent),
+        ));
+        out.extend(band_point_sentences(band));
+    }
+    out
+}
+
+/// What the band's aggregated point warnings add to the statement: the orders over the points
+/// that demonstrate convergence, the points that do not, and the points whose order departs
+/// from the formal order.
+fn band_point_sentences(band: &crate::assess::sweep::BandResult) -> Vec<String> {
+    let sm = &band.summary;
+    let total = band.points.len() as u64;
+    let mut out = Vec::new();
+    if let (Some(mean), Some(median)) = (sm.mean_order, sm.median_order) {
+        out.push(format!(
+            "Over the {} band points whose convergence is demonstrated, the observed order has a median of {} and a mean of {}.",
+            sm.order_points,
+            sig(median, 3),
+            sig(mean, 3)
+        ));
+    }
+    let find = |code: &str| band.point_warnings.iter().find(|w| w.code == code);
+    if let Some(w) = find(crate::point_warnings::NOT_DEMONSTRATED) {
+        out.push(format!(
+            "Convergence is not demonstrated at {} of the band points, where no uncertainty can be quoted.",
+            points_of(w, total)
+        ));
+    }
+    let departs: Vec<String> = [
+        "order_at_bound",
+        "order_low",
+        "order_high",
+        "order_far_from_formal",
+    ]
+    .iter()
+    .filter_map(|c| find(c))
+    .map(|w| format!("{} at {}", w.code, points_of(w, total)))
+    .collect();
+    if !departs.is_empty() {
+        out.push(format!(
+            "The observed order departs from the formal order at some band points ({}): the meshes are probably not in the asymptotic range there.",
+            departs.join(", ")
         ));
     }
     out

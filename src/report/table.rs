@@ -1,11 +1,12 @@
 //! Tables for people, built with comfy-table. Only formats the assessment.
 
 use super::format::{
-    class_label, governing_label, not_demonstrated, num, opt, opt_percent, percent, sig,
-    with_uncertainty,
+    class_label, governing_label, not_demonstrated, num, opt, opt_percent, orders, percent, places,
+    point_class_label, points_of, sig, with_uncertainty,
 };
 use super::Exporter;
 use crate::assess::{Assessment, Method, QuantityResult};
+use crate::point_warnings::PointWarning;
 use comfy_table::{presets, CellAlignment, ContentArrangement, Table as Grid, TableComponent};
 
 /// Human-readable tables.
@@ -26,6 +27,28 @@ fn grid(headers: &[&str]) -> Grid {
         }
     }
     t
+}
+
+/// The aggregated warnings of the points of a band, comparison or field column: one row per
+/// code, with how many points raised it and where (`show` words one place).
+fn point_warnings_block<T>(
+    list: &[PointWarning<T>],
+    total: u64,
+    label: &str,
+    show: impl Fn(&T) -> String,
+    out: &mut String,
+) {
+    if list.is_empty() {
+        return;
+    }
+    let mut t = grid(&["warning at points", "points", label]);
+    if let Some(c) = t.column_mut(2) {
+        c.set_cell_alignment(CellAlignment::Left);
+    }
+    for w in list {
+        t.add_row(vec![w.code.clone(), points_of(w, total), places(w, &show)]);
+    }
+    out.push_str(&format!("{t}\n"));
 }
 
 /// The one-line statement `value ± U (x.xx %)` with its class, or why there is none.
@@ -344,7 +367,7 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
         let sm = &band.summary;
         out.push_str(&format!(
             "\n  band of {} along {} ({} points, {} interpolation): {} monotonic, {} oscillatory, {} divergent; \
-             mean relative U {}, largest {}{}; mean observed order {}\n",
+             mean relative U {}, largest {}{}; observed order {}\n",
             band.response,
             s.x,
             sm.points,
@@ -355,7 +378,7 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
             opt_percent(sm.mean_relative),
             opt_percent(sm.max_relative),
             sm.max_relative_at.map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6))),
-            opt(sm.mean_order, 3),
+            orders(sm.mean_order, sm.median_order, sm.order_points as u64),
         ));
         let mut t = grid(&[s.x.as_str(), "value", "± U", "lower", "upper", "class"]);
         let n = band.points.len();
@@ -370,7 +393,7 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
                 opt(p.absolute, 3),
                 opt(p.lower, 6),
                 opt(p.upper, 6),
-                p.convergence.map_or("–", |c| c.label()).to_string(),
+                point_class_label(p).to_string(),
             ]);
         }
         out.push_str(&format!("{t}\n"));
@@ -379,6 +402,13 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
                 "  every {step}th point shown; all {n} are in the JSON and CSV outputs\n"
             ));
         }
+        point_warnings_block(
+            &band.point_warnings,
+            n as u64,
+            &format!("at {}", s.x),
+            |x| num(*x, 6),
+            out,
+        );
     }
 }
 
@@ -444,6 +474,19 @@ fn comparison_block(
         },
         sig(cm.summary.mean_error, 3)
     ));
+    if c.kind == "sweep" {
+        out.push_str(&format!(
+            "  observed order of the pointwise estimates: {}\n",
+            orders(c.mean_order, c.median_order, c.order_points as u64)
+        ));
+    }
+    point_warnings_block(
+        &c.point_warnings,
+        cm.points.len() as u64,
+        &format!("at {x}"),
+        |v| num(*v, 6),
+        out,
+    );
 }
 
 fn field_block(f: &crate::field::FieldSummary, out: &mut String) {
@@ -480,6 +523,16 @@ fn field_block(f: &crate::field::FieldSummary, out: &mut String) {
         ]);
     }
     out.push_str(&format!("{t}\n"));
+    out.push_str(
+        "  orders: over the points whose convergence is demonstrated (orders on a search bound, \
+         not found or not demonstrated left out)\n",
+    );
+    for c in &f.columns {
+        if !c.point_warnings.is_empty() {
+            out.push_str(&format!("  column {}\n", c.name));
+        }
+        point_warnings_block(&c.point_warnings, f.points, "at probes", String::clone, out);
+    }
 }
 
 impl Exporter for Table {
