@@ -304,3 +304,36 @@ quantities:
         assert_relative_eq!(f(&q["uncertainty"]["iterative"]), 0.001);
     }
 }
+
+#[test]
+fn a_comparison_on_an_undemonstrated_quantity_is_undecided() {
+    // φ = 1 + h^0.3 on h = 1, 2, 4 (analytic p = 0.3 < 0.5: convergence not demonstrated,
+    // common practice, no source): its U is not quotable, so the V&V 20 verdict is undecided
+    // instead of resting on it.
+    let w = Workdir::new();
+    let phi: Vec<String> = [1.0f64, 2.0, 4.0]
+        .iter()
+        .map(|h| format!("{:.15}", 1.0 + h.powf(0.3)))
+        .collect();
+    let v = assess_json(
+        &w,
+        &format!(
+            "format: 1
+meshes:
+  - {{name: A, size: 1.0}}
+  - {{name: B, size: 2.0}}
+  - {{name: C, size: 4.0}}
+quantities:
+  skin: {{values: {{A: {}, B: {}, C: {}}}}}
+reference_data:
+  skin: {{value: 2.0, u_measured: 0.01}}
+",
+            phi[0], phi[1], phi[2]
+        ),
+    );
+    assert_eq!(v["quantities"][0]["governing"]["demonstrated"], false);
+    let p = &v["comparisons"][0]["points"][0];
+    assert_eq!(p["u_num"], Value::Null);
+    assert_eq!(p["within"], Value::Null);
+    assert_eq!(v["comparisons"][0]["summary"]["undecided"], 1);
+}

@@ -38,6 +38,15 @@ pub struct ComparisonResult {
     pub order_points: usize,
 }
 
+/// The uncertainty of a simulated value when it can be quoted: none where convergence is not
+/// demonstrated, so that the V&V 20 verdict there is undecided instead of resting on a U the
+/// data do not support.
+fn quotable(q: &QuantityResult) -> Option<&crate::assess::Uncertainty> {
+    q.uncertainty
+        .as_ref()
+        .filter(|_| q.governing.as_ref().is_some_and(|g| g.demonstrated))
+}
+
 fn fail(study: &Study, r: &Reference, message: String) -> StudyError {
     StudyError {
         file: study.path.clone(),
@@ -84,8 +93,8 @@ pub fn run(
                 let sim = [Simulated {
                     x: 0.0,
                     value: s,
-                    uncertainty: q.uncertainty.as_ref().map(|u| u.absolute),
-                    standard: q.uncertainty.as_ref().map(|u| u.standard),
+                    uncertainty: quotable(q).map(|u| u.absolute),
+                    standard: quotable(q).map(|u| u.standard),
                 }];
                 let c = compare(&sim, &meas, s, &cs).map_err(|e| fail(study, r, e))?;
                 out.push(ComparisonResult {
@@ -153,8 +162,8 @@ pub fn run(
                     sim.push(Simulated {
                         x: m.x,
                         value: values[0],
-                        uncertainty: q.uncertainty.as_ref().map(|u| u.absolute),
-                        standard: q.uncertainty.as_ref().map(|u| u.standard),
+                        uncertainty: quotable(&q).map(|u| u.absolute),
+                        standard: quotable(&q).map(|u| u.standard),
                     });
                 }
                 let peak = sw.curves[0].responses[ri]
