@@ -18,21 +18,7 @@
 mod study;
 
 fn main() {
-    let mut cases: usize = 100_000;
-    let mut seed: u64 = 2026;
-    let mut args = std::env::args().skip(1);
-    while let Some(a) = args.next() {
-        let value = args.next();
-        let parsed = match (a.as_str(), value.as_deref()) {
-            ("--cases", Some(v)) => v.parse().map(|n| cases = n).is_ok(),
-            ("--seed", Some(v)) => v.parse().map(|s| seed = s).is_ok(),
-            _ => false,
-        };
-        if !parsed {
-            eprintln!("usage: ls_coverage [--cases N] [--seed S]");
-            std::process::exit(2);
-        }
-    }
+    let (cases, seed) = study::sampling::cases_and_seed("ls_coverage");
     let s = study::run(cases, seed);
     print!("{}", study::table(&s));
 }

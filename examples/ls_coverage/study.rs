@@ -16,6 +16,11 @@
 //! (`LsSettings::default()`). A result covers a case when |φ1 − φ0| ≤ U of the finest mesh; a
 //! result with no U (the estimate fails, or the class is divergent) covers nothing.
 
+#[path = "../support/sampling.rs"]
+pub mod sampling;
+pub use sampling::SplitMix64;
+use sampling::{median, ratio};
+
 use meshbound::estimate::least_squares::{estimate, LeastSquares, LsSettings};
 use meshbound::estimate::Convergence;
 
@@ -82,27 +87,6 @@ impl Rules {
                 ..LsSettings::default()
             },
         }
-    }
-}
-
-/// splitmix64 (Steele, Lea & Flood 2014): a tiny deterministic generator, enough for sampling.
-pub struct SplitMix64(u64);
-
-impl SplitMix64 {
-    pub fn new(seed: u64) -> Self {
-        SplitMix64(seed)
-    }
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    /// Uniform in [lo, hi) from the top 53 bits.
-    pub fn uniform(&mut self, lo: f64, hi: f64) -> f64 {
-        let u = (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64;
-        lo + (hi - lo) * u
     }
 }
 
@@ -227,27 +211,6 @@ impl Tally {
                 self.effectivity.push(u / error);
             }
         }
-    }
-}
-
-fn median(mut v: Vec<f64>) -> f64 {
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    v.sort_by(f64::total_cmp);
-    let n = v.len();
-    if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    }
-}
-
-fn ratio(a: usize, b: usize) -> f64 {
-    if b == 0 {
-        f64::NAN
-    } else {
-        a as f64 / b as f64
     }
 }
 
