@@ -53,6 +53,7 @@ pub mod estimate;
 pub mod field;
 pub mod gate;
 pub mod grid;
+pub mod history;
 pub mod input;
 pub mod machine;
 pub mod plan;
