@@ -175,6 +175,31 @@ pub struct QuantityResult {
     /// Every published rule on the same meshes, side by side (the three-mesh rules of
     /// [`crate::estimate::rules`] with three or more meshes, the two-mesh GCI with two).
     pub rules: Vec<RuleEstimate>,
+    /// Each mesh's reduced monitor history, when the values came from histories (finest
+    /// first; left out of the JSON otherwise).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub histories: Vec<MeshHistory>,
+}
+
+/// One mesh's monitor history, reduced.
+#[derive(Debug, Clone, Serialize)]
+pub struct MeshHistory {
+    /// The mesh.
+    pub mesh: String,
+    /// The file read.
+    pub file: String,
+    /// The reduction: value, steady part, statistical and iterative figures, warnings.
+    #[serde(flatten)]
+    pub result: crate::history::HistoryResult,
+    /// The iterative uncertainty U_I this history gives the mesh (see
+    /// `study::history_input::iterative_of`).
+    pub iterative_uncertainty: Option<f64>,
+    /// The samples thinned for drawing (not in the JSON).
+    #[serde(skip)]
+    pub trace: Vec<(f64, f64)>,
+    /// The abscissa's name (not in the JSON).
+    #[serde(skip)]
+    pub abscissa: Option<String>,
 }
 
 /// Estimates one quantity over the meshes (finest first): the three-mesh estimate on the three
@@ -204,6 +229,7 @@ pub fn quantity(
         uncertainty: None,
         governing: None,
         rules: Vec::new(),
+        histories: Vec::new(),
     };
     if n == 2 {
         two_meshes(&mut out, meshes, values, settings, warnings);
@@ -512,6 +538,20 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
             );
             if let (Some(u), Some(u_i)) = (&r.uncertainty, q.iterative.first().copied().flatten()) {
                 r.uncertainty = Some(govern::with_iterative(u, u_i));
+            }
+            for (m, h) in study.meshes.iter().zip(&q.histories) {
+                warnings.extend(h.result.warnings.iter().map(|w| {
+                    Warning::new(&w.code, format!("mesh `{}`: {}", m.name, w.message))
+                        .about(&q.name)
+                }));
+                r.histories.push(MeshHistory {
+                    mesh: m.name.clone(),
+                    file: h.file.display().to_string(),
+                    result: h.result.clone(),
+                    iterative_uncertainty: crate::study::history_input::iterative_of(&h.result),
+                    trace: h.trace.clone(),
+                    abscissa: h.abscissa.clone(),
+                });
             }
             r
         })

@@ -71,6 +71,21 @@ pub fn figures(a: &Assessment) -> Vec<Figure> {
             &mut taken,
             &mut out,
         );
+        for h in &q.histories {
+            let (x, y): (Vec<f64>, Vec<f64>) = h.trace.iter().copied().unzip();
+            if let Some(svg) =
+                crate::history::plot::history_plot(&y, Some(&x), h.abscissa.as_deref(), &h.result)
+            {
+                out.push(Figure {
+                    title: format!("Monitor history of {} on mesh {}", q.name, h.mesh),
+                    svg,
+                    file: Some(unique(
+                        format!("history-{}-{}", file_part(&q.name), file_part(&h.mesh)),
+                        &mut taken,
+                    )),
+                });
+            }
+        }
     }
     for s in &a.sweeps {
         let plotted = s.band.as_ref().map_or_else(

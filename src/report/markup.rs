@@ -320,6 +320,46 @@ fn rules_table(a: &Assessment) -> Option<TableBlock> {
     Some(t)
 }
 
+/// The monitor histories the quantities' values came from, per mesh; `None` when none did.
+fn histories_table(a: &Assessment) -> Option<TableBlock> {
+    if a.quantities.iter().all(|q| q.histories.is_empty()) {
+        return None;
+    }
+    let mut t = TableBlock::new(
+        "Monitor histories: value of each mesh, start of the steady part, and the iterative uncertainty U_I the history gives (docs/method.md, monitor histories)",
+        &[
+            ("quantity", Align::Left),
+            ("mesh", Align::Left),
+            ("samples", Align::Right),
+            ("steady from", Align::Right),
+            ("value", Align::Right),
+            ("U stat. (95 %)", Align::Right),
+            ("drift", Align::Right),
+            ("U_I", Align::Right),
+        ],
+    );
+    for q in &a.quantities {
+        for h in &q.histories {
+            let r = &h.result;
+            t.rows.push(vec![
+                Cell::text(&q.name),
+                Cell::text(&h.mesh),
+                Cell::num(Some(r.samples.to_string())),
+                Cell::num(Some(
+                    r.steady
+                        .start_at
+                        .map_or_else(|| r.steady.start_index.to_string(), |x| num(x, 8)),
+                )),
+                Cell::num(Some(num(r.value, 8))),
+                Cell::num(r.statistical.as_ref().map(|s| sig(s.expanded, 3))),
+                Cell::num(r.iterative.as_ref().map(|i| sig(i.drift, 3))),
+                Cell::num(h.iterative_uncertainty.map(|u| sig(u, 3))),
+            ]);
+        }
+    }
+    Some(t)
+}
+
 /// The two estimates side by side, for quantities with a least-squares estimate.
 fn both_estimates_table(a: &Assessment) -> Option<TableBlock> {
     let mut t = TableBlock::new(
@@ -753,6 +793,9 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
         out.push(Block::List(items));
         out.push(Block::Table(results_table(a)));
         if let Some(t) = rules_table(a) {
+            out.push(Block::Table(t));
+        }
+        if let Some(t) = histories_table(a) {
             out.push(Block::Table(t));
         }
         if let Some(t) = both_estimates_table(a) {

@@ -126,9 +126,46 @@ fn quantity_block(a: &Assessment, q: &QuantityResult, out: &mut String) {
         out.push_str(&format!("{t}\n"));
     }
     rules_block(q, out);
+    histories_block(q, out);
     if let Some(ls) = &q.least_squares {
         least_squares_block(a, q, ls, out);
     }
+}
+
+/// Each mesh's monitor history: where its steady part starts, its value and the uncertainty
+/// the history carries.
+fn histories_block(q: &QuantityResult, out: &mut String) {
+    if q.histories.is_empty() {
+        return;
+    }
+    let mut t = grid(&[
+        "monitor history",
+        "samples",
+        "steady from",
+        "value",
+        "U stat. (95 %)",
+        "half range",
+        "drift",
+        "U_I",
+        "status",
+    ]);
+    for h in &q.histories {
+        let r = &h.result;
+        t.add_row(vec![
+            h.mesh.clone(),
+            r.samples.to_string(),
+            r.steady
+                .start_at
+                .map_or_else(|| r.steady.start_index.to_string(), |x| num(x, 8)),
+            num(r.value, 8),
+            opt(r.statistical.as_ref().map(|s| s.expanded), 3),
+            opt(r.iterative.as_ref().map(|i| i.half_range), 3),
+            opt(r.iterative.as_ref().map(|i| i.drift), 3),
+            opt(h.iterative_uncertainty, 3),
+            format!("{:?}", r.status).to_lowercase(),
+        ]);
+    }
+    out.push_str(&format!("{t}\n"));
 }
 
 /// Every published rule on the same meshes, side by side, the governing one marked.

@@ -9,6 +9,7 @@ pub mod csv_input;
 pub mod keys;
 pub mod num;
 pub mod raw;
+pub mod history_input;
 pub mod reach;
 pub mod reference;
 pub mod scale;
@@ -71,6 +72,22 @@ pub struct Quantity {
     pub iterative: Vec<Option<f64>>,
     /// Where `iterative` came from.
     pub iterative_source: IterativeSource,
+    /// Each mesh's reduced monitor history, when the values came from histories (empty
+    /// otherwise).
+    pub histories: Vec<QuantityHistory>,
+}
+
+/// One mesh's monitor history of a quantity.
+#[derive(Debug, Clone, PartialEq)]
+pub struct QuantityHistory {
+    /// The file read.
+    pub file: PathBuf,
+    /// Its reduction.
+    pub result: crate::history::HistoryResult,
+    /// Its samples thinned for drawing (abscissa, value).
+    pub trace: Vec<(f64, f64)>,
+    /// The abscissa's name, when the history has one.
+    pub abscissa: Option<String>,
 }
 
 /// Where a quantity's iterative uncertainty came from.
@@ -625,8 +642,31 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
 
     // Quantities: one finite value per mesh, no unknown mesh names.
     let mut quantities = Vec::new();
+    let mut history_files: Vec<PathBuf> = Vec::new();
     for (qname, q) in &raw.quantities {
-        for name in q.values.keys() {
+        let from_history = match (&q.values, &q.history) {
+            (Some(_), Some(_)) => {
+                return Err(err(
+                    format!("quantities.{qname}.history"),
+                    "gives both `values` and `history`: give one".into(),
+                ))
+            }
+            (None, None) => {
+                return Err(err(
+                    format!("quantities.{qname}"),
+                    "gives neither `values` nor `history`: give one value per mesh, or one \
+                     monitor history per mesh"
+                        .into(),
+                ))
+            }
+            (None, Some(h)) => Some(history_input::read(
+                qname, h, &meshes, path, &reach, &at,
+            )?),
+            (Some(_), None) => None,
+        };
+        let empty = indexmap::IndexMap::new();
+        let given_values = q.values.as_ref().unwrap_or(&empty);
+        for name in given_values.keys() {
             if !seen.contains(name.as_str()) {
                 let known: Vec<&str> = raw.meshes.iter().map(|m| m.name.as_str()).collect();
                 return Err(err(
@@ -639,8 +679,8 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
             }
         }
         let mut values = Vec::with_capacity(meshes.len());
-        for m in &meshes {
-            match q.values.get(&m.name) {
+        for m in meshes.iter().filter(|_| from_history.is_none()) {
+            match given_values.get(&m.name) {
                 Some(v) => values.push(v.0),
                 None => {
                     return Err(err(
@@ -654,6 +694,25 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
             }
         }
         let mut iterative = vec![None; meshes.len()];
+        let mut histories = Vec::new();
+        if let Some(h) = from_history {
+            values = h.values;
+            iterative = h.iterative;
+            histories = h
+                .files
+                .iter()
+                .cloned()
+                .zip(h.results)
+                .zip(h.traces)
+                .map(|((file, result), (trace, abscissa))| QuantityHistory {
+                    file,
+                    result,
+                    trace,
+                    abscissa,
+                })
+                .collect();
+            history_files.extend(h.files);
+        }
         if let Some(own) = &q.iterative {
             for name in own.keys() {
                 if !seen.contains(name.as_str()) {
@@ -673,12 +732,13 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
             name: qname.clone(),
             unit: q.unit.clone(),
             values,
-            iterative_source: if q.iterative.is_some() {
+            iterative_source: if q.iterative.is_some() || !histories.is_empty() {
                 IterativeSource::Quantity
             } else {
                 IterativeSource::None
             },
             iterative,
+            histories,
         });
     }
     // The meshes' iterative values stand for every quantity without its own only when all
@@ -747,6 +807,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         .gravity
         .map_or(crate::machine::STANDARD_GRAVITY, |g| g.0);
     let mut files_read = vec![path.to_path_buf()];
+    files_read.extend(history_files);
     let mesh_names: Vec<String> = meshes.iter().map(|m| m.name.clone()).collect();
     let sweeps = sweep::check(
         &raw.sweeps,

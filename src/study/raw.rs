@@ -165,12 +165,72 @@ pub struct RawQuantity {
     /// One sentence saying what the quantity is.
     #[serde(default)]
     pub description: Option<String>,
-    /// One value per mesh name.
-    pub values: IndexMap<String, Finite>,
+    /// One value per mesh name (or give `history`).
+    #[serde(default)]
+    pub values: Option<IndexMap<String, Finite>>,
     /// Iterative uncertainty per mesh name, absolute, in the quantity's unit (optional; a
     /// mesh left out has none).
     #[serde(default)]
     pub iterative: Option<IndexMap<String, Finite>>,
+    /// The values read from each mesh's monitor history instead of `values`.
+    #[serde(default)]
+    pub history: Option<RawHistory>,
+}
+
+/// A column of a history file: its name in the header, or its 1-based position.
+#[derive(Debug, Clone, PartialEq, Eq, Deserialize, schemars::JsonSchema)]
+#[serde(untagged)]
+pub enum RawColumn {
+    /// 1-based position.
+    Position(usize),
+    /// Name in the header.
+    Name(String),
+}
+
+impl RawColumn {
+    /// The reader's column reference.
+    pub fn to_ref(&self) -> crate::history::read::ColumnRef {
+        match self {
+            RawColumn::Position(i) => crate::history::read::ColumnRef::Position(*i),
+            RawColumn::Name(n) => crate::history::read::ColumnRef::Name(n.clone()),
+        }
+    }
+}
+
+/// Which figure of a history is the value.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, schemars::JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum RawReduction {
+    /// The mean of the statistically steady part (default).
+    Mean,
+    /// The last sample.
+    Last,
+    /// The smallest sample of the steady part.
+    Min,
+    /// The largest sample of the steady part.
+    Max,
+}
+
+/// Per-mesh monitor histories of a quantity.
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawHistory {
+    /// One history file per mesh name, relative to the study file.
+    pub files: IndexMap<String, String>,
+    /// The monitored column.
+    pub column: RawColumn,
+    /// The iteration or time column, if any.
+    #[serde(default)]
+    pub abscissa: Option<RawColumn>,
+    /// Which figure is the value (default `mean`).
+    #[serde(default)]
+    pub reduce: Option<RawReduction>,
+    /// Batches of the batch-means estimate (default 20).
+    #[serde(default)]
+    pub batches: Option<usize>,
+    /// The share of the history that is its final window (default 0.1).
+    #[serde(default)]
+    pub final_share: Option<f64>,
 }
 
 /// Which estimator decides a quantity's uncertainty.
