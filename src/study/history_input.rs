@@ -142,7 +142,10 @@ pub fn read(
             series.abscissa_name.clone(),
         ));
         if !r.value.is_finite() {
-            return Err(at.err(mkey, "the history reduces to a value that is not finite".into()));
+            return Err(at.err(
+                mkey,
+                "the history reduces to a value that is not finite".into(),
+            ));
         }
         out.values.push(r.value);
         out.iterative.push(iterative_of(&r));

@@ -6,10 +6,10 @@
 //! [`StudyError`] naming the file, the key path and, where known, the line and column.
 
 pub mod csv_input;
+pub mod history_input;
 pub mod keys;
 pub mod num;
 pub mod raw;
-pub mod history_input;
 pub mod reach;
 pub mod reference;
 pub mod scale;
@@ -659,9 +659,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
                         .into(),
                 ))
             }
-            (None, Some(h)) => Some(history_input::read(
-                qname, h, &meshes, path, &reach, &at,
-            )?),
+            (None, Some(h)) => Some(history_input::read(qname, h, &meshes, path, &reach, &at)?),
             (Some(_), None) => None,
         };
         let empty = indexmap::IndexMap::new();
