@@ -18,6 +18,9 @@ use crate::history::read::ReadOptions;
 use crate::history::{self, HistoryError, HistoryResult, HistorySettings, Reduction, Status};
 use std::path::{Path, PathBuf};
 
+/// A history's samples thinned for drawing (abscissa, value), and the abscissa's name.
+pub type Trace = (Vec<(f64, f64)>, Option<String>);
+
 /// What the histories of one quantity give, per mesh (in the order of the study's meshes).
 #[derive(Debug, Clone, PartialEq)]
 pub struct QuantityHistories {
@@ -29,8 +32,8 @@ pub struct QuantityHistories {
     pub results: Vec<HistoryResult>,
     /// The files read, in mesh order.
     pub files: Vec<PathBuf>,
-    /// Each mesh's samples thinned for drawing (abscissa, value), and the abscissa's name.
-    pub traces: Vec<(Vec<(f64, f64)>, Option<String>)>,
+    /// Each mesh's samples thinned for drawing, and the abscissa's name.
+    pub traces: Vec<Trace>,
 }
 
 /// U_I of one reduced history (see the module documentation).
