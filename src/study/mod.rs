@@ -14,6 +14,7 @@ pub mod reach;
 pub mod reference;
 pub mod scale;
 pub mod sweep;
+pub mod sweep_history;
 
 use crate::grid::{self, GridError, Mesh, MeshSpec, SizeBasis};
 use raw::{EstimatorChoice, RawStudy};
