@@ -201,6 +201,9 @@ fn text(s: impl Into<String>) -> Span {
 
 /// Value and U of a statement, the value rounded to the last digit shown of U.
 fn value_and_u(q: &QuantityResult) -> (Cell, Cell) {
+    if let Some(nc) = &q.not_computed {
+        return (Cell::Missing, Cell::text(nc.text()));
+    }
     match &q.uncertainty {
         Some(u) => {
             let (v, a) = with_uncertainty(u.value, u.absolute);
@@ -423,13 +426,21 @@ fn breakdown_per_mesh(s: &SweepResult, b: &BreakdownResult) -> TableBlock {
             (&xs, Align::Right),
         ],
     );
-    for m in &b.per_mesh {
-        t.rows.push(vec![
-            Cell::text(&m.mesh),
-            Cell::Num(sig(m.reference, 6)),
-            Cell::Num(sig(m.threshold, 6)),
-            Cell::Num(sig(m.x, 5)),
-        ]);
+    for row in super::table::per_mesh_rows(s, b) {
+        t.rows.push(match row {
+            Ok(m) => vec![
+                Cell::text(&m.mesh),
+                Cell::Num(sig(m.reference, 6)),
+                Cell::Num(sig(m.threshold, 6)),
+                Cell::Num(sig(m.x, 5)),
+            ],
+            Err(m) => vec![
+                Cell::text(&m.mesh),
+                Cell::num(m.reference.map(|r| sig(r, 6))),
+                Cell::Missing,
+                Cell::text(format!("not computed: {}", m.reason)),
+            ],
+        });
     }
     t
 }
@@ -471,6 +482,21 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
         3,
         format!("Band of {} along {}", band.response, s.x),
     ));
+    if let Some(nc) = &band.not_computed {
+        out.push(Block::Paragraph(vec![text(format!("{}.", nc.text()))]));
+        return;
+    }
+    if !band.points_outside_range.is_empty() {
+        out.push(Block::Paragraph(vec![text(format!(
+            "Band abscissae outside the range common to all meshes, not computed there: {} = {}.",
+            s.x,
+            band.points_outside_range
+                .iter()
+                .map(|x| num(*x, 6))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ))]));
+    }
     let largest_at = sm
         .max_relative_at
         .map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6)));
@@ -540,6 +566,20 @@ fn comparison_blocks(
         3,
         format!("Comparison with measurements: {}", c.name),
     ));
+    if let Some(nc) = &c.not_computed {
+        out.push(Block::Paragraph(vec![text(format!("{}.", nc.text()))]));
+        return;
+    }
+    if !c.points_outside_range.is_empty() {
+        out.push(Block::Paragraph(vec![text(format!(
+            "Measured points outside the range common to all meshes, not computed there: {x} = {}.",
+            c.points_outside_range
+                .iter()
+                .map(|v| num(*v, 6))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ))]));
+    }
     out.push(Block::Paragraph(vec![text(format!(
         "ASME V&V 20: E = S − D, u_val = sqrt(u_num² + u_input² + u_D²), {}, k = {}. {} of {} points have |E| ≤ k·u_val; largest |E| {}; mean E {}.{}",
         super::format::u_num_phrase(cm.divisor),

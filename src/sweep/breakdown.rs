@@ -143,6 +143,8 @@ pub enum BreakdownError {
         threshold: f64,
         /// The rule they did not meet.
         persistence: Persistence,
+        /// The reference.
+        reference: f64,
     },
     /// No point lies on the plateau.
     #[error("no sweep point lies on the plateau x >= {}: the highest x is {}; lower the plateau start or extend the sweep to higher x", fmt_num(*.from), fmt_num(*.highest_x))]
@@ -177,6 +179,46 @@ pub enum BreakdownError {
         /// The threshold.
         threshold: f64,
     },
+}
+
+impl BreakdownError {
+    /// Whether the fault lies in one curve's data (the breakdown of that mesh cannot be read,
+    /// a local problem) rather than in the breakdown definition itself (the drop or the
+    /// persistence rule, the same for every mesh: a fault of the study).
+    pub fn is_local(&self) -> bool {
+        !matches!(
+            self,
+            BreakdownError::InvalidDrop(_) | BreakdownError::InvalidPersistence(_)
+        )
+    }
+
+    /// The reference the curve gave before breakdown failed, when it was formed.
+    pub fn reference(&self) -> Option<f64> {
+        match self {
+            BreakdownError::OnlyDips { reference, .. }
+            | BreakdownError::StartsBelowThreshold { reference, .. }
+            | BreakdownError::NoCrossing { reference, .. } => Some(*reference),
+            _ => None,
+        }
+    }
+
+    /// Why, in a few words (the full message says how to fix it).
+    pub fn short(&self) -> String {
+        match self {
+            BreakdownError::NoCrossing { lowest_x, .. } => format!(
+                "the response stays above the threshold down to the sweep's lowest x, {}",
+                fmt_num(*lowest_x)
+            ),
+            BreakdownError::OnlyDips { .. } => {
+                "the response falls below the threshold only in dips that come back".to_string()
+            }
+            BreakdownError::StartsBelowThreshold { .. } => {
+                "the sweep starts below the threshold".to_string()
+            }
+            BreakdownError::NoPlateauPoints { .. } => "no sweep point on the plateau".to_string(),
+            e => e.to_string(),
+        }
+    }
 }
 
 /// `x = 0.16 (1 point)` or `x = 0.16 to 0.15 (2 points)` for each dip.
@@ -382,6 +424,7 @@ pub fn find_breakdown_with(
                     dips,
                     threshold,
                     persistence: *persist,
+                    reference,
                 });
             }
             let lowest_y = ys.iter().copied().fold(f64::INFINITY, f64::min);
