@@ -286,3 +286,40 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
     }
     Ok(out)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::markup::fixture;
+
+    /// A target that was not computed fails every limit on it, with the reason; a computed
+    /// target beside it is checked as usual. Demo data (invented): only the verdicts are
+    /// checked, no figure.
+    #[test]
+    fn an_uncomputed_target_fails_every_limit_with_the_reason() {
+        // The demo curves fall by at most 20 %: a 50 % drop is reached on no mesh.
+        let text = fixture::DEMO.replace("drop: 1%", "drop: 50%");
+        let a = fixture::assess(&text);
+        assert!(a.sweeps[0].breakdown[0].x_estimate.not_computed.is_some());
+        let limits: Vec<RawAcceptance> = serde_yaml::from_str(
+            "- {target: cav.breakdown.efficiency, max_relative: 0.5, max_absolute: 1, require: monotonic, min_meshes: 3}\n- {target: efficiency, max_relative: 0.5}\n",
+        )
+        .unwrap();
+        let checks = check(&a, &limits).unwrap();
+        let on_b: Vec<&Check> = checks
+            .iter()
+            .filter(|c| c.target == "cav.breakdown.efficiency")
+            .collect();
+        assert_eq!(on_b.len(), 4);
+        for c in on_b {
+            assert!(!c.passed && c.value.is_null());
+            let note = c.note.as_deref().unwrap();
+            assert!(
+                note.starts_with("not computed: no breakdown on mesh M_fine")
+                    && note.contains("breakdown_not_computed"),
+                "{note}"
+            );
+        }
+        assert!(checks.iter().any(|c| c.target == "efficiency" && c.passed));
+    }
+}

@@ -453,3 +453,65 @@ fn study_wide_faults_still_exit_2_with_nothing_written() {
         assert_eq!(w.files(), ["s.yaml"], "nothing written");
     }
 }
+
+/// A mesh whose sweep starts below the plateau start (C from σ = 0.35, the plateau from
+/// σ = 0.38) has neither a reference nor a breakdown: both are not computed, and `gate` fails
+/// limits on both. Manufactured data; which points lie on the plateau is read off the study.
+#[test]
+fn a_mesh_without_a_plateau_point_has_neither_reference_nor_breakdown() {
+    let text = "format: 1
+meshes:
+  - {name: A, size: 1.0}
+  - {name: B, size: 1.5}
+  - {name: C, size: 2.25}
+quantities:
+  torque: {unit: N, values: {A: 10.1, B: 10.225, C: 10.50625}}
+sweeps:
+  cav:
+    x: sigma
+    responses: [efficiency]
+    interpolation: linear
+    data:
+      A: {sigma: [0.4, 0.3, 0.2, 0.15, 0.1], efficiency: [0.90, 0.90, 0.898, 0.88, 0.80]}
+      B: {sigma: [0.4, 0.3, 0.2, 0.15, 0.1], efficiency: [0.89, 0.89, 0.886, 0.86, 0.76]}
+      C: {sigma: [0.35, 0.3, 0.2, 0.15, 0.1], efficiency: [0.87, 0.87, 0.858, 0.83, 0.70]}
+    breakdown:
+      - {response: efficiency, drop: 1%, reference: plateau, plateau_from: 0.38}
+acceptance:
+  - {target: cav.reference.efficiency, max_relative: 50%}
+  - {target: torque, max_relative: 50%}
+";
+    let v = assess(text);
+    let b = &v["sweeps"][0]["breakdown"][0];
+    assert_eq!(b["per_mesh_not_computed"][0]["mesh"], "C");
+    assert!(b["per_mesh_not_computed"][0]["reference"].is_null());
+    assert_eq!(
+        b["x_estimate"]["not_computed"]["code"],
+        "breakdown_not_computed"
+    );
+    let r = &b["reference_estimate"];
+    assert_eq!(r["not_computed"]["code"], "reference_not_computed");
+    assert!(
+        r["not_computed"]["reason"]
+            .as_str()
+            .unwrap()
+            .contains("no reference on mesh C (no sweep point on the plateau)"),
+        "{r}"
+    );
+    assert_eq!(
+        warned(&v, "reference_not_computed")[0].0,
+        "cav.reference.efficiency"
+    );
+    let w = Workdir::new();
+    w.write("s.yaml", text);
+    let o = run_in(w.path(), &["gate", "s.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(1), "{}", show(&o));
+    let g: Value = serde_json::from_slice(&o.stdout).unwrap();
+    for c in g["checks"].as_array().unwrap() {
+        let uncomputed = c["target"] == "cav.reference.efficiency";
+        assert_eq!(c["passed"], !uncomputed, "{c}");
+        if uncomputed {
+            assert!(c["note"].as_str().unwrap().contains("not computed"), "{c}");
+        }
+    }
+}

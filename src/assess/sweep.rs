@@ -386,18 +386,13 @@ pub fn assess_sweep(
                 &rsubject, role_r, None, &sub, &values, settings, estimator, warnings,
             ),
             None => {
-                let missing: Vec<&str> = s
-                    .curves
+                // Every curve without a reference failed, and is listed in `failed`.
+                let reason = failed
                     .iter()
-                    .zip(&refs)
-                    .filter(|(_, r)| r.is_none())
-                    .map(|(c, _)| c.mesh.as_str())
-                    .collect();
-                let reason = format!(
-                    "no reference on mesh{} {}",
-                    if missing.len() == 1 { "" } else { "es" },
-                    missing.join(", ")
-                );
+                    .filter(|f| f.reference.is_none())
+                    .map(|f| format!("no reference on mesh {} ({})", f.mesh, f.reason))
+                    .collect::<Vec<_>>()
+                    .join("; ");
                 warnings.push(
                     Warning::new(
                         REFERENCE_NOT_COMPUTED,

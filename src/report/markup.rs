@@ -965,6 +965,41 @@ mod tests {
         assert_eq!(blocks[n - 4], Block::Heading(2, STATEMENT_HEADING.into()));
     }
 
+    /// A mesh without breakdown keeps its place (finest first) in the per-mesh table, with the
+    /// reason where the breakdown would be; the summary says "not computed" in the U cell.
+    /// Demo data (invented): the last point of the finest curve raised above the 1 % threshold.
+    #[test]
+    fn a_mesh_without_breakdown_is_shown_in_its_place() {
+        let text = fixture::DEMO.replace(
+            "efficiency: [0.90, 0.90, 0.898, 0.88, 0.80]",
+            "efficiency: [0.90, 0.90, 0.898, 0.895, 0.894]",
+        );
+        let a = fixture::assess(&text);
+        let s = &a.sweeps[0];
+        let t = breakdown_per_mesh(s, &s.breakdown[0]);
+        let meshes: Vec<&Cell> = t.rows.iter().map(|r| &r[0]).collect();
+        assert_eq!(
+            meshes,
+            [
+                &Cell::text("M_fine"),
+                &Cell::text("M_mid"),
+                &Cell::text("M_coarse")
+            ]
+        );
+        assert!(
+            matches!(&t.rows[0][3], Cell::Text(x) if x.starts_with("not computed: the response stays above")),
+            "{:?}",
+            t.rows[0]
+        );
+        let summary = breakdown_summary(s);
+        assert!(
+            matches!(&summary.rows[0][2], Cell::Text(x) if x.starts_with("not computed: no breakdown on mesh M_fine")),
+            "{:?}",
+            summary.rows[0]
+        );
+        assert_eq!(summary.rows[0][4], Cell::text("not computed"));
+    }
+
     #[test]
     fn divergent_quantity_has_no_uncertainty_cells() {
         let a = fixture::assess(fixture::DEMO);

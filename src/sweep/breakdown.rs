@@ -897,4 +897,58 @@ mod tests {
             ));
         }
     }
+
+    /// Which faults are one curve's (local: that mesh's breakdown is not computed) and which
+    /// are the definition's (the study's); the reference the curve gave survives the fault.
+    /// Manufactured curves: the plateau mean of 0.9 and 0.9 is 0.9 (analytic).
+    #[test]
+    fn faults_say_whether_they_are_local_and_keep_the_reference() {
+        let x = [0.4, 0.3, 0.2, 0.1];
+        let flat = [0.9, 0.9, 0.899, 0.898];
+        let plateau = ReferenceKind::Plateau { from: 0.3 };
+        let e = find_breakdown(
+            &x,
+            &flat,
+            &plateau,
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(matches!(e, BreakdownError::NoCrossing { .. }));
+        assert!(e.is_local());
+        assert_eq!(e.reference(), Some(0.9));
+        assert!(e.short().contains("0.1"), "{}", e.short());
+        // No point on the plateau: local, and no reference.
+        let e = find_breakdown(
+            &x,
+            &flat,
+            &ReferenceKind::Plateau { from: 0.5 },
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(e.is_local() && e.reference().is_none());
+        // A dip that comes back only: local, the reference kept.
+        let dip = [0.9, 0.9, 0.85, 0.9];
+        let e = find_breakdown(
+            &x,
+            &dip,
+            &plateau,
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(matches!(e, BreakdownError::OnlyDips { .. }), "{e:?}");
+        assert_eq!(e.reference(), Some(0.9));
+        // The drop is the definition's, the same for every mesh: not local.
+        let e = find_breakdown(
+            &x,
+            &flat,
+            &plateau,
+            &DropRule::Relative(1.5),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(!e.is_local());
+    }
 }
