@@ -63,16 +63,16 @@ const POINTS_ALL_OUTSIDE: &str = "      - {x: 0.05, value: 0.7}\n      - {x: 0.6
 const OVERFLOWING: &str =
     "  huge:\n    unit: N\n    values: {A: 1.7e308, B: -1.7e308, C: 1.7e308}\n";
 
-struct Parts {
-    head: &'static str,
-    a_head_end: &'static str,
-    band_at: &'static str,
-    points: &'static str,
-    quantities: &'static str,
-    limits: &'static str,
+struct Parts<'a> {
+    head: &'a str,
+    a_head_end: &'a str,
+    band_at: &'a str,
+    points: &'a str,
+    quantities: &'a str,
+    limits: &'a str,
 }
 
-const CLEAN: Parts = Parts {
+const CLEAN: Parts<'static> = Parts {
     head: "",
     a_head_end: "59.0",
     band_at: "[0.2, 0.3]",
@@ -512,6 +512,84 @@ acceptance:
         assert_eq!(c["passed"], !uncomputed, "{c}");
         if uncomputed {
             assert!(c["note"].as_str().unwrap().contains("not computed"), "{c}");
+        }
+    }
+}
+
+/// A comparison normalised by its peaks cannot be formed when the measured peak is zero (a
+/// division by zero, analytic): it is not computed, and the rest is unchanged.
+#[test]
+fn a_normalised_comparison_with_a_zero_peak_is_not_computed() {
+    let zero = "      - {x: 0.3, value: 0.0, u: 0.001}\n      - {x: 0.25, value: 0.0, u: 0.001}\n    normalise: true\n";
+    let faulty = assess(&study(&Parts {
+        points: zero,
+        ..CLEAN
+    }));
+    let clean = assess(&study(&CLEAN));
+    let c = &faulty["comparisons"][0];
+    assert_eq!(c["not_computed"]["code"], "comparison_not_computed");
+    assert!(
+        c["not_computed"]["reason"]
+            .as_str()
+            .unwrap()
+            .contains("nonzero peaks"),
+        "{c}"
+    );
+    assert_eq!(c["points"], serde_json::json!([]));
+    assert_eq!(faulty["quantities"], clean["quantities"]);
+    assert_eq!(faulty["sweeps"], clean["sweeps"]);
+}
+
+mod property {
+    use super::*;
+    use proptest::prelude::*;
+    use std::path::Path;
+
+    fn assess_lib(text: &str) -> Value {
+        let study = meshbound::study::parse(text, Path::new("s.yaml")).expect("parses");
+        let a = meshbound::assess::run(&study, &meshbound::sink::Skip).expect("assesses");
+        serde_json::to_value(&a).unwrap()
+    }
+
+    fn points(xs: &[f64]) -> String {
+        xs.iter()
+            .map(|x| format!("      - {{x: {x}, value: 0.88}}\n"))
+            .collect()
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        /// Manufactured measured abscissae anywhere in [0, 0.6] (the meshes share 0.1–0.4):
+        /// the comparison of all of them equals the comparison of those inside the range, and
+        /// names exactly those outside (the range is read off the study; no other source needed).
+        #[test]
+        fn points_outside_the_range_never_change_the_others(
+            xs in proptest::collection::btree_set(0u32..=60, 1..8)
+        ) {
+            let xs: Vec<f64> = xs.iter().map(|&i| f64::from(i) / 100.0).collect();
+            let (inside, outside): (Vec<f64>, Vec<f64>) =
+                xs.iter().partition(|x| (0.1..=0.4).contains(*x));
+            let all = assess_lib(&study(&Parts { points: &points(&xs), ..CLEAN }));
+            let c = &all["comparisons"][0];
+            let listed: Vec<f64> = c
+                .get("points_outside_range")
+                .map_or(Vec::new(), |v| serde_json::from_value(v.clone()).unwrap());
+            prop_assert_eq!(&listed, &outside);
+            prop_assert_eq!(
+                warned(&all, "comparison_points_outside_range").len(),
+                usize::from(!outside.is_empty())
+            );
+            if inside.is_empty() {
+                prop_assert_eq!(&c["not_computed"]["code"], "comparison_not_computed");
+            } else {
+                let only = assess_lib(&study(&Parts { points: &points(&inside), ..CLEAN }));
+                let o = &only["comparisons"][0];
+                prop_assert_eq!(&c["points"], &o["points"]);
+                prop_assert_eq!(&c["summary"], &o["summary"]);
+                prop_assert_eq!(&c["point_warnings"], &o["point_warnings"]);
+            }
+            prop_assert!(!all["sweeps"][0]["breakdown"][0]["x_estimate"]["uncertainty"].is_null());
         }
     }
 }
