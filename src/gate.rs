@@ -7,7 +7,9 @@
 //! uncertainty overflows (see `ColumnSummary::overflowed`) fails every limit set on it, and so
 //! does a column with points whose convergence is not demonstrated (the
 //! `convergence_not_demonstrated` entry of `ColumnSummary::point_warnings`): their U is not
-//! quotable, so no figure over the column can be vouched for.
+//! quotable, so no figure over the column can be vouched for. A target that could not be
+//! computed (a breakdown a mesh does not reach, a quantity whose estimate failed: its
+//! `not_computed`) fails every limit set on it, with the reason in the note.
 
 use crate::assess::{Assessment, QuantityResult};
 use crate::study::raw::RawAcceptance;
@@ -134,6 +136,23 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
                 note,
             };
         match r {
+            // A target that could not be computed (assess::partial): every limit on it fails,
+            // with the reason.
+            Resolved::Quantity(q) if q.not_computed.is_some() => {
+                let note = q
+                    .not_computed
+                    .as_ref()
+                    .map(|n| format!("{} (see the {} warning)", n.text(), n.code));
+                let limits = [
+                    l.max_relative.map(|m| format!("max_relative {}", m.0)),
+                    l.max_absolute.map(|m| format!("max_absolute {}", m.0)),
+                    l.require.map(|c| format!("require {}", c.label())),
+                    l.min_meshes.map(|n| format!("min_meshes {n}")),
+                ];
+                for limit in limits.into_iter().flatten() {
+                    out.push(mk(limit, serde_json::Value::Null, false, note.clone()));
+                }
+            }
             Resolved::Quantity(q) => {
                 // Convergence not demonstrated (assess::govern): every limit fails with it.
                 let undemonstrated = q.governing.as_ref().is_some_and(|g| !g.demonstrated)
@@ -266,4 +285,41 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
         }
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::markup::fixture;
+
+    /// A target that was not computed fails every limit on it, with the reason; a computed
+    /// target beside it is checked as usual. Demo data (invented): only the verdicts are
+    /// checked, no figure.
+    #[test]
+    fn an_uncomputed_target_fails_every_limit_with_the_reason() {
+        // The demo curves fall by at most 20 %: a 50 % drop is reached on no mesh.
+        let text = fixture::DEMO.replace("drop: 1%", "drop: 50%");
+        let a = fixture::assess(&text);
+        assert!(a.sweeps[0].breakdown[0].x_estimate.not_computed.is_some());
+        let limits: Vec<RawAcceptance> = serde_yaml::from_str(
+            "- {target: cav.breakdown.efficiency, max_relative: 0.5, max_absolute: 1, require: monotonic, min_meshes: 3}\n- {target: efficiency, max_relative: 0.5}\n",
+        )
+        .unwrap();
+        let checks = check(&a, &limits).unwrap();
+        let on_b: Vec<&Check> = checks
+            .iter()
+            .filter(|c| c.target == "cav.breakdown.efficiency")
+            .collect();
+        assert_eq!(on_b.len(), 4);
+        for c in on_b {
+            assert!(!c.passed && c.value.is_null());
+            let note = c.note.as_deref().unwrap();
+            assert!(
+                note.starts_with("not computed: no breakdown on mesh M_fine")
+                    && note.contains("breakdown_not_computed"),
+                "{note}"
+            );
+        }
+        assert!(checks.iter().any(|c| c.target == "efficiency" && c.passed));
+    }
 }

@@ -142,11 +142,6 @@ fn bad_reference_data_exits_2() {
             "reference_data.eta: `eta` names neither a quantity nor a sweep",
         ),
         (
-            "{x: 0.3, value: 0.895}",
-            "{x: 0.05, value: 0.895}",
-            "lies outside the range common to all meshes",
-        ),
-        (
             "    u_measured: 0.5%\n",
             "",
             "reference_data.cav.points[0]: has no uncertainty",

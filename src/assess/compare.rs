@@ -1,14 +1,15 @@
 //! Comparisons with measurements: the simulation value and its discretisation uncertainty at
 //! every measured point, then the V&V 20 comparison of [`crate::compare`].
 
+use super::partial::{NotComputed, COMPARISON_NOT_COMPUTED, COMPARISON_POINTS_OUTSIDE_RANGE};
 use super::sweep::{band_point_warnings, point_codes};
 use super::{quantity, QuantityResult, Role};
-use crate::compare::{compare, CompareSettings, Comparison, Measured, Simulated};
+use crate::compare::{compare, CompareSettings, CompareSummary, Comparison, Measured, Simulated};
 use crate::estimate::three_grid::ThreeGridSettings;
 use crate::point_warnings::{self, PointWarning, Tally};
 use crate::study::reference::{AbsOrPercent, Reference, ReferenceTarget};
-use crate::study::{Study, StudyError};
-use crate::sweep::Interpolant;
+use crate::study::Study;
+use crate::sweep::{fmt_num, Interpolant};
 use crate::warning::Warning;
 use serde::Serialize;
 
@@ -36,6 +37,59 @@ pub struct ComparisonResult {
     pub median_order: Option<f64>,
     /// Number of points whose order enters the mean and the median (0 for a scalar quantity).
     pub order_points: usize,
+    /// Measured abscissae outside the range common to all meshes, skipped (present only when
+    /// there are some; the other points are compared).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub points_outside_range: Vec<f64>,
+    /// Why the comparison could not be made (present only then; `points` is empty).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub not_computed: Option<NotComputed>,
+}
+
+/// A comparison with no points: the settings it would have used and zero counts.
+fn empty(cs: &CompareSettings) -> Comparison {
+    Comparison {
+        normalised: cs.normalise,
+        simulation_peak: None,
+        measured_peak: None,
+        coverage_factor: cs.coverage,
+        divisor: cs.divisor,
+        points: Vec::new(),
+        summary: CompareSummary {
+            points: 0,
+            within: 0,
+            undecided: 0,
+            max_abs_error: 0.0,
+            max_abs_error_at: 0.0,
+            mean_error: 0.0,
+        },
+    }
+}
+
+/// A comparison that could not be made: warned about (`comparison_not_computed`, subject the
+/// comparison) and recorded on the result.
+fn not_computed(
+    r: &Reference,
+    kind: &'static str,
+    response: Option<String>,
+    cs: &CompareSettings,
+    reason: String,
+    skipped: Vec<f64>,
+    warnings: &mut Vec<Warning>,
+) -> ComparisonResult {
+    warnings.push(Warning::new(COMPARISON_NOT_COMPUTED, reason.clone()).about(&r.name));
+    ComparisonResult {
+        name: r.name.clone(),
+        kind,
+        response,
+        comparison: empty(cs),
+        point_warnings: Vec::new(),
+        mean_order: None,
+        median_order: None,
+        order_points: 0,
+        points_outside_range: skipped,
+        not_computed: Some(NotComputed::new(COMPARISON_NOT_COMPUTED, reason)),
+    }
 }
 
 /// The uncertainty of a simulated value when it can be quoted: none where convergence is not
@@ -47,26 +101,19 @@ fn quotable(q: &QuantityResult) -> Option<&crate::assess::Uncertainty> {
         .filter(|_| q.governing.as_ref().is_some_and(|g| g.demonstrated))
 }
 
-fn fail(study: &Study, r: &Reference, message: String) -> StudyError {
-    StudyError {
-        file: study.path.clone(),
-        key: format!("reference_data.{}", r.name),
-        line: None,
-        column: None,
-        message,
-    }
-}
-
 /// Runs every comparison of a study. `quantities` are the assessed quantities, in study order.
 /// The warnings of the pointwise estimates go into each comparison's `point_warnings`, and a
 /// summary line per comparison into `warnings` (`comparison_points_not_demonstrated`,
-/// `comparison_point_warnings`).
+/// `comparison_point_warnings`). A measured point outside the range common to all meshes is
+/// skipped with a warning (`comparison_points_outside_range`); a comparison that cannot be made
+/// at all is recorded as not computed (`comparison_not_computed`). Nothing here refuses the
+/// study.
 pub fn run(
     study: &Study,
     quantities: &[QuantityResult],
     settings: &ThreeGridSettings,
     warnings: &mut Vec<Warning>,
-) -> Result<Vec<ComparisonResult>, StudyError> {
+) -> Vec<ComparisonResult> {
     let mut out = Vec::new();
     for r in &study.references {
         let (u_abs, u_rel) = match r.u_input {
@@ -96,17 +143,29 @@ pub fn run(
                     uncertainty: quotable(q).map(|u| u.absolute),
                     standard: quotable(q).map(|u| u.standard),
                 }];
-                let c = compare(&sim, &meas, s, &cs).map_err(|e| fail(study, r, e))?;
-                out.push(ComparisonResult {
-                    name: r.name.clone(),
-                    kind: "quantity",
-                    response: None,
-                    comparison: c,
-                    point_warnings: Vec::new(),
-                    mean_order: None,
-                    median_order: None,
-                    order_points: 0,
-                });
+                match compare(&sim, &meas, s, &cs) {
+                    Ok(c) => out.push(ComparisonResult {
+                        name: r.name.clone(),
+                        kind: "quantity",
+                        response: None,
+                        comparison: c,
+                        point_warnings: Vec::new(),
+                        mean_order: None,
+                        median_order: None,
+                        order_points: 0,
+                        points_outside_range: Vec::new(),
+                        not_computed: None,
+                    }),
+                    Err(e) => out.push(not_computed(
+                        r,
+                        "quantity",
+                        None,
+                        &cs,
+                        e,
+                        Vec::new(),
+                        warnings,
+                    )),
+                }
             }
             ReferenceTarget::Sweep(si, ri) => {
                 let sw = &study.sweeps[si];
@@ -119,27 +178,42 @@ pub fn run(
                     .band
                     .as_ref()
                     .map_or(sw.interpolation, |b| b.interpolation);
-                let interps: Vec<Interpolant> = sw
+                let response = Some(sw.responses[ri].clone());
+                let interps: Vec<Interpolant> = match sw
                     .curves
                     .iter()
-                    .map(|c| Interpolant::new(&c.x, &c.responses[ri], kind))
+                    .map(|c| {
+                        Interpolant::new(&c.x, &c.responses[ri], kind)
+                            .map_err(|e| format!("mesh {}: {e}", c.mesh))
+                    })
                     .collect::<Result<_, _>>()
-                    .map_err(|e| fail(study, r, e.to_string()))?;
+                {
+                    Ok(i) => i,
+                    Err(e) => {
+                        out.push(not_computed(
+                            r,
+                            "sweep",
+                            response,
+                            &cs,
+                            format!("the curves cannot be interpolated ({e})"),
+                            Vec::new(),
+                            warnings,
+                        ));
+                        continue;
+                    }
+                };
                 let mut sim = Vec::with_capacity(meas.len());
+                let mut kept = Vec::with_capacity(meas.len());
+                let mut skipped = Vec::new();
                 let mut tally = Tally::default();
                 let mut orders = Vec::new();
                 for m in &meas {
                     let values: Option<Vec<f64>> = interps.iter().map(|f| f.eval(m.x)).collect();
-                    let values = values.ok_or_else(|| {
-                        fail(
-                            study,
-                            r,
-                            format!(
-                                "the measured point at {} = {} lies outside the range common to all meshes: the simulation cannot be compared there",
-                                sw.x, m.x
-                            ),
-                        )
-                    })?;
+                    let Some(values) = values else {
+                        skipped.push(m.x);
+                        continue;
+                    };
+                    kept.push(*m);
                     let mut raised = Vec::new();
                     let q = quantity(
                         "",
@@ -170,11 +244,50 @@ pub fn run(
                     .iter()
                     .copied()
                     .fold(f64::NEG_INFINITY, f64::max);
-                let c = compare(&sim, &meas, peak, &cs).map_err(|e| fail(study, r, e))?;
+                if !skipped.is_empty() {
+                    let (lo, hi) = common_range(sw);
+                    warnings.push(
+                        Warning::new(
+                            COMPARISON_POINTS_OUTSIDE_RANGE,
+                            format!(
+                                "the measured point{} at {} = {} lie{} outside the range common to all meshes, {} to {}: the simulation cannot be compared there, so {} skipped; the other points are compared",
+                                if skipped.len() == 1 { "" } else { "s" },
+                                sw.x,
+                                skipped.iter().map(|x| fmt_num(*x)).collect::<Vec<_>>().join(", "),
+                                if skipped.len() == 1 { "s" } else { "" },
+                                fmt_num(lo),
+                                fmt_num(hi),
+                                if skipped.len() == 1 { "it is" } else { "they are" },
+                            ),
+                        )
+                        .about(&r.name),
+                    );
+                }
+                if kept.is_empty() {
+                    out.push(not_computed(
+                        r,
+                        "sweep",
+                        response,
+                        &cs,
+                        "no measured point lies inside the range common to all meshes".into(),
+                        skipped,
+                        warnings,
+                    ));
+                    continue;
+                }
+                let c = match compare(&sim, &kept, peak, &cs) {
+                    Ok(c) => c,
+                    Err(e) => {
+                        out.push(not_computed(
+                            r, "sweep", response, &cs, e, skipped, warnings,
+                        ));
+                        continue;
+                    }
+                };
                 let point_warnings = tally.finish();
                 warnings.extend(band_point_warnings(
                     &point_warnings,
-                    meas.len(),
+                    kept.len(),
                     &sw.x,
                     &r.name,
                     "comparison",
@@ -182,15 +295,27 @@ pub fn run(
                 out.push(ComparisonResult {
                     name: r.name.clone(),
                     kind: "sweep",
-                    response: Some(sw.responses[ri].clone()),
+                    response,
                     comparison: c,
                     point_warnings,
                     mean_order: point_warnings::mean(&orders),
                     order_points: orders.len(),
                     median_order: point_warnings::median(orders),
+                    points_outside_range: skipped,
+                    not_computed: None,
                 });
             }
         }
     }
-    Ok(out)
+    out
+}
+
+/// The abscissa range common to all meshes of a sweep (for messages).
+fn common_range(sw: &crate::study::sweep::Sweep) -> (f64, f64) {
+    let ranges: Vec<(f64, f64)> = sw
+        .curves
+        .iter()
+        .map(|c| (c.x[0], c.x[c.x.len() - 1]))
+        .collect();
+    crate::sweep::overlap(&ranges).unwrap_or((f64::NAN, f64::NAN))
 }

@@ -17,6 +17,7 @@ use serde::Serialize;
 
 pub mod compare;
 mod govern;
+pub mod partial;
 pub mod sweep;
 
 pub use govern::{
@@ -179,6 +180,9 @@ pub struct QuantityResult {
     /// first; left out of the JSON otherwise).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub histories: Vec<MeshHistory>,
+    /// Why the result could not be computed (present only then; docs/method.md §6).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub not_computed: Option<partial::NotComputed>,
 }
 
 /// One mesh's monitor history, reduced.
@@ -230,6 +234,7 @@ pub fn quantity(
         governing: None,
         rules: Vec::new(),
         histories: Vec::new(),
+        not_computed: None,
     };
     if n == 2 {
         two_meshes(&mut out, meshes, values, settings, warnings);
@@ -506,9 +511,11 @@ pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
     w
 }
 
-/// Assesses a whole study. Fails only where the data cannot give what the study asks for
-/// (for example a sweep that never reaches breakdown, or a probe file that does not match);
-/// the error names the file and key or line.
+/// Assesses a whole study. Fails only on study-wide faults (for example a probe file that
+/// does not match); the error names the file and key or line. A local problem — one mesh of a
+/// sweep without breakdown, one measured point outside the meshes' common range, a band or
+/// comparison that cannot be formed, a quantity whose estimate fails — is a warning on that
+/// result, which says it was not computed ([`partial`]); the rest is still assessed.
 ///
 /// Files the study asks to write (the per-point files of fields) go into the sinks that
 /// `outputs` hands out; [`crate::sink::Skip`] writes none. Only those handed a sink are listed
@@ -553,10 +560,11 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
                     abscissa: h.abscissa.clone(),
                 });
             }
+            partial::mark_failed(&mut r, &warnings);
             r
         })
         .collect::<Vec<_>>();
-    let comparisons = compare::run(study, &quantities, &settings, &mut warnings)?;
+    let comparisons = compare::run(study, &quantities, &settings, &mut warnings);
     if comparisons.iter().any(|c| c.comparison.normalised) {
         warnings.push(Warning::new(
             "comparison_normalised",

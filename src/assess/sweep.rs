@@ -1,6 +1,10 @@
 //! Sweeps: the breakdown x and the reference of every mesh, each estimated like a scalar
 //! quantity, and the uncertainty band along a response curve at common abscissae.
 
+use super::partial::{
+    quantity_not_computed, MeshNotComputed, NotComputed, BAND_NOT_COMPUTED,
+    BAND_POINTS_OUTSIDE_RANGE, BREAKDOWN_NOT_COMPUTED, REFERENCE_NOT_COMPUTED,
+};
 use super::{quantity, QuantityResult, Role};
 use crate::estimate::three_grid::ThreeGridSettings;
 use crate::estimate::Convergence;
@@ -76,8 +80,12 @@ pub struct BreakdownResult {
     /// The persistence rule: `points` consecutive points below the threshold over an
     /// abscissa span of at least `span`.
     pub persistence: Persistence,
-    /// Per mesh, finest first.
+    /// Per mesh, finest first (the meshes on which breakdown was read).
     pub per_mesh: Vec<MeshBreakdown>,
+    /// The meshes on which breakdown could not be read, finest first, and why (present only
+    /// when there are some; the breakdown is then not estimated over the meshes).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub per_mesh_not_computed: Vec<MeshNotComputed>,
     /// The breakdown abscissa as a quantity over the meshes (name `<sweep>.breakdown.<response>`).
     pub x_estimate: QuantityResult,
     /// The reference as a quantity over the meshes (name `<sweep>.reference.<response>`).
@@ -172,6 +180,13 @@ pub struct BandResult {
     pub summary: BandSummary,
     /// The points' warnings per code: how many points raised it and the first abscissae.
     pub point_warnings: Vec<PointWarning<f64>>,
+    /// Abscissae asked for (`at`) outside the range common to all meshes, skipped (present
+    /// only when there are some).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub points_outside_range: Vec<f64>,
+    /// Why the band could not be formed (present only then; `points` is empty).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub not_computed: Option<NotComputed>,
 }
 
 /// A sweep's results.
@@ -198,6 +213,11 @@ pub struct SweepResult {
     /// Band.
     pub band: Option<BandResult>,
 }
+
+/// What a mesh without breakdown means for the estimate over the meshes (docs/method.md §6).
+const NOT_ESTIMATED: &str = "the breakdown is not estimated over the meshes: a mesh without \
+breakdown in the swept range gives a bound, not a value, and an estimate from the other meshes \
+would hide it; extend that mesh's sweep";
 
 fn input_error(file: &Path, key: String, message: String) -> StudyError {
     StudyError {
@@ -240,38 +260,76 @@ pub fn assess_sweep(
             Abscissa::Npsh => "npsh",
         };
         let subject = format!("{}.breakdown.{}", s.name, b.response);
+        let rsubject = format!("{}.reference.{}", s.name, b.response);
+        let mut failed: Vec<MeshNotComputed> = Vec::new();
+        // Per curve: the reference when it was formed, for the reference's estimate.
+        let mut refs: Vec<Option<f64>> = Vec::with_capacity(s.curves.len());
         for c in &s.curves {
             let y = &c.responses[b.response_index];
             let xs = match (b.abscissa, &c.npsh) {
                 (Abscissa::X, _) => &c.x,
                 (Abscissa::Npsh, Some(n)) => n,
                 (Abscissa::Npsh, None) => {
-                    return Err(input_error(
-                        file,
-                        format!("{key}.abscissa"),
-                        format!("mesh `{}`: no NPSH was read for this sweep", c.mesh),
-                    ))
+                    let reason = "no NPSH was read for this mesh".to_string();
+                    warnings.push(
+                        Warning::new(
+                            BREAKDOWN_NOT_COMPUTED,
+                            format!("mesh `{}`: {reason}; {NOT_ESTIMATED}", c.mesh),
+                        )
+                        .about(&subject),
+                    );
+                    failed.push(MeshNotComputed {
+                        mesh: c.mesh.clone(),
+                        code: BREAKDOWN_NOT_COMPUTED.to_string(),
+                        reason,
+                        reference: None,
+                    });
+                    refs.push(None);
+                    continue;
                 }
             };
-            let r = find_breakdown_with(
+            let r = match find_breakdown_with(
                 xs,
                 y,
                 &b.reference,
                 &b.drop,
                 s.interpolation,
                 &b.persistence,
-            )
-            .map_err(|e| {
-                input_error(
-                    file,
-                    key.clone(),
-                    format!(
-                        "mesh `{}`, response `{}` against `{abscissa}`: {e}",
-                        c.mesh, b.response
-                    ),
-                )
-            })?;
+            ) {
+                Ok(r) => r,
+                Err(e) if e.is_local() => {
+                    warnings.push(
+                        Warning::new(
+                            BREAKDOWN_NOT_COMPUTED,
+                            format!(
+                                "mesh `{}`, response `{}` against `{abscissa}`: {e}; {NOT_ESTIMATED}",
+                                c.mesh, b.response
+                            ),
+                        )
+                        .about(&subject),
+                    );
+                    failed.push(MeshNotComputed {
+                        mesh: c.mesh.clone(),
+                        code: BREAKDOWN_NOT_COMPUTED.to_string(),
+                        reason: e.short(),
+                        reference: e.reference(),
+                    });
+                    refs.push(e.reference());
+                    continue;
+                }
+                Err(e) => {
+                    return Err(input_error(
+                        file,
+                        key.clone(),
+                        format!(
+                            "mesh `{}`, response `{}` against `{abscissa}`: {e}",
+                            c.mesh, b.response
+                        ),
+                    ))
+                }
+            };
             breakdown_warnings(c, xs, abscissa, &b.persistence, &r, &subject, warnings);
+            refs.push(Some(r.reference));
             per_mesh.push(MeshBreakdown {
                 mesh: c.mesh.clone(),
                 x: r.x,
@@ -284,10 +342,75 @@ pub fn assess_sweep(
                 ignored_dips: r.ignored_dips.iter().map(|d| d.x.clone()).collect(),
             });
         }
-        let bx: Vec<f64> = per_mesh.iter().map(|m| m.x).collect();
-        let refs: Vec<f64> = per_mesh.iter().map(|m| m.reference).collect();
-        let bname = format!("{}.breakdown.{}", s.name, b.response);
-        let rname = format!("{}.reference.{}", s.name, b.response);
+        let role_b = Role::Breakdown {
+            sweep: s.name.clone(),
+            response: b.response.clone(),
+        };
+        let role_r = Role::Reference {
+            sweep: s.name.clone(),
+            response: b.response.clone(),
+        };
+        let unit = match b.abscissa {
+            Abscissa::X => s.x.as_str(),
+            Abscissa::Npsh => "m",
+        };
+        let x_estimate = if failed.is_empty() {
+            let bx: Vec<f64> = per_mesh.iter().map(|m| m.x).collect();
+            quantity(
+                &subject,
+                role_b,
+                Some(unit),
+                &sub,
+                &bx,
+                settings,
+                estimator,
+                warnings,
+            )
+        } else {
+            quantity_not_computed(
+                &subject,
+                role_b,
+                Some(unit),
+                NotComputed::new(
+                    BREAKDOWN_NOT_COMPUTED,
+                    failed
+                        .iter()
+                        .map(|f| format!("no breakdown on mesh {} ({})", f.mesh, f.reason))
+                        .collect::<Vec<_>>()
+                        .join("; "),
+                ),
+            )
+        };
+        let reference_estimate = match refs.iter().copied().collect::<Option<Vec<f64>>>() {
+            Some(values) => quantity(
+                &rsubject, role_r, None, &sub, &values, settings, estimator, warnings,
+            ),
+            None => {
+                // Every curve without a reference failed, and is listed in `failed`.
+                let reason = failed
+                    .iter()
+                    .filter(|f| f.reference.is_none())
+                    .map(|f| format!("no reference on mesh {} ({})", f.mesh, f.reason))
+                    .collect::<Vec<_>>()
+                    .join("; ");
+                warnings.push(
+                    Warning::new(
+                        REFERENCE_NOT_COMPUTED,
+                        format!("{reason}: the reference is not estimated over the meshes (see {BREAKDOWN_NOT_COMPUTED})"),
+                    )
+                    .about(&rsubject),
+                );
+                quantity_not_computed(
+                    &rsubject,
+                    role_r,
+                    None,
+                    NotComputed::new(REFERENCE_NOT_COMPUTED, reason),
+                )
+            }
+        };
+        let (mut x_estimate, mut reference_estimate) = (x_estimate, reference_estimate);
+        super::partial::mark_failed(&mut x_estimate, warnings);
+        super::partial::mark_failed(&mut reference_estimate, warnings);
         breakdown.push(BreakdownResult {
             response: b.response.clone(),
             drop: match b.drop {
@@ -298,50 +421,15 @@ pub fn assess_sweep(
             abscissa: abscissa.to_string(),
             persistence: b.persistence,
             per_mesh,
-            x_estimate: quantity(
-                &bname,
-                Role::Breakdown {
-                    sweep: s.name.clone(),
-                    response: b.response.clone(),
-                },
-                Some(match b.abscissa {
-                    Abscissa::X => s.x.as_str(),
-                    Abscissa::Npsh => "m",
-                }),
-                &sub,
-                &bx,
-                settings,
-                estimator,
-                warnings,
-            ),
-            reference_estimate: quantity(
-                &rname,
-                Role::Reference {
-                    sweep: s.name.clone(),
-                    response: b.response.clone(),
-                },
-                None,
-                &sub,
-                &refs,
-                settings,
-                estimator,
-                warnings,
-            ),
+            per_mesh_not_computed: failed,
+            x_estimate,
+            reference_estimate,
         });
     }
-    let band = match &s.band {
-        Some(b) => Some(band(
-            s,
-            b,
-            &sub,
-            (lo, hi),
-            settings,
-            estimator,
-            file,
-            warnings,
-        )?),
-        None => None,
-    };
+    let band = s
+        .band
+        .as_ref()
+        .map(|b| band(s, b, &sub, (lo, hi), settings, estimator, warnings));
     Ok(SweepResult {
         name: s.name.clone(),
         x: s.x.clone(),
@@ -427,7 +515,42 @@ fn breakdown_warnings(
     }
 }
 
-#[allow(clippy::too_many_arguments)]
+/// A band with no points, recording why it could not be formed.
+fn band_not_computed(
+    b: &crate::study::sweep::BandSpec,
+    subject: &str,
+    reason: String,
+    skipped: Vec<f64>,
+    warnings: &mut Vec<Warning>,
+) -> BandResult {
+    warnings.push(Warning::new(BAND_NOT_COMPUTED, reason.clone()).about(subject));
+    BandResult {
+        response: b.response.clone(),
+        interpolation: b.interpolation,
+        at: match b.at {
+            BandAt::Fine => "fine",
+            BandAt::Values(_) => "values",
+        },
+        points: Vec::new(),
+        summary: BandSummary {
+            points: 0,
+            classes: ClassCounts::default(),
+            share_monotonic: 0.0,
+            share_oscillatory: 0.0,
+            share_divergent: 0.0,
+            mean_relative: None,
+            max_relative: None,
+            max_relative_at: None,
+            mean_order: None,
+            median_order: None,
+            order_points: 0,
+        },
+        point_warnings: Vec::new(),
+        points_outside_range: skipped,
+        not_computed: Some(NotComputed::new(BAND_NOT_COMPUTED, reason)),
+    }
+}
+
 fn band(
     s: &Sweep,
     b: &crate::study::sweep::BandSpec,
@@ -435,16 +558,30 @@ fn band(
     (lo, hi): (f64, f64),
     settings: &ThreeGridSettings,
     estimator: EstimatorChoice,
-    file: &Path,
     warnings: &mut Vec<Warning>,
-) -> Result<BandResult, StudyError> {
-    let key = format!("sweeps.{}.band", s.name);
-    let interps: Vec<Interpolant> = s
+) -> BandResult {
+    let subject = format!("{}.band.{}", s.name, b.response);
+    let interps: Vec<Interpolant> = match s
         .curves
         .iter()
-        .map(|c| Interpolant::new(&c.x, &c.responses[b.response_index], b.interpolation))
+        .map(|c| {
+            Interpolant::new(&c.x, &c.responses[b.response_index], b.interpolation)
+                .map_err(|e| format!("mesh {}: {e}", c.mesh))
+        })
         .collect::<Result<_, _>>()
-        .map_err(|e| input_error(file, key.clone(), e.to_string()))?;
+    {
+        Ok(i) => i,
+        Err(e) => {
+            return band_not_computed(
+                b,
+                &subject,
+                format!("the curves cannot be interpolated ({e})"),
+                Vec::new(),
+                warnings,
+            )
+        }
+    };
+    let mut skipped = Vec::new();
     let xs: Vec<f64> = match &b.at {
         BandAt::Fine => {
             let ranges: Vec<(f64, f64)> = s
@@ -455,19 +592,31 @@ fn band(
             sweep::common_abscissae(&ranges, &s.curves[0].x)
         }
         BandAt::Values(v) => {
-            if let Some(bad) = v.iter().find(|x| **x < lo || **x > hi) {
-                return Err(input_error(
-                    file,
-                    format!("{key}.at"),
-                    format!("{bad} lies outside the range common to all meshes, {lo} to {hi}"),
-                ));
-            }
             let mut v = v.clone();
             v.sort_by(f64::total_cmp);
             v.dedup();
-            v
+            let (inside, outside): (Vec<f64>, Vec<f64>) =
+                v.into_iter().partition(|x| *x >= lo && *x <= hi);
+            skipped = outside;
+            inside
         }
     };
+    if !skipped.is_empty() {
+        warnings.push(
+            Warning::new(
+                BAND_POINTS_OUTSIDE_RANGE,
+                format!(
+                    "{} = {} lie{} outside the range common to all meshes, {} to {}: skipped, the other band points are estimated",
+                    s.x,
+                    skipped.iter().map(|x| sweep::fmt_num(*x)).collect::<Vec<_>>().join(", "),
+                    if skipped.len() == 1 { "s" } else { "" },
+                    sweep::fmt_num(lo),
+                    sweep::fmt_num(hi)
+                ),
+            )
+            .about(&subject),
+        );
+    }
     let mut points = Vec::with_capacity(xs.len());
     let mut classes = ClassCounts::default();
     let mut rel_sum = 0.0;
@@ -532,11 +681,17 @@ fn band(
         });
     }
     if points.is_empty() {
-        return Err(input_error(
-            file,
-            key,
-            "no common abscissa inside the range of all meshes: the band is empty".into(),
-        ));
+        return band_not_computed(
+            b,
+            &subject,
+            format!(
+                "no band abscissa inside the range common to all meshes, {} to {}",
+                sweep::fmt_num(lo),
+                sweep::fmt_num(hi)
+            ),
+            skipped,
+            warnings,
+        );
     }
     let n = points.len() as f64;
     if classes.divergent > 0 {
@@ -560,7 +715,7 @@ fn band(
         &format!("{}.band.{}", s.name, b.response),
         "band",
     ));
-    Ok(BandResult {
+    BandResult {
         response: b.response.clone(),
         interpolation: b.interpolation,
         at: match b.at {
@@ -582,7 +737,9 @@ fn band(
         },
         points,
         point_warnings,
-    })
+        points_outside_range: skipped,
+        not_computed: None,
+    }
 }
 
 /// The codes of the warnings one point's estimate raised, each once, ordered by

@@ -7,7 +7,10 @@
 //! 3. the aggregated warnings of the points of a result, one row per code: `band_warning`
 //!    (per sweep's band), `comparison_warning` (per comparison along a sweep), `field_warning`
 //!    (per field column), in that order;
-//! 4. one `file_read` row per file the study made meshbound read (the study file first, then
+//! 4. one `not_computed` row per band or comparison that could not be formed (`sweep`: the
+//!    sweep or comparison, `name`: the response, `method`: "not computed: <reason>", `warning`:
+//!    the code), bands first;
+//! 5. one `file_read` row per file the study made meshbound read (the study file first, then
 //!    sweep CSVs, probe files and measured points, paths as given), then one `file_written`
 //!    row per file it made meshbound write: the path is in `name`, every other cell is empty.
 //!
@@ -29,7 +32,7 @@
 //! | `relative` | U/\|value\| | – (not held; absolute/\|value\|) |
 //! | `lower`, `upper` | value ∓ U | value ∓ U |
 //! | `convergence` | class | class |
-//! | `method` | `three_grid`, `oscillation_range` or `least_squares` | – |
+//! | `method` | `three_grid`, `oscillation_range` or `least_squares`; "not computed: <reason>" for a result that could not be computed | – |
 //! | `observed_order` | order of the governing estimate | order of the governing estimate |
 //! | `extrapolated` | extrapolated value of the governing estimate | same |
 //! | `three_grid_order`, `three_grid_extrapolated`, `three_grid_uncertainty` | three-mesh p, φ_ext21, U | – |
@@ -38,7 +41,7 @@
 //! | `least_squares_fit`, `least_squares_weighted` | selected fit (`free`, `first`, `second`, `first_second`), `true`/`false` | – |
 //! | `meshes` | mesh names finest first, `;`-separated | the sweep's meshes |
 //! | `mesh_values` | values finest first, `;`-separated | – |
-//! | `warning` | – | the codes of the point's warnings, `;`-separated |
+//! | `warning` | the code of `not_computed`, when the result could not be computed | the codes of the point's warnings, `;`-separated |
 //! | `warning_points`, `warning_at` | – | – |
 //!
 //! A `band_warning`, `comparison_warning` or `field_warning` row holds `sweep` (the sweep, for a
@@ -146,7 +149,10 @@ fn quantity_row(q: &QuantityResult) -> Vec<String> {
         o(u.map(|u| u.lower)),
         o(u.map(|u| u.upper)),
         q.convergence.map_or("", |c| c.label()).into(),
-        u.map_or("", |u| method(u.method)).into(),
+        match &q.not_computed {
+            Some(nc) => text(&nc.text()),
+            None => u.map_or("", |u| method(u.method)).into(),
+        },
         o(g.and_then(|g| g.order)),
         o(g.and_then(|g| g.extrapolated)),
         o(tg.and_then(|e| e.observed_order)),
@@ -167,10 +173,27 @@ fn quantity_row(q: &QuantityResult) -> Vec<String> {
             .map(|v| full(*v))
             .collect::<Vec<_>>()
             .join(";"),
-        String::new(),
+        q.not_computed
+            .as_ref()
+            .map_or(String::new(), |nc| text(&nc.code)),
         String::new(),
         String::new(),
     ]
+}
+
+/// A `not_computed` row: a band or comparison that could not be formed.
+fn not_computed_row(
+    sweep: &str,
+    name: &str,
+    nc: &crate::assess::partial::NotComputed,
+) -> Vec<String> {
+    let mut row = vec![String::new(); WIDTH];
+    row[0] = "not_computed".into();
+    row[1] = text(sweep);
+    row[2] = text(name);
+    row[11] = text(&nc.text());
+    row[COLUMNS.len() + 2] = text(&nc.code);
+    row
 }
 
 fn band_row(s: &SweepResult, response: &str, p: &BandPoint) -> Vec<String> {
@@ -245,6 +268,24 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
                     |x| full(*x),
                 ));
             }
+        }
+    }
+    for s in &a.sweeps {
+        if let Some((band, nc)) = s
+            .band
+            .as_ref()
+            .and_then(|b| b.not_computed.as_ref().map(|nc| (b, nc)))
+        {
+            out.push(not_computed_row(&s.name, &band.response, nc));
+        }
+    }
+    for c in &a.comparisons {
+        if let Some(nc) = &c.not_computed {
+            out.push(not_computed_row(
+                &c.name,
+                c.response.as_deref().unwrap_or_default(),
+                nc,
+            ));
         }
     }
     for c in &a.comparisons {

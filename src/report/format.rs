@@ -141,14 +141,20 @@ pub fn not_demonstrated(q: &crate::assess::QuantityResult) -> bool {
 }
 
 /// The class a quantity is shown with: "convergence not demonstrated" where the governing
-/// record says so (never "monotonic" then), else its convergence class, or "no estimate".
+/// record says so (never "monotonic" then), "not computed" where the result could not be
+/// computed, else its convergence class, or "no estimate".
 pub fn class_label(q: &crate::assess::QuantityResult) -> &'static str {
-    if not_demonstrated(q) {
+    if q.not_computed.is_some() {
+        NOT_COMPUTED
+    } else if not_demonstrated(q) {
         NOT_DEMONSTRATED
     } else {
         q.convergence.map_or("no estimate", |c| c.label())
     }
 }
+
+/// The class shown for a result that could not be computed (its reason is shown beside it).
+pub const NOT_COMPUTED: &str = "not computed";
 
 /// The words shown for a quantity whose convergence the data do not demonstrate.
 pub const NOT_DEMONSTRATED: &str = "convergence not demonstrated";

@@ -201,6 +201,9 @@ fn text(s: impl Into<String>) -> Span {
 
 /// Value and U of a statement, the value rounded to the last digit shown of U.
 fn value_and_u(q: &QuantityResult) -> (Cell, Cell) {
+    if let Some(nc) = &q.not_computed {
+        return (Cell::Missing, Cell::text(nc.text()));
+    }
     match &q.uncertainty {
         Some(u) => {
             let (v, a) = with_uncertainty(u.value, u.absolute);
@@ -463,13 +466,21 @@ fn breakdown_per_mesh(s: &SweepResult, b: &BreakdownResult) -> TableBlock {
             (&xs, Align::Right),
         ],
     );
-    for m in &b.per_mesh {
-        t.rows.push(vec![
-            Cell::text(&m.mesh),
-            Cell::Num(sig(m.reference, 6)),
-            Cell::Num(sig(m.threshold, 6)),
-            Cell::Num(sig(m.x, 5)),
-        ]);
+    for row in super::table::per_mesh_rows(s, b) {
+        t.rows.push(match row {
+            Ok(m) => vec![
+                Cell::text(&m.mesh),
+                Cell::Num(sig(m.reference, 6)),
+                Cell::Num(sig(m.threshold, 6)),
+                Cell::Num(sig(m.x, 5)),
+            ],
+            Err(m) => vec![
+                Cell::text(&m.mesh),
+                Cell::num(m.reference.map(|r| sig(r, 6))),
+                Cell::Missing,
+                Cell::text(format!("not computed: {}", m.reason)),
+            ],
+        });
     }
     t
 }
@@ -511,6 +522,21 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
         3,
         format!("Band of {} along {}", band.response, s.x),
     ));
+    if let Some(nc) = &band.not_computed {
+        out.push(Block::Paragraph(vec![text(format!("{}.", nc.text()))]));
+        return;
+    }
+    if !band.points_outside_range.is_empty() {
+        out.push(Block::Paragraph(vec![text(format!(
+            "Band abscissae outside the range common to all meshes, not computed there: {} = {}.",
+            s.x,
+            band.points_outside_range
+                .iter()
+                .map(|x| num(*x, 6))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ))]));
+    }
     let largest_at = sm
         .max_relative_at
         .map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6)));
@@ -580,6 +606,20 @@ fn comparison_blocks(
         3,
         format!("Comparison with measurements: {}", c.name),
     ));
+    if let Some(nc) = &c.not_computed {
+        out.push(Block::Paragraph(vec![text(format!("{}.", nc.text()))]));
+        return;
+    }
+    if !c.points_outside_range.is_empty() {
+        out.push(Block::Paragraph(vec![text(format!(
+            "Measured points outside the range common to all meshes, not computed there: {x} = {}.",
+            c.points_outside_range
+                .iter()
+                .map(|v| num(*v, 6))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ))]));
+    }
     out.push(Block::Paragraph(vec![text(format!(
         "ASME V&V 20: E = S − D, u_val = sqrt(u_num² + u_input² + u_D²), {}, k = {}. {} of {} points have |E| ≤ k·u_val; largest |E| {}; mean E {}.{}",
         super::format::u_num_phrase(cm.divisor),
@@ -966,6 +1006,41 @@ mod tests {
             Block::Statement(crate::report::paragraph::uncertainty_paragraph(&a))
         );
         assert_eq!(blocks[n - 4], Block::Heading(2, STATEMENT_HEADING.into()));
+    }
+
+    /// A mesh without breakdown keeps its place (finest first) in the per-mesh table, with the
+    /// reason where the breakdown would be; the summary says "not computed" in the U cell.
+    /// Demo data (invented): the last point of the finest curve raised above the 1 % threshold.
+    #[test]
+    fn a_mesh_without_breakdown_is_shown_in_its_place() {
+        let text = fixture::DEMO.replace(
+            "efficiency: [0.90, 0.90, 0.898, 0.88, 0.80]",
+            "efficiency: [0.90, 0.90, 0.898, 0.895, 0.894]",
+        );
+        let a = fixture::assess(&text);
+        let s = &a.sweeps[0];
+        let t = breakdown_per_mesh(s, &s.breakdown[0]);
+        let meshes: Vec<&Cell> = t.rows.iter().map(|r| &r[0]).collect();
+        assert_eq!(
+            meshes,
+            [
+                &Cell::text("M_fine"),
+                &Cell::text("M_mid"),
+                &Cell::text("M_coarse")
+            ]
+        );
+        assert!(
+            matches!(&t.rows[0][3], Cell::Text(x) if x.starts_with("not computed: the response stays above")),
+            "{:?}",
+            t.rows[0]
+        );
+        let summary = breakdown_summary(s);
+        assert!(
+            matches!(&summary.rows[0][2], Cell::Text(x) if x.starts_with("not computed: no breakdown on mesh M_fine")),
+            "{:?}",
+            summary.rows[0]
+        );
+        assert_eq!(summary.rows[0][4], Cell::text("not computed"));
     }
 
     #[test]

@@ -25,6 +25,10 @@ pub fn uncertainty_paragraph(a: &Assessment) -> String {
     let mut s = vec![method_sentence(a)];
     s.extend(meshes_sentence(a));
     for q in &a.quantities {
+        if let Some(nc) = &q.not_computed {
+            s.push(format!("The uncertainty of {} is {}.", q.name, nc.text()));
+            continue;
+        }
         let (value, tail) = figure(q, unit_suffix(q.unit.as_deref()));
         s.push(format!(
             "On the finest mesh, {} is {value}, {tail}.",
@@ -338,16 +342,39 @@ fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
     let x = symbol(&s.x);
     for b in &s.breakdown {
         let x = symbol(&b.abscissa);
-        let (xv, xt) = figure(&b.x_estimate, String::new());
-        let (rv, rt) = figure(&b.reference_estimate, String::new());
+        let at = match &b.x_estimate.not_computed {
+            Some(nc) => format!("is {}", nc.text()),
+            None => {
+                let (xv, xt) = figure(&b.x_estimate, String::new());
+                format!("lies at {x}_b = {xv}, {xt}")
+            }
+        };
+        let reference = match &b.reference_estimate.not_computed {
+            Some(nc) => nc.text(),
+            None => {
+                let (rv, rt) = figure(&b.reference_estimate, String::new());
+                format!("{rv}, {rt}")
+            }
+        };
         out.push(format!(
-            "In sweep {}{on}, the breakdown for a {} lies at {x}_b = {xv}, {xt}; its reference {} is {rv}, {rt}.",
+            "In sweep {}{on}, the breakdown for a {} {at}; its reference {} is {reference}.",
             s.name,
             breakdown_rule(b, &s.x),
             symbol(&b.response),
         ));
     }
-    if let Some(band) = &s.band {
+    if let Some((band, nc)) = s
+        .band
+        .as_ref()
+        .and_then(|b| b.not_computed.as_ref().map(|nc| (b, nc)))
+    {
+        out.push(format!(
+            "Along sweep {}{on}, the band of {} is {}.",
+            s.name,
+            band.response,
+            nc.text()
+        ));
+    } else if let Some(band) = &s.band {
         let sm = &band.summary;
         let spread = match (sm.mean_relative, sm.max_relative) {
             (Some(mean), Some(max)) => {

@@ -53,6 +53,9 @@ fn point_warnings_block<T>(
 
 /// The one-line statement `value ± U (x.xx %)` with its class, or why there is none.
 pub fn statement(q: &QuantityResult) -> String {
+    if let Some(nc) = &q.not_computed {
+        return nc.text();
+    }
     let class = class_label(q);
     match &q.uncertainty {
         Some(u) if not_demonstrated(q) => {
@@ -359,6 +362,30 @@ pub fn breakdown_rule(b: &crate::assess::sweep::BreakdownResult, x: &str) -> Str
     format!("{drop} of {} below {reference}{against}", b.response)
 }
 
+/// The per-mesh breakdowns in the sweep's mesh order (finest first): a mesh's breakdown, or
+/// why it could not be read.
+pub fn per_mesh_rows<'a>(
+    s: &'a crate::assess::sweep::SweepResult,
+    b: &'a crate::assess::sweep::BreakdownResult,
+) -> Vec<Result<&'a crate::assess::sweep::MeshBreakdown, &'a crate::assess::partial::MeshNotComputed>>
+{
+    s.meshes
+        .iter()
+        .filter_map(|name| {
+            b.per_mesh
+                .iter()
+                .find(|m| &m.mesh == name)
+                .map(Ok)
+                .or_else(|| {
+                    b.per_mesh_not_computed
+                        .iter()
+                        .find(|m| &m.mesh == name)
+                        .map(Err)
+                })
+        })
+        .collect()
+}
+
 fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
     out.push_str(&format!(
         "\nsweep {} — {} along {}, {} interpolation, meshes {}{}\n",
@@ -390,17 +417,40 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
             "threshold",
             &format!("breakdown {}", b.abscissa),
         ]);
-        for m in &b.per_mesh {
-            t.add_row(vec![
-                m.mesh.clone(),
-                sig(m.reference, 6),
-                sig(m.threshold, 6),
-                sig(m.x, 5),
-            ]);
+        for row in per_mesh_rows(s, b) {
+            t.add_row(match row {
+                Ok(m) => vec![
+                    m.mesh.clone(),
+                    sig(m.reference, 6),
+                    sig(m.threshold, 6),
+                    sig(m.x, 5),
+                ],
+                Err(m) => vec![
+                    m.mesh.clone(),
+                    opt(m.reference, 6),
+                    "–".into(),
+                    format!("not computed: {}", m.reason),
+                ],
+            });
         }
         out.push_str(&format!("{t}\n"));
     }
-    if let Some(band) = &s.band {
+    if let Some(nc) = s.band.as_ref().and_then(|b| b.not_computed.as_ref()) {
+        let band = s.band.as_ref().map_or("", |b| b.response.as_str());
+        out.push_str(&format!(
+            "\n  band of {band} along {}: {}\n",
+            s.x,
+            nc.text()
+        ));
+    } else if let Some(band) = &s.band {
+        if !band.points_outside_range.is_empty() {
+            out.push_str(&format!(
+                "\n  band of {}: {} = {} outside the range common to all meshes, not computed there\n",
+                band.response,
+                s.x,
+                band.points_outside_range.iter().map(|x| num(*x, 6)).collect::<Vec<_>>().join(", ")
+            ));
+        }
         let sm = &band.summary;
         out.push_str(&format!(
             "\n  band of {} along {} ({} points, {} interpolation): {} monotonic, {} oscillatory, {} divergent; \
@@ -470,6 +520,20 @@ fn comparison_block(
             ""
         }
     ));
+    if let Some(nc) = &c.not_computed {
+        out.push_str(&format!("  {}\n", nc.text()));
+        return;
+    }
+    if !c.points_outside_range.is_empty() {
+        out.push_str(&format!(
+            "  measured points at {x} = {} lie outside the range common to all meshes: not computed there\n",
+            c.points_outside_range
+                .iter()
+                .map(|v| num(*v, 6))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+    }
     let mut t = grid(&[
         x,
         "S",

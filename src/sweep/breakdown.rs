@@ -143,6 +143,8 @@ pub enum BreakdownError {
         threshold: f64,
         /// The rule they did not meet.
         persistence: Persistence,
+        /// The reference.
+        reference: f64,
     },
     /// No point lies on the plateau.
     #[error("no sweep point lies on the plateau x >= {}: the highest x is {}; lower the plateau start or extend the sweep to higher x", fmt_num(*.from), fmt_num(*.highest_x))]
@@ -177,6 +179,46 @@ pub enum BreakdownError {
         /// The threshold.
         threshold: f64,
     },
+}
+
+impl BreakdownError {
+    /// Whether the fault lies in one curve's data (the breakdown of that mesh cannot be read,
+    /// a local problem) rather than in the breakdown definition itself (the drop or the
+    /// persistence rule, the same for every mesh: a fault of the study).
+    pub fn is_local(&self) -> bool {
+        !matches!(
+            self,
+            BreakdownError::InvalidDrop(_) | BreakdownError::InvalidPersistence(_)
+        )
+    }
+
+    /// The reference the curve gave before breakdown failed, when it was formed.
+    pub fn reference(&self) -> Option<f64> {
+        match self {
+            BreakdownError::OnlyDips { reference, .. }
+            | BreakdownError::StartsBelowThreshold { reference, .. }
+            | BreakdownError::NoCrossing { reference, .. } => Some(*reference),
+            _ => None,
+        }
+    }
+
+    /// Why, in a few words (the full message says how to fix it).
+    pub fn short(&self) -> String {
+        match self {
+            BreakdownError::NoCrossing { lowest_x, .. } => format!(
+                "the response stays above the threshold down to the sweep's lowest x, {}",
+                fmt_num(*lowest_x)
+            ),
+            BreakdownError::OnlyDips { .. } => {
+                "the response falls below the threshold only in dips that come back".to_string()
+            }
+            BreakdownError::StartsBelowThreshold { .. } => {
+                "the sweep starts below the threshold".to_string()
+            }
+            BreakdownError::NoPlateauPoints { .. } => "no sweep point on the plateau".to_string(),
+            e => e.to_string(),
+        }
+    }
 }
 
 /// `x = 0.16 (1 point)` or `x = 0.16 to 0.15 (2 points)` for each dip.
@@ -382,6 +424,7 @@ pub fn find_breakdown_with(
                     dips,
                     threshold,
                     persistence: *persist,
+                    reference,
                 });
             }
             let lowest_y = ys.iter().copied().fold(f64::INFINITY, f64::min);
@@ -853,5 +896,59 @@ mod tests {
                 Err(BreakdownError::InvalidPersistence(_))
             ));
         }
+    }
+
+    /// Which faults are one curve's (local: that mesh's breakdown is not computed) and which
+    /// are the definition's (the study's); the reference the curve gave survives the fault.
+    /// Manufactured curves: the plateau mean of 0.9 and 0.9 is 0.9 (analytic).
+    #[test]
+    fn faults_say_whether_they_are_local_and_keep_the_reference() {
+        let x = [0.4, 0.3, 0.2, 0.1];
+        let flat = [0.9, 0.9, 0.899, 0.898];
+        let plateau = ReferenceKind::Plateau { from: 0.3 };
+        let e = find_breakdown(
+            &x,
+            &flat,
+            &plateau,
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(matches!(e, BreakdownError::NoCrossing { .. }));
+        assert!(e.is_local());
+        assert_eq!(e.reference(), Some(0.9));
+        assert!(e.short().contains("0.1"), "{}", e.short());
+        // No point on the plateau: local, and no reference.
+        let e = find_breakdown(
+            &x,
+            &flat,
+            &ReferenceKind::Plateau { from: 0.5 },
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(e.is_local() && e.reference().is_none());
+        // A dip that comes back only: local, the reference kept.
+        let dip = [0.9, 0.9, 0.85, 0.9];
+        let e = find_breakdown(
+            &x,
+            &dip,
+            &plateau,
+            &DropRule::Relative(0.01),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(matches!(e, BreakdownError::OnlyDips { .. }), "{e:?}");
+        assert_eq!(e.reference(), Some(0.9));
+        // The drop is the definition's, the same for every mesh: not local.
+        let e = find_breakdown(
+            &x,
+            &flat,
+            &plateau,
+            &DropRule::Relative(1.5),
+            Interpolation::Linear,
+        )
+        .unwrap_err();
+        assert!(!e.is_local());
     }
 }
