@@ -343,6 +343,18 @@ impl<'a> Lines<'a> {
     }
 }
 
+impl Lines<'_> {
+    /// Byte offset of the next record (or comment) in the text.
+    pub fn offset(&self) -> usize {
+        self.pos
+    }
+
+    /// Line of the next byte.
+    pub fn line(&self) -> usize {
+        self.line
+    }
+}
+
 impl<'a> Iterator for Lines<'a> {
     type Item = (usize, &'a str);
     fn next(&mut self) -> Option<(usize, &'a str)> {
@@ -481,6 +493,58 @@ pub fn separator_hint(header: &[String], used: Separator) -> Option<String> {
     ))
 }
 
+/// The column a study names in a header: a position; or a header name as written; or, when
+/// no header name is that, the one header name whose part before a unit in brackets is it
+/// (ASCII case ignored). `None` when there is none, or more than one.
+pub fn find(header: &[String], col: &ColumnRef) -> Option<usize> {
+    match col {
+        ColumnRef::Index(i) => (*i >= 1 && *i <= header.len()).then(|| i - 1),
+        ColumnRef::Name(n) => {
+            let mut exact = (0..header.len()).filter(|&i| header[i] == *n);
+            match (exact.next(), exact.next()) {
+                (Some(i), None) => return Some(i),
+                (Some(_), Some(_)) => return None,
+                _ => {}
+            }
+            let mut loose = (0..header.len())
+                .filter(|&i| split_unit(&header[i]).0.eq_ignore_ascii_case(n.trim()));
+            match (loose.next(), loose.next()) {
+                (Some(i), None) => Some(i),
+                _ => None,
+            }
+        }
+    }
+}
+
+/// How many header names answer to a name, as [`find`] reads it: more than one is an
+/// ambiguity for the caller to refuse.
+pub fn matches(header: &[String], name: &str) -> usize {
+    let exact = header.iter().filter(|h| *h == name).count();
+    if exact > 0 {
+        return exact;
+    }
+    header
+        .iter()
+        .filter(|h| split_unit(h).0.eq_ignore_ascii_case(name.trim()))
+        .count()
+}
+
+/// Whether the cells of a candidate units row make it one: none reads as a number and one
+/// holds a unit (not empty, `nan` or `n/a`).
+pub fn is_units_row<'c>(cells: impl IntoIterator<Item = &'c str>, decimal: Decimal) -> bool {
+    let mut any_unit = false;
+    for c in cells {
+        if !matches!(number(c, decimal), Ok(None) | Err(BadNumber::NotANumber)) {
+            return false;
+        }
+        let t = c.trim();
+        if !(t.is_empty() || t.eq_ignore_ascii_case("nan") || t.eq_ignore_ascii_case("n/a")) {
+            any_unit = true;
+        }
+    }
+    any_unit
+}
+
 /// Why a table could not be opened.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum OpenError {
@@ -527,7 +591,7 @@ impl<'a> Table<'a> {
     /// Takes the record after the header as a units row when, of the columns for which
     /// `matters` holds, none reads as a number and one holds a unit (not empty, `nan` or
     /// `n/a`). Called again with other columns, it first puts back a units row it took.
-    pub fn units_row_if(&mut self, matters: impl Fn(usize) -> bool) {
+    pub fn units_row_if(&mut self, wanted: impl Fn(usize) -> bool) {
         if self.units_row.is_some() {
             // Read the header again.
             let mut lines = Lines::new(self.rest.text);
@@ -541,19 +605,14 @@ impl<'a> Table<'a> {
         };
         let fields = split(text, self.format.separator);
         let cells: Vec<String> = fields.iter().map(|f| f.text().into_owned()).collect();
-        let mut any_unit = false;
-        for (i, c) in cells.iter().enumerate() {
-            if !matters(i) {
-                continue;
-            }
-            if number(c, self.format.decimal).is_ok_and(|v| v.is_some()) {
-                return;
-            }
-            let t = c.trim();
-            if !(t.is_empty() || t.eq_ignore_ascii_case("nan") || t.eq_ignore_ascii_case("n/a")) {
-                any_unit = true;
-            }
-        }
+        let any_unit = is_units_row(
+            cells
+                .iter()
+                .enumerate()
+                .filter(|(i, _)| wanted(*i))
+                .map(|(_, c)| c.as_str()),
+            self.format.decimal,
+        );
         if any_unit {
             self.units_row = Some((
                 line,
@@ -566,44 +625,14 @@ impl<'a> Table<'a> {
         }
     }
 
-    /// The column a study names: a position; or a header name as written; or, when no header
-    /// name is that, the one header name whose part before a unit in brackets is it (ASCII
-    /// case ignored).
+    /// The column a study names (see [`find`]).
     pub fn find(&self, col: &ColumnRef) -> Option<usize> {
-        match col {
-            ColumnRef::Index(i) => (*i >= 1 && *i <= self.header.len()).then(|| i - 1),
-            ColumnRef::Name(n) => {
-                let exact: Vec<usize> = (0..self.header.len())
-                    .filter(|&i| self.header[i] == *n)
-                    .collect();
-                if let [i] = exact[..] {
-                    return Some(i);
-                }
-                if !exact.is_empty() {
-                    return None;
-                }
-                let loose: Vec<usize> = (0..self.header.len())
-                    .filter(|&i| split_unit(&self.header[i]).0.eq_ignore_ascii_case(n.trim()))
-                    .collect();
-                match loose[..] {
-                    [i] => Some(i),
-                    _ => None,
-                }
-            }
-        }
+        find(&self.header, col)
     }
 
-    /// How many header names match a name (as [`Table::find`] reads it): more than one is an
-    /// ambiguity to refuse.
+    /// How many header names answer to a name (see [`matches`]).
     pub fn matches(&self, name: &str) -> usize {
-        let exact = self.header.iter().filter(|h| *h == name).count();
-        if exact > 0 {
-            return exact;
-        }
-        self.header
-            .iter()
-            .filter(|h| split_unit(h).0.eq_ignore_ascii_case(name.trim()))
-            .count()
+        matches(&self.header, name)
     }
 
     /// The unit of column `i`: the units row's, else the one in its header name.
@@ -728,6 +757,8 @@ mod tests {
         let t = Table::open("x,y\n1,2\n", &Options::default()).unwrap();
         assert!(t.units_row.is_none());
         let t = Table::open("x,y\nnan,\n", &Options::default()).unwrap();
+        assert!(t.units_row.is_none());
+        let t = Table::open("x,y\ninf,m\n", &Options::default()).unwrap();
         assert!(t.units_row.is_none());
         // A text id column does not make a data row a units row when only values matter.
         let mut t = Table::open("id,cp\np1,nan\n", &Options::default()).unwrap();

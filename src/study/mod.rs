@@ -825,6 +825,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
                 columns: f.columns.clone(),
                 files,
                 write,
+                reading: f.reading(&key, &at)?,
             },
             [idx[0], idx[1], idx[2]],
         ));

@@ -68,6 +68,41 @@ pub struct RawField {
     pub mapping: IndexMap<String, RawColumn>,
 }
 
+impl RawField {
+    /// How its probe files are read; refuses a `mapping` key that is not one of `columns`.
+    pub fn reading(
+        &self,
+        key: &str,
+        at: &super::At,
+    ) -> Result<crate::field::FieldReading, super::StudyError> {
+        for m in self.mapping.keys() {
+            if !self.columns.contains(m) {
+                return Err(at.err(
+                    format!("{key}.mapping.{m}"),
+                    format!(
+                        "`{m}` is not one of the field's `columns` ({})",
+                        self.columns.join(", ")
+                    ),
+                ));
+            }
+        }
+        Ok(crate::field::FieldReading {
+            options: crate::tabular::Options {
+                separator: self.separator,
+                decimal: self.decimal,
+            },
+            columns: self
+                .columns
+                .iter()
+                .map(|c| match self.mapping.get(c) {
+                    Some(m) => (m.column.clone(), m.scale),
+                    None => (None, None),
+                })
+                .collect(),
+        })
+    }
+}
+
 /// Where a column is read from in a tabular file: a header name, a position counted from 1,
 /// or `{column, scale}`.
 #[derive(Debug, Clone, PartialEq)]
@@ -83,7 +118,7 @@ impl<'de> Deserialize<'de> for RawColumn {
         use crate::tabular::ColumnRef;
         struct V;
         fn index<E: de::Error>(v: u64) -> Result<ColumnRef, E> {
-            if v >= 1 && v <= 1_000_000 {
+            if (1..=1_000_000).contains(&v) {
                 Ok(ColumnRef::Index(v as usize))
             } else {
                 Err(E::custom(format!(

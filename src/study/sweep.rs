@@ -616,6 +616,14 @@ fn missing_list(missing: &[(usize, Vec<(String, usize)>)]) -> String {
     parts.join("; ")
 }
 
+/// A sweep's CSV file, its row lines, the field number of each column and the file's format.
+type CsvSource = (
+    PathBuf,
+    Vec<usize>,
+    IndexMap<String, usize>,
+    crate::tabular::Format,
+);
+
 /// Where one point of a mesh's data was given, for messages.
 struct Source<'a> {
     /// The mesh.
@@ -624,12 +632,7 @@ struct Source<'a> {
     key: String,
     /// The CSV file, its row lines, the field number of each column and the file's format;
     /// `None` for inline data.
-    csv: Option<(
-        PathBuf,
-        Vec<usize>,
-        IndexMap<String, usize>,
-        crate::tabular::Format,
-    )>,
+    csv: Option<CsvSource>,
 }
 
 impl Source<'_> {
