@@ -256,7 +256,7 @@ fn looks_like_name(name: &str) -> bool {
     !name.is_empty()
         && name
             .chars()
-            .all(|c| c.is_alphanumeric() || " _-.()[]/%°·+^".contains(c))
+            .all(|c| c.is_alphanumeric() || " _-.()[]/%°·+^;".contains(c))
 }
 
 fn cut(text: &str) -> String {
