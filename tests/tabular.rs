@@ -200,8 +200,14 @@ fn a_units_row_is_skipped_and_a_percent_column_scaled() {
         let (head, body) = rest.split_once('\n').unwrap();
         format!("{first}\n{head}\n[-],%,[m]\n{body}")
     });
-    let (_w, o) = assess(&sweep_study(""), &files);
+    let (w, o) = assess(&sweep_study(""), &files);
     let got = curves(&ok_json(&o));
+    // The units are recorded as the files give them.
+    let study = meshbound::study::load(&w.path().join("study.yaml")).unwrap();
+    let units = &study.sweeps[0].units;
+    assert_eq!(units.get("sigma").map(String::as_str), Some("-"));
+    assert_eq!(units.get("efficiency").map(String::as_str), Some("%"));
+    assert_eq!(units.get("head").map(String::as_str), Some("m"));
     // Percent is hundredths (definition): 90.93 % read as 0.9093, to the rounding of ×100/100.
     for (g, w) in got.iter().zip(demo_curves()) {
         for (a, b) in g.1[0].iter().zip(&w.1[0]) {

@@ -784,6 +784,54 @@ mod tests {
         }
     }
 
+    #[test]
+    fn other_separators_comments_and_missing_cells() {
+        // The rules of docs/study-file.md, "Tabular files": `#` lines are comments, blanks
+        // separate with `whitespace`, a decimal comma reads as a point, a missing cell is NaN
+        // (no estimate), a `%` factor scales.
+        let pool = RowsPool::default();
+        let read = |layout: &Layout, text: &[u8]| {
+            let b = RawBlock {
+                bytes: text.to_vec(),
+                first_line: 3,
+                newlines: 0,
+                quoted: text.contains(&b'"'),
+            };
+            let mut fast = Rows::new(2, 4);
+            let took = parse_fast(layout, &b, &mut fast);
+            (took, parse_block(layout, &b, &pool).map(|r| rows_text(&r)))
+        };
+        let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+        let mut l = layout_of(3, &[2, 1], false);
+        l.sep = Some(b';');
+        let (took, rows) = read(&l, b"a;1.5;2\n# note;9;9\nb;3;-\n");
+        assert!(!took, "a comment and a missing cell leave the fast path");
+        let rows = rows.unwrap();
+        assert_eq!(rows.len(), 2);
+        assert_eq!((rows[0].1, rows[1].1), (3, 5));
+        assert_eq!(rows[0].2, bits(&[2.0, 1.5]));
+        assert!(f64::from_bits(rows[1].2[0]).is_nan() && rows[1].2[1] == 3f64.to_bits());
+        // Semicolons without anything odd: the fast path takes them.
+        assert!(read(&l, b"a;1.5;2\nb;3;4\n").0);
+        // Decimal commas and a scale.
+        l.decimal = crate::tabular::Decimal::Comma;
+        l.factors = vec![0.01, 1.0];
+        let (took, rows) = read(&l, b"a;1,5;25\n");
+        assert!(!took);
+        assert_eq!(rows.unwrap()[0].2, bits(&[0.25, 1.5]));
+        // Runs of blanks, with quotes too.
+        let mut w = layout_of(3, &[2, 1], false);
+        w.sep = None;
+        let (took, rows) = read(&w, b"  a   1.5  2\n\tb 3 4 \n");
+        assert!(!took);
+        assert_eq!(rows.unwrap()[1].2, bits(&[4.0, 3.0]));
+        let (_, rows) = read(&w, b"\"a b\" 1.5 2\n");
+        let rows = rows.unwrap();
+        assert_eq!(rows[0].0, b"a b");
+        // `inf` is still refused.
+        assert!(read(&l, b"a;1;inf\n").1.is_err());
+    }
+
     /// Blocks the fast parser took in `fast_parser_reads_what_the_splitter_reads`.
     static FAST_TAKEN: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
 

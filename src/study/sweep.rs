@@ -370,6 +370,10 @@ pub struct Sweep {
     pub breakdown: Vec<BreakdownSpec>,
     /// Band definition.
     pub band: Option<BandSpec>,
+    /// Units of the columns read, as the CSV files give them (units row or header name; the
+    /// first file that gives one), by the study's column name. Values in `%` were read as
+    /// fractions and pressures converted to Pa.
+    pub units: IndexMap<String, String>,
 }
 
 type Ctx<'a> = super::At<'a>;
@@ -383,6 +387,8 @@ struct CsvColumns {
     format: crate::tabular::Format,
     /// Rows skipped for cells marked missing: line, and the columns (name, character column).
     missing: Vec<(usize, Vec<(String, usize)>)>,
+    /// The unit of each needed column, where the file gives one (units row or header name).
+    units: Vec<Option<String>>,
 }
 
 /// How the columns of a sweep's files are read.
@@ -574,6 +580,10 @@ fn read_csv(
     Ok(CsvColumns {
         cols: needed.iter().cloned().zip(cols).collect(),
         lines,
+        units: idx
+            .iter()
+            .map(|&i| table.unit(i).map(str::to_string))
+            .collect(),
         fields: idx,
         format: table.format,
         missing,
@@ -886,6 +896,7 @@ pub fn check(
         let mut mesh_indices = Vec::new();
         let mut curves = Vec::new();
         let mut recorded: Vec<(Source, Vec<Vec<f64>>)> = Vec::new();
+        let mut units: IndexMap<String, String> = IndexMap::new();
         for (mi, mname) in mesh_names.iter().enumerate() {
             let Some(d) = s.data.get(mname) else { continue };
             let key = at(&format!("data.{mname}"));
@@ -916,6 +927,11 @@ pub fn check(
                     );
                 }
                 files_read.push(p.clone());
+                for (w, u) in wanted.iter().zip(&c.units) {
+                    if let (Some(u), false) = (u, units.contains_key(w)) {
+                        units.insert(w.clone(), u.clone());
+                    }
+                }
                 let fields = wanted.iter().cloned().zip(c.fields).collect();
                 src.csv = Some((p, c.lines, fields, c.format));
                 c.cols
@@ -1204,6 +1220,7 @@ pub fn check(
             curves,
             breakdown,
             band,
+            units,
         });
     }
     Ok(out)
