@@ -430,9 +430,18 @@ pub(super) fn is_pad(c: u8) -> bool {
 /// only well-formed records (the right field count, finite numbers, LF or CRLF line ends, no
 /// blank lines) and gives `false` at anything else, leaving the block to [`parse_plain`],
 /// which reads the same records the same way and words the errors. `rows` is then stale.
+pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> bool {
+    // The separator as a constant: the byte loops compare against fixed bytes.
+    match layout.sep {
+        Some(b';') => parse_fast_with::<b';'>(layout, block, rows),
+        _ => parse_fast_with::<b','>(layout, block, rows),
+    }
+}
+
+/// [`parse_fast`] for the separator `SEP`.
 // Kept out of line so that profiles show parsing and estimating apart.
 #[inline(never)]
-pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> bool {
+fn parse_fast_with<const SEP: u8>(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> bool {
     let bytes = &block.bytes[..];
     let len = bytes.len();
     let roles = &layout.roles[..];
@@ -441,7 +450,6 @@ pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> 
     if !layout.fast() {
         return false;
     }
-    let sep = layout.sep.unwrap_or(b',');
     // The needed values' text, by column, for the record at hand.
     let mut spans = [(0usize, 0usize); 8];
     // (A layout always has an id and a value field.)
@@ -481,7 +489,7 @@ pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> 
                 }
                 role => {
                     let a = pos;
-                    while pos < len && bytes[pos] != sep && !matches!(bytes[pos], b'\n' | b'\r') {
+                    while pos < len && bytes[pos] != SEP && !matches!(bytes[pos], b'\n' | b'\r') {
                         pos += 1;
                     }
                     if role == Role::Id {
@@ -499,7 +507,7 @@ pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> 
             // `pos` stands on the field's end.
             let end_of_record = match bytes.get(pos) {
                 None => true,
-                Some(&c) if c == sep => {
+                Some(&c) if c == SEP => {
                     pos += 1;
                     false
                 }
