@@ -334,11 +334,20 @@ fn is_missing(text: &[u8]) -> bool {
 /// A number written with a decimal comma (see [`crate::tabular::number`]); `None` when it is
 /// none (a cell marked missing included).
 fn comma_number(text: &[u8]) -> Option<f64> {
+    // One comma and no point, as `tabular::number` reads it, without an allocation: the
+    // number is copied with the comma made a point (longer texts take the general way).
+    let mut buf = [0u8; 64];
+    let commas = text.iter().filter(|&&c| c == b',').count();
+    if text.len() <= buf.len() && commas <= 1 && !text.contains(&b'.') {
+        for (d, &c) in buf.iter_mut().zip(text) {
+            *d = if c == b',' { b'.' } else { c };
+        }
+        return fast_float2::parse::<f64, _>(&buf[..text.len()]).ok();
+    }
     let t = std::str::from_utf8(text).ok()?;
     crate::tabular::number(t, crate::tabular::Decimal::Comma)
         .ok()
         .flatten()
-        .or_else(|| t.trim().parse::<f64>().ok().filter(|v| !v.is_finite()))
 }
 
 /// Parses a block without double quotes by splitting at the separator (or runs of blanks) and
