@@ -395,7 +395,7 @@ fn comments_in_probe_files_are_skipped() {
         let mut out = format!("# probes on the suction side\n# x, y\n{}\n", h.join(","));
         for (i, row) in r.iter().enumerate() {
             if i % 100 == 7 {
-                out.push_str("# a note, with commas, 1, 2\n");
+                out.push_str("# a note, with commas, 1, 2 and a \"quote\n");
             }
             out.push_str(&row.join(","));
             out.push('\n');

@@ -49,20 +49,48 @@ pub(super) fn has_quote(bytes: &[u8]) -> bool {
     memchr::memchr(b'"', bytes).is_some()
 }
 
-/// Index of the last `\n` outside double quotes (the block starts outside quotes).
+/// Index of the last `\n` outside double quotes (the block starts outside quotes, at a record
+/// start). A double quote in a comment line (a line starting with `#`) quotes nothing.
 pub(super) fn last_record_end(buf: &[u8]) -> Option<usize> {
     if !has_quote(buf) {
         return memchr::memrchr(b'\n', buf);
     }
-    let mut quotes = count_byte(buf, b'"');
-    for i in (0..buf.len()).rev() {
-        match buf[i] {
-            b'"' => quotes -= 1,
-            b'\n' if quotes % 2 == 0 => return Some(i),
+    let mut last = None;
+    let mut quoted = false;
+    let mut comment = false;
+    let mut at_start = true;
+    for (i, &b) in buf.iter().enumerate() {
+        if at_start {
+            comment = b == b'#';
+            at_start = false;
+        }
+        match b {
+            b'"' if !comment => quoted = !quoted,
+            b'\n' if !quoted => {
+                last = Some(i);
+                at_start = true;
+            }
+            b'\r' if !quoted => at_start = true,
             _ => {}
         }
     }
-    None
+    last
+}
+
+#[cfg(test)]
+mod tests {
+    use super::last_record_end;
+
+    // RFC 4180: a line end inside double quotes is part of the field; our rule: a line
+    // starting with `#` is a comment, and its quotes quote nothing.
+    #[test]
+    fn records_end_outside_quotes_and_comments_quote_nothing() {
+        assert_eq!(last_record_end(b"a,1\nb,2\nc"), Some(7));
+        assert_eq!(last_record_end(b"a,\"x\ny\",1\nb,\"2\n"), Some(9));
+        assert_eq!(last_record_end(b"# it\"s\na,1\nb,2"), Some(10));
+        assert_eq!(last_record_end(b"a,1\r\n# \"\r\nb,2\r\n"), Some(14));
+        assert_eq!(last_record_end(b"\"a\n#b\",1"), None);
+    }
 }
 
 impl BlockReader {
