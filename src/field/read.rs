@@ -77,22 +77,6 @@ pub(super) fn last_record_end(buf: &[u8]) -> Option<usize> {
     last
 }
 
-#[cfg(test)]
-mod tests {
-    use super::last_record_end;
-
-    // RFC 4180: a line end inside double quotes is part of the field; our rule: a line
-    // starting with `#` is a comment, and its quotes quote nothing.
-    #[test]
-    fn records_end_outside_quotes_and_comments_quote_nothing() {
-        assert_eq!(last_record_end(b"a,1\nb,2\nc"), Some(7));
-        assert_eq!(last_record_end(b"a,\"x\ny\",1\nb,\"2\n"), Some(9));
-        assert_eq!(last_record_end(b"# it\"s\na,1\nb,2"), Some(10));
-        assert_eq!(last_record_end(b"a,1\r\n# \"\r\nb,2\r\n"), Some(14));
-        assert_eq!(last_record_end(b"\"a\n#b\",1"), None);
-    }
-}
-
 impl BlockReader {
     pub(super) fn open(
         path: &Path,
@@ -314,5 +298,21 @@ pub(super) fn run_reader(mut reader: BlockReader, tx: SyncSender<Result<RawBlock
                 return;
             }
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::last_record_end;
+
+    // RFC 4180: a line end inside double quotes is part of the field; our rule: a line
+    // starting with `#` is a comment, and its quotes quote nothing.
+    #[test]
+    fn records_end_outside_quotes_and_comments_quote_nothing() {
+        assert_eq!(last_record_end(b"a,1\nb,2\nc"), Some(7));
+        assert_eq!(last_record_end(b"a,\"x\ny\",1\nb,\"2\n"), Some(9));
+        assert_eq!(last_record_end(b"# it\"s\na,1\nb,2"), Some(10));
+        assert_eq!(last_record_end(b"a,1\r\n# \"\r\nb,2\r\n"), Some(14));
+        assert_eq!(last_record_end(b"\"a\n#b\",1"), None);
     }
 }
