@@ -489,3 +489,15 @@ fn measured_points_read_with_mapping_and_a_percent_u() {
     assert_eq!(pts[1]["u_measured"], 0.002);
     assert!(warning_codes(&v).contains(&"missing_points_skipped"));
 }
+
+#[test]
+fn a_wrong_separator_in_probe_files_is_refused_with_a_hint() {
+    let files = probe_files(|_, h, r| write_rows(h, r, ";", false));
+    let (w, o) = assess(&field_study("    separator: comma\n"), &files);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    let err = String::from_utf8_lossy(&o.stderr);
+    // The file, the header's line (after one comment line) and the hint.
+    assert!(err.contains("L1.csv, line 2: no column `probe`"), "{err}");
+    assert!(err.contains("separator: semicolon"), "{err}");
+    assert_eq!(w.files(), ["p", "study.yaml"]);
+}
