@@ -52,7 +52,8 @@ pub enum Separator {
     Semicolon,
     /// A tab.
     Tab,
-    /// Runs of blanks (spaces and tabs); leading and trailing blanks are no fields.
+    /// Runs of blanks (spaces and tabs); leading and trailing blanks are no fields, and blanks
+    /// inside parentheses separate nothing (`(1 2 3)` is one field).
     Whitespace,
 }
 
@@ -299,10 +300,16 @@ pub fn split(record: &str, sep: Separator) -> Vec<Field<'_>> {
         }
         None => {
             let mut in_field = false;
+            // Blanks inside parentheses separate nothing: `(1 2 3)` is one field (a vector as
+            // solvers' function objects write it).
+            let mut depth = 0usize;
             for (i, &b) in bytes.iter().enumerate() {
-                let blank = (b == b' ' || b == b'\t') && !quoted;
-                if b == b'"' {
-                    quoted = !quoted;
+                let blank = (b == b' ' || b == b'\t') && !quoted && depth == 0;
+                match b {
+                    b'"' => quoted = !quoted,
+                    b'(' if !quoted => depth += 1,
+                    b')' if !quoted => depth = depth.saturating_sub(1),
+                    _ => {}
                 }
                 if blank && in_field {
                     out.push(Field {
@@ -407,6 +414,31 @@ impl<'a> Iterator for Lines<'a> {
             return Some((line, text));
         }
     }
+}
+
+/// The column names a solver writes as a comment above its data (`# Time  Cd  Cl`): the last
+/// comment line before the first record, `#` and blanks removed, split at runs of blanks
+/// (parentheses group, as in [`split`]); with its line. `None` when no comment line stands
+/// before the first record or the last one holds nothing. Whether the first record is a header
+/// of its own or data is the caller's to decide.
+pub fn header_from_comment(text: &str) -> Option<(usize, Vec<String>)> {
+    let first = Lines::new(text).next().map(|(l, _)| l);
+    let mut last: Option<(usize, &str)> = None;
+    for (i, line) in text.lines().enumerate() {
+        if first.is_some_and(|f| i + 1 >= f) {
+            break;
+        }
+        let t = line.trim_start_matches('\u{feff}');
+        if let Some(c) = t.strip_prefix('#') {
+            last = Some((i + 1, c));
+        }
+    }
+    let (line, c) = last?;
+    let names: Vec<String> = split(c.trim(), Separator::Whitespace)
+        .iter()
+        .map(|f| f.text().into_owned())
+        .collect();
+    (!names.is_empty()).then_some((line, names))
 }
 
 /// Records of the sample the detector looks at after the header.
@@ -783,6 +815,28 @@ mod tests {
         assert_eq!(t.number(r[0].get(0)), Ok(Some(1.5)));
         // Past the end: an empty field, read as missing.
         assert_eq!(t.number(r[2].get(5)), Ok(None));
+    }
+
+    #[test]
+    fn solver_function_object_files_read_with_their_comment_header() {
+        // A force monitor as solvers' function objects write it (sample written for the test):
+        // a comment header, whitespace columns, parenthesised vectors.
+        let text = "# Force coefficients\n# Time    \tCd   \tCl\t(x y z)\n0.1\t0.52\t-0.01\t(1 2 3)\n0.2\t0.50\t0.02\t(1.5 2 3)\n";
+        let (line, names) = header_from_comment(text).unwrap();
+        assert_eq!(line, 2);
+        assert_eq!(names, ["Time", "Cd", "Cl", "(x y z)"]);
+        let recs: Vec<_> = Lines::new(text).collect();
+        assert_eq!(recs.len(), 2);
+        let f = split(recs[1].1, Separator::Whitespace);
+        assert_eq!(f.len(), 4);
+        assert_eq!(f[3].text(), "(1.5 2 3)");
+        assert_eq!(number(&f[1].text(), Decimal::Point), Ok(Some(0.5)));
+        assert_eq!(detect(text, &Options::default()).separator, Separator::Tab);
+        // No comment above the data, or an empty one: none. (Whether the first record is a
+        // header of its own or data is the caller's to decide.)
+        assert_eq!(header_from_comment("1 2\n"), None);
+        assert_eq!(header_from_comment("#  \n1 2\n"), None);
+        assert_eq!(header_from_comment("# t p\n\n1 2\n").map(|h| h.0), Some(1));
     }
 
     #[test]

@@ -401,9 +401,16 @@ pub(super) fn parse_plain(
                 fields.push((a, rec.len()));
             }
             None => {
+                // Runs of blanks, outside parentheses (as `tabular::split` reads them).
                 let mut a = None;
+                let mut depth = 0usize;
                 for (i, &c) in rec.iter().enumerate() {
-                    match (c == b' ' || c == b'\t', a) {
+                    match c {
+                        b'(' => depth += 1,
+                        b')' => depth = depth.saturating_sub(1),
+                        _ => {}
+                    }
+                    match ((c == b' ' || c == b'\t') && depth == 0, a) {
                         (true, Some(s)) => {
                             fields.push((s, i));
                             a = None;
