@@ -206,6 +206,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         columns: vec!["cp".into()],
         files,
         write: None,
+        reading: Default::default(),
     };
 
     if mode == "full" {

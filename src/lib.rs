@@ -62,6 +62,7 @@ pub mod report;
 pub mod sink;
 pub mod study;
 pub mod sweep;
+pub mod tabular;
 pub mod warning;
 pub mod water;
 

@@ -132,6 +132,7 @@ fn every_point_of_a_random_field_equals_the_scalar_estimate() {
             columns: vec!["q".into()],
             files: files.clone(),
             write: Some(out.clone()),
+            reading: Default::default(),
         };
         // Small chunks and blocks, so that the field spans many of both.
         let opts = FieldOptions {
@@ -320,6 +321,7 @@ fn manufactured_field_is_monotonic_with_the_exact_order_everywhere() {
         columns: vec!["q".into()],
         files,
         write: Some(out.clone()),
+        reading: Default::default(),
     };
     let s = assess_field_with(
         &spec,

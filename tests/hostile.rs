@@ -646,6 +646,7 @@ fn inputs_found_by_fuzzing_end_quickly() {
                 columns,
                 files,
                 write: None,
+                reading: Default::default(),
             };
             let h = [1.0, 1.3, 1.69];
             let s = ThreeGridSettings::default();

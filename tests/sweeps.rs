@@ -318,7 +318,7 @@ fn csv_errors_name_the_file_and_line() {
     let err = String::from_utf8_lossy(&o.stderr);
     assert_eq!(o.status.code(), Some(2), "{}", show(&o));
     assert!(
-        err.contains("a.csv:4: column `efficiency`: `oops` is not a number"),
+        err.contains("a.csv:4:5: column `efficiency`: `oops` is not a number"),
         "{err}"
     );
     w.write(

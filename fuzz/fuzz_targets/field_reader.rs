@@ -65,6 +65,7 @@ fuzz_target!(|data: &[u8]| {
         id,
         files,
         write: None,
+        reading: Default::default(),
     };
     let h = [1.0, 1.3, 1.69];
     let settings = ThreeGridSettings::default();
@@ -73,7 +74,7 @@ fuzz_target!(|data: &[u8]| {
         for c in &s.columns {
             let k = &c.classes;
             assert_eq!(
-                k.monotonic + k.oscillatory + k.divergent + k.no_change,
+                k.monotonic + k.oscillatory + k.divergent + k.no_change + k.none,
                 s.points,
                 "every point has one class"
             );

@@ -523,6 +523,7 @@ pub fn mesh_warnings(meshes: &[Mesh]) -> Vec<Warning> {
 pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
     let mut warnings = mesh_warnings(&study.meshes);
     warnings.extend(health_warnings(study));
+    warnings.extend(study.warnings.iter().cloned());
     let settings = ThreeGridSettings {
         safety_factor: study.settings.safety_factor,
         order_max: study.settings.order_max,

@@ -103,6 +103,19 @@ pub struct FieldSpec {
     pub files: Vec<PathBuf>,
     /// Where to write the per-point results, if anywhere.
     pub write: Option<PathBuf>,
+    /// How the probe files are read (separator, decimal mark, column mapping and scales).
+    pub reading: FieldReading,
+}
+
+/// How the probe files of a field are read (docs/study-file.md, "Tabular files").
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct FieldReading {
+    /// Separator and decimal mark; `None` is detected per file.
+    pub options: crate::tabular::Options,
+    /// Per column of [`FieldSpec::columns`] (same order; may be empty): where it is read from
+    /// (`None`: its own name) and the factor applied to its values (`None`: 1, or 0.01 for a
+    /// column in `%`).
+    pub columns: Vec<(Option<crate::tabular::ColumnRef>, Option<f64>)>,
 }
 
 /// Tuning of the streaming (the defaults suit large fields; tests use small values).
@@ -162,18 +175,24 @@ pub enum FieldError {
         message: String,
     },
     /// A column the field needs is not in the header.
-    #[error("{}, line 1: no column `{column}` in the header", path.display())]
+    #[error("{}, line {line}: no column `{column}` in the header{hint}", path.display())]
     MissingColumn {
         /// The file.
         path: PathBuf,
+        /// The header's line.
+        line: u64,
         /// The column.
         column: String,
+        /// `; ` and a hint when the separator looks wrong, else empty.
+        hint: String,
     },
     /// A column the field needs appears twice in the header.
-    #[error("{}, line 1: column `{column}` appears more than once in the header", path.display())]
+    #[error("{}, line {line}: column `{column}` appears more than once in the header", path.display())]
     DuplicateColumn {
         /// The file.
         path: PathBuf,
+        /// The header's line.
+        line: u64,
         /// The column.
         column: String,
     },
@@ -387,10 +406,13 @@ pub fn assess_field_with(
     let raw_pool: Arc<Pool> = Arc::new(std::sync::Mutex::new(Vec::new()));
     for path in &spec.files {
         let mut r = BlockReader::open(path, opts.block_bytes, Arc::clone(&raw_pool))?;
-        let header = r.read_header()?;
-        let mut layout = Layout::new(path, header, spec)?;
+        let header = r.read_header(&spec.reading.options)?;
+        let mut layout = Layout::new(path, &header, spec)?;
+        if layout.units_row {
+            r.skip_units_row();
+        }
         // The finest values are written back as given: the same numbers, no formatting cost.
-        layout.keep_text = layouts.is_empty() && sink.is_some();
+        layout.keep_text = layouts.is_empty() && sink.is_some() && layout.as_given();
         layouts.push(layout);
         readers.push(r);
     }
@@ -462,7 +484,11 @@ pub fn assess_field_with(
         (Err(e), _) => return Err(e),
     };
     let points = accs.first().map_or(0, |a| {
-        a.classes.monotonic + a.classes.oscillatory + a.classes.divergent + a.classes.no_change
+        a.classes.monotonic
+            + a.classes.oscillatory
+            + a.classes.divergent
+            + a.classes.no_change
+            + a.classes.none
     });
     Ok(FieldSummary {
         name: spec.name.clone(),
@@ -643,6 +669,7 @@ mod tests {
             columns: vec!["cp".into()],
             files,
             write,
+            reading: FieldReading::default(),
         }
     }
 
@@ -876,7 +903,8 @@ mod tests {
                 monotonic: 0,
                 oscillatory: 1,
                 divergent: 2,
-                no_change: 1
+                no_change: 1,
+                none: 0
             }
         );
         assert_eq!(c.oscillation_range_points, 1);
@@ -1096,11 +1124,27 @@ mod tests {
                 f[2].display()
             )
         );
-        // An empty value is not a number either.
-        let (e, _) = err([ok, "id,cp\n1,\n2,2.0\n", ok]);
+        // An empty value is marked missing (docs/study-file.md): that probe gets class `none`
+        // and a warning naming it, and the others are still estimated.
+        let dir = tempfile::tempdir().unwrap();
+        let files = three_files(dir.path(), [ok, "id,cp\n1,\n2,2.0\n", ok]);
+        let s = assess_field_with(
+            &spec(files, None),
+            H,
+            &ThreeGridSettings::default(),
+            &small(),
+            None,
+        )
+        .unwrap();
+        assert_eq!(s.points, 2);
+        assert_eq!(s.columns[0].classes.none, 1);
+        assert_eq!(s.columns[0].classes.no_change, 1);
+        let w = s.warnings();
+        assert_eq!(w[0].code, "field_points_missing");
         assert!(
-            e.ends_with("line 2, column `cp`: `` is not a number"),
-            "{e}"
+            w[0].message.contains("1 of 2 probes") && w[0].message.contains("(1)"),
+            "{}",
+            w[0].message
         );
     }
 
@@ -1156,7 +1200,7 @@ mod tests {
         let files = three_files(dir.path(), [ok, ok, ok]);
         let out = dir.path().join("p.csv");
         std::fs::write(&out, "old\n").unwrap();
-        std::fs::write(&files[2], "id,cp\n1,1.0\n2,nan\n").unwrap();
+        std::fs::write(&files[2], "id,cp\n1,1.0\n2,inf\n").unwrap();
         let set = ThreeGridSettings::default();
         assert!(assess_field_with(
             &spec(files.clone(), Some(out.clone())),

@@ -16,6 +16,14 @@ pub(super) struct Layout {
     pub(super) keep_text: bool,
     /// What each field of a record is, in header order (for the fast parser).
     pub(super) roles: Vec<Role>,
+    /// The separating byte; `None` for runs of blanks.
+    pub(super) sep: Option<u8>,
+    /// The decimal mark.
+    pub(super) decimal: crate::tabular::Decimal,
+    /// Factor applied to each needed column's values (1 unless scaled or in `%`).
+    pub(super) factors: Vec<f64>,
+    /// Whether the record after the header is a units row (skipped).
+    pub(super) units_row: bool,
 }
 
 /// What one field of a record is to the fast parser.
@@ -45,32 +53,50 @@ pub(super) fn roles(fields: usize, id_idx: usize, col_idx: &[usize]) -> Vec<Role
 impl Layout {
     pub(super) fn new(
         path: &Path,
-        header: Vec<String>,
+        head: &super::read::Header,
         spec: &FieldSpec,
     ) -> Result<Self, FieldError> {
-        let find = |name: &str| -> Result<usize, FieldError> {
-            let mut hits = header.iter().enumerate().filter(|(_, h)| *h == name);
-            match (hits.next(), hits.next()) {
-                (Some((i, _)), None) => Ok(i),
-                (Some(_), Some(_)) => Err(FieldError::DuplicateColumn {
-                    path: path.to_path_buf(),
-                    column: name.to_string(),
-                }),
-                _ => Err(FieldError::MissingColumn {
-                    path: path.to_path_buf(),
-                    column: name.to_string(),
-                }),
+        use crate::tabular::ColumnRef;
+        let header = &head.names;
+        let find = |col: &ColumnRef| -> Result<usize, FieldError> {
+            if let ColumnRef::Name(n) = col {
+                if crate::tabular::matches(header, n) > 1 {
+                    return Err(FieldError::DuplicateColumn {
+                        path: path.to_path_buf(),
+                        line: head.line,
+                        column: n.clone(),
+                    });
+                }
             }
+            crate::tabular::find(header, col).ok_or_else(|| FieldError::MissingColumn {
+                path: path.to_path_buf(),
+                line: head.line,
+                column: match col {
+                    ColumnRef::Name(n) => n.clone(),
+                    ColumnRef::Index(i) => format!("number {i}"),
+                },
+                hint: crate::tabular::separator_hint(header, head.format.separator)
+                    .map(|h| format!("; {h}"))
+                    .unwrap_or_default(),
+            })
         };
         let id_idx = match &spec.id {
-            Some(name) => find(name)?,
+            Some(name) => find(&ColumnRef::Name(name.clone()))?,
             None => 0,
+        };
+        let source = |c: usize| -> (ColumnRef, Option<f64>) {
+            let (col, scale) = spec.reading.columns.get(c).cloned().unwrap_or((None, None));
+            (
+                col.unwrap_or_else(|| ColumnRef::Name(spec.columns[c].clone())),
+                scale,
+            )
         };
         let col_idx = spec
             .columns
             .iter()
-            .map(|c| {
-                let i = find(c)?;
+            .enumerate()
+            .map(|(k, c)| {
+                let i = find(&source(k).0)?;
                 if i == id_idx {
                     return Err(FieldError::Spec {
                         field: spec.name.clone(),
@@ -83,14 +109,57 @@ impl Layout {
                 Ok(i)
             })
             .collect::<Result<Vec<_>, _>>()?;
+        let units_row = head.next_cells.as_ref().is_some_and(|cells| {
+            crate::tabular::is_units_row(
+                col_idx
+                    .iter()
+                    .map(|&i| cells.get(i).map_or("", String::as_str)),
+                head.format.decimal,
+            )
+        });
+        let factors = (0..col_idx.len())
+            .map(|k| {
+                source(k).1.unwrap_or_else(|| {
+                    let from_row = if units_row {
+                        head.next_cells
+                            .as_ref()
+                            .and_then(|c| c.get(col_idx[k]))
+                            .and_then(|u| crate::tabular::clean_unit(u))
+                    } else {
+                        None
+                    };
+                    from_row
+                        .or_else(|| crate::tabular::split_unit(&header[col_idx[k]]).1)
+                        .and_then(crate::tabular::percent_factor)
+                        .unwrap_or(1.0)
+                })
+            })
+            .collect();
         Ok(Layout {
             path: path.to_path_buf(),
             roles: roles(header.len(), id_idx, &col_idx),
-            header,
+            header: header.clone(),
             id_idx,
             col_idx,
             keep_text: false,
+            sep: head.format.separator.byte(),
+            decimal: head.format.decimal,
+            factors,
+            units_row,
         })
+    }
+
+    /// Whether the values are read as written (no scale, a decimal point), so that the finest
+    /// mesh's text can be written back as given.
+    pub(super) fn as_given(&self) -> bool {
+        self.decimal == crate::tabular::Decimal::Point
+            && self.factors.iter().all(|&f| f.to_bits() == 1f64.to_bits())
+    }
+
+    /// Whether the one-pass parser applies: comma or semicolon (blanks are padding there),
+    /// decimal point, no scale.
+    fn fast(&self) -> bool {
+        matches!(self.sep, Some(b',' | b';')) && self.as_given()
     }
 }
 
@@ -214,15 +283,25 @@ pub(super) fn push_row<'b>(
         .extend_from_slice(field(layout.id_idx).trim_ascii());
     rows.id_end.push(rows.ids.len());
     rows.lines.push(line);
-    for &ci in &layout.col_idx {
+    for (k, &ci) in layout.col_idx.iter().enumerate() {
         let text = field(ci).trim_ascii();
         // The same grammar as `str::parse::<f64>` (checked by a test), straight from the bytes.
-        let v = fast_float2::parse::<f64, _>(text).ok();
+        let v = match layout.decimal {
+            crate::tabular::Decimal::Point => fast_float2::parse::<f64, _>(text).ok(),
+            crate::tabular::Decimal::Comma => comma_number(text),
+        };
         match v {
             Some(v) if v.is_finite() => {
-                rows.values.push(v);
+                rows.values.push(v * layout.factors[k]);
                 if layout.keep_text {
                     rows.texts.extend_from_slice(text);
+                    rows.text_end.push(rows.texts.len());
+                }
+            }
+            _ if is_missing(text) => {
+                // Marked missing: the probe gets no estimate in this column.
+                rows.values.push(f64::NAN);
+                if layout.keep_text {
                     rows.text_end.push(rows.texts.len());
                 }
             }
@@ -247,9 +326,34 @@ pub(super) fn push_row<'b>(
     Ok(())
 }
 
-/// Parses a block without double quotes by splitting at commas and line ends, which is what
-/// CSV means for such text. Gives `None` when a lone carriage return (a record end to the CSV
-/// reader) makes the general path the safer one.
+/// Whether a trimmed cell marks a missing value (see [`crate::tabular::is_missing`]).
+fn is_missing(text: &[u8]) -> bool {
+    std::str::from_utf8(text).is_ok_and(crate::tabular::is_missing)
+}
+
+/// A number written with a decimal comma (see [`crate::tabular::number`]); `None` when it is
+/// none (a cell marked missing included).
+fn comma_number(text: &[u8]) -> Option<f64> {
+    // One comma and no point, as `tabular::number` reads it, without an allocation: the
+    // number is copied with the comma made a point (longer texts take the general way).
+    let mut buf = [0u8; 64];
+    let commas = text.iter().filter(|&&c| c == b',').count();
+    if text.len() <= buf.len() && commas <= 1 && !text.contains(&b'.') {
+        for (d, &c) in buf.iter_mut().zip(text) {
+            *d = if c == b',' { b'.' } else { c };
+        }
+        return fast_float2::parse::<f64, _>(&buf[..text.len()]).ok();
+    }
+    let t = std::str::from_utf8(text).ok()?;
+    crate::tabular::number(t, crate::tabular::Decimal::Comma)
+        .ok()
+        .flatten()
+}
+
+/// Parses a block without double quotes by splitting at the separator (or runs of blanks) and
+/// line ends, which is what CSV means for such text; lines starting with `#` are comments.
+/// Gives `None` when a lone carriage return (a record end to the CSV reader) makes the general
+/// path the safer one.
 // Kept out of line so that profiles show parsing and estimating apart.
 #[inline(never)]
 pub(super) fn parse_plain(
@@ -261,44 +365,72 @@ pub(super) fn parse_plain(
     let len = bytes.len();
     let mut fields: Vec<(usize, usize)> = Vec::with_capacity(layout.header.len() + 1);
     let mut line = block.first_line;
-    let mut start = 0;
-    // Every comma, line feed and carriage return, found by a vectorised search.
-    let mut hits = memchr::memchr3_iter(b',', b'\n', b'\r', bytes);
-    loop {
-        let hit = hits.next();
-        let (end, next) = match hit {
-            None if start >= len && fields.is_empty() => break,
+    let mut pos = 0;
+    while pos < len {
+        let (end, next) = match memchr::memchr2(b'\n', b'\r', &bytes[pos..]) {
             None => (len, len),
-            Some(i) => match bytes[i] {
-                b',' => {
-                    fields.push((start, i));
-                    start = i + 1;
-                    continue;
-                }
-                b'\n' => (i, i + 1),
-                _ if i + 1 == len => (i, len),
-                _ if bytes[i + 1] == b'\n' => {
-                    hits.next(); // the line feed of the CRLF
+            Some(k) => {
+                let i = pos + k;
+                if bytes[i] == b'\n' {
+                    (i, i + 1)
+                } else if i + 1 == len {
+                    (i, len)
+                } else if bytes[i + 1] == b'\n' {
                     (i, i + 2)
+                } else {
+                    return Ok(None);
                 }
-                _ => return Ok(None),
-            },
+            }
         };
         let this_line = line;
         line += 1;
-        if !(end == start && fields.is_empty()) {
-            // (a blank line is skipped, as the CSV reader skips it)
-            fields.push((start, end));
-            push_row(layout, &mut rows, this_line, fields.len(), |k| {
-                let (a, b) = fields[k];
-                &bytes[a..b]
-            })?;
-            fields.clear();
+        let rec = &bytes[pos..end];
+        pos = next;
+        // (a blank line is skipped, as the CSV reader skips it; so is a comment)
+        if rec.is_empty() || rec[0] == b'#' {
+            continue;
         }
-        start = next;
-        if hit.is_none() {
-            break;
+        fields.clear();
+        match layout.sep {
+            Some(sep) => {
+                let mut a = 0;
+                for i in memchr::memchr_iter(sep, rec) {
+                    fields.push((a, i));
+                    a = i + 1;
+                }
+                fields.push((a, rec.len()));
+            }
+            None => {
+                // Runs of blanks, outside parentheses (as `tabular::split` reads them).
+                let mut a = None;
+                let mut depth = 0usize;
+                for (i, &c) in rec.iter().enumerate() {
+                    match c {
+                        b'(' => depth += 1,
+                        b')' => depth = depth.saturating_sub(1),
+                        _ => {}
+                    }
+                    match ((c == b' ' || c == b'\t') && depth == 0, a) {
+                        (true, Some(s)) => {
+                            fields.push((s, i));
+                            a = None;
+                        }
+                        (false, None) => a = Some(i),
+                        _ => {}
+                    }
+                }
+                if let Some(s) = a {
+                    fields.push((s, rec.len()));
+                }
+                if fields.is_empty() {
+                    continue;
+                }
+            }
         }
+        push_row(layout, &mut rows, this_line, fields.len(), |k| {
+            let (a, b) = fields[k];
+            &rec[a..b]
+        })?;
     }
     Ok(Some(rows))
 }
@@ -314,14 +446,26 @@ pub(super) fn is_pad(c: u8) -> bool {
 /// only well-formed records (the right field count, finite numbers, LF or CRLF line ends, no
 /// blank lines) and gives `false` at anything else, leaving the block to [`parse_plain`],
 /// which reads the same records the same way and words the errors. `rows` is then stale.
+pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> bool {
+    // The separator as a constant: the byte loops compare against fixed bytes.
+    match layout.sep {
+        Some(b';') => parse_fast_with::<b';'>(layout, block, rows),
+        _ => parse_fast_with::<b','>(layout, block, rows),
+    }
+}
+
+/// [`parse_fast`] for the separator `SEP`.
 // Kept out of line so that profiles show parsing and estimating apart.
 #[inline(never)]
-pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> bool {
+fn parse_fast_with<const SEP: u8>(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> bool {
     let bytes = &block.bytes[..];
     let len = bytes.len();
     let roles = &layout.roles[..];
     let nf = roles.len();
     let ncols = rows.ncols;
+    if !layout.fast() {
+        return false;
+    }
     // The needed values' text, by column, for the record at hand.
     let mut spans = [(0usize, 0usize); 8];
     // (A layout always has an id and a value field.)
@@ -332,6 +476,9 @@ pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> 
     // Row i stands on line first_line + i: no blank lines are taken here.
     rows.first_line = block.first_line;
     while pos < len {
+        if bytes[pos] == b'#' {
+            return false; // a comment line
+        }
         let base = rows.values.len();
         rows.values.resize(base + ncols, 0.0);
         let mut id = (pos, pos);
@@ -358,7 +505,7 @@ pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> 
                 }
                 role => {
                     let a = pos;
-                    while pos < len && !matches!(bytes[pos], b',' | b'\n' | b'\r') {
+                    while pos < len && bytes[pos] != SEP && !matches!(bytes[pos], b'\n' | b'\r') {
                         pos += 1;
                     }
                     if role == Role::Id {
@@ -376,7 +523,7 @@ pub(super) fn parse_fast(layout: &Layout, block: &RawBlock, rows: &mut Rows) -> 
             // `pos` stands on the field's end.
             let end_of_record = match bytes.get(pos) {
                 None => true,
-                Some(b',') => {
+                Some(&c) if c == SEP => {
                     pos += 1;
                     false
                 }
@@ -435,9 +582,14 @@ pub(super) fn parse_block(
         }
     }
     let mut rows = pooled_rows(pool, ncols, block.newlines + 1);
+    let Some(sep) = layout.sep else {
+        return parse_blanks(layout, block, rows);
+    };
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
+        .delimiter(sep)
+        .comment(Some(b'#'))
         .from_reader(&block.bytes[..]);
     let mut rec = csv::ByteRecord::new();
     loop {
@@ -470,6 +622,21 @@ pub(super) fn parse_block(
         };
         push_row(layout, &mut rows, line, rec.len(), |k| {
             rec.get(k).unwrap_or_default()
+        })?;
+    }
+    Ok(rows)
+}
+
+/// A block with double quotes or lone carriage returns in a file separated by blanks: read by
+/// the tabular reader's rules (quotes group blanks into a field).
+fn parse_blanks(layout: &Layout, block: &RawBlock, mut rows: Rows) -> Result<Rows, FieldError> {
+    let text = String::from_utf8_lossy(&block.bytes);
+    for (l, rec) in crate::tabular::Lines::new(&text) {
+        let fields = crate::tabular::split(rec, crate::tabular::Separator::Whitespace);
+        let texts: Vec<std::borrow::Cow<str>> = fields.iter().map(|f| f.text()).collect();
+        let line = block.first_line + l as u64 - 1;
+        push_row(layout, &mut rows, line, texts.len(), |k| {
+            texts[k].as_bytes()
         })?;
     }
     Ok(rows)
@@ -508,6 +675,10 @@ mod tests {
             col_idx: vec![2],
             keep_text: false,
             roles: roles(3, 0, &[2]),
+            sep: Some(b','),
+            decimal: crate::tabular::Decimal::Point,
+            factors: vec![1.0],
+            units_row: false,
         };
         let text = b"a,0.1,1.5\r\n\nb , 2, -2e-3 \n\r\nc,3,4";
         let block = |quoted| RawBlock {
@@ -568,6 +739,10 @@ mod tests {
             col_idx: cols.to_vec(),
             keep_text,
             roles: roles(fields, 0, cols),
+            sep: Some(b','),
+            decimal: crate::tabular::Decimal::Point,
+            factors: vec![1.0; cols.len()],
+            units_row: false,
         }
     }
 
@@ -631,6 +806,54 @@ mod tests {
                 String::from_utf8_lossy(odd)
             );
         }
+    }
+
+    #[test]
+    fn other_separators_comments_and_missing_cells() {
+        // The rules of docs/study-file.md, "Tabular files": `#` lines are comments, blanks
+        // separate with `whitespace`, a decimal comma reads as a point, a missing cell is NaN
+        // (no estimate), a `%` factor scales.
+        let pool = RowsPool::default();
+        let read = |layout: &Layout, text: &[u8]| {
+            let b = RawBlock {
+                bytes: text.to_vec(),
+                first_line: 3,
+                newlines: 0,
+                quoted: text.contains(&b'"'),
+            };
+            let mut fast = Rows::new(2, 4);
+            let took = parse_fast(layout, &b, &mut fast);
+            (took, parse_block(layout, &b, &pool).map(|r| rows_text(&r)))
+        };
+        let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+        let mut l = layout_of(3, &[2, 1], false);
+        l.sep = Some(b';');
+        let (took, rows) = read(&l, b"a;1.5;2\n# note;9;9\nb;3;-\n");
+        assert!(!took, "a comment and a missing cell leave the fast path");
+        let rows = rows.unwrap();
+        assert_eq!(rows.len(), 2);
+        assert_eq!((rows[0].1, rows[1].1), (3, 5));
+        assert_eq!(rows[0].2, bits(&[2.0, 1.5]));
+        assert!(f64::from_bits(rows[1].2[0]).is_nan() && rows[1].2[1] == 3f64.to_bits());
+        // Semicolons without anything odd: the fast path takes them.
+        assert!(read(&l, b"a;1.5;2\nb;3;4\n").0);
+        // Decimal commas and a scale.
+        l.decimal = crate::tabular::Decimal::Comma;
+        l.factors = vec![0.01, 1.0];
+        let (took, rows) = read(&l, b"a;1,5;25\n");
+        assert!(!took);
+        assert_eq!(rows.unwrap()[0].2, bits(&[0.25, 1.5]));
+        // Runs of blanks, with quotes too.
+        let mut w = layout_of(3, &[2, 1], false);
+        w.sep = None;
+        let (took, rows) = read(&w, b"  a   1.5  2\n\tb 3 4 \n");
+        assert!(!took);
+        assert_eq!(rows.unwrap()[1].2, bits(&[4.0, 3.0]));
+        let (_, rows) = read(&w, b"\"a b\" 1.5 2\n");
+        let rows = rows.unwrap();
+        assert_eq!(rows[0].0, b"a b");
+        // `inf` is still refused.
+        assert!(read(&l, b"a;1;inf\n").1.is_err());
     }
 
     /// Blocks the fast parser took in `fast_parser_reads_what_the_splitter_reads`.

@@ -142,6 +142,14 @@ pub struct ClassCounts {
     pub divergent: u64,
     /// No change between meshes.
     pub no_change: u64,
+    /// No estimate: a value marked missing (empty, `-`, `nan`, `n/a`) on one of the meshes.
+    /// Left out of the JSON when 0.
+    #[serde(skip_serializing_if = "is_zero")]
+    pub none: u64,
+}
+
+fn is_zero(n: &u64) -> bool {
+    *n == 0
 }
 
 /// Summary of one column of a field (contract: the serde form).
@@ -177,6 +185,9 @@ pub struct ColumnSummary {
     /// The points' warnings per code ([`FIELD_CODES`]): how many points raised it and the ids
     /// of the first ones, in the order of the probe files.
     pub point_warnings: Vec<PointWarning<String>>,
+    /// The ids of the first probes with a value marked missing (class `none`).
+    #[serde(skip)]
+    pub missing_at: Vec<String>,
 }
 
 impl ColumnSummary {
@@ -238,6 +249,23 @@ impl FieldSummary {
                         format!(
                             "column `{}`: {} points have no observed order; their uncertainty uses the formal order with safety factor 3",
                             c.name, c.formal_order_points
+                        ),
+                    )
+                    .about(&self.name),
+                );
+            }
+            if c.classes.none > 0 {
+                let more = c.classes.none - c.missing_at.len() as u64;
+                out.push(
+                    Warning::new(
+                        "field_points_missing",
+                        format!(
+                            "column `{}`: {} of {} probes have a value marked missing (empty, `-`, `nan`, `n/a`) on one of the meshes ({}{}); they have no estimate (class `none`, empty cells in the per-point file) and are left out of every figure",
+                            c.name,
+                            c.classes.none,
+                            self.points,
+                            c.missing_at.join(", "),
+                            if more > 0 { format!(" and {more} more") } else { String::new() }
                         ),
                     )
                     .about(&self.name),
@@ -314,6 +342,8 @@ pub(super) struct ColumnAcc {
     /// Points per code of [`FIELD_CODES`], and the ids of the first ones.
     pub(super) code_n: [u64; FIELD_CODES.len()],
     pub(super) code_at: [Vec<String>; FIELD_CODES.len()],
+    /// The ids of the first points with a value marked missing.
+    pub(super) missing_at: Vec<String>,
 }
 
 impl ColumnAcc {
@@ -372,12 +402,24 @@ impl ColumnAcc {
         }
     }
 
+    /// Adds a point with a value marked missing on some mesh: class `none`, no figure.
+    pub(super) fn add_missing(&mut self, id: &[u8]) {
+        self.classes.none += 1;
+        if self.missing_at.len() < LISTED {
+            self.missing_at.push(listed_id(id));
+        }
+    }
+
     /// Adds a chunk's figures and bins its orders (`bin_scale` bins per unit of order).
     pub(super) fn merge(&mut self, o: &ColumnAcc, bin_scale: f64) {
         self.classes.monotonic += o.classes.monotonic;
         self.classes.oscillatory += o.classes.oscillatory;
         self.classes.divergent += o.classes.divergent;
         self.classes.no_change += o.classes.no_change;
+        self.classes.none += o.classes.none;
+        let room = LISTED.saturating_sub(self.missing_at.len());
+        self.missing_at
+            .extend(o.missing_at.iter().take(room).cloned());
         self.order_n += o.order_n;
         self.order_sum += o.order_sum;
         if !o.orders.is_empty() && self.hist_n.is_empty() {
@@ -460,6 +502,7 @@ impl ColumnAcc {
                     more: self.code_n[k] - self.code_at[k].len() as u64,
                 })
                 .collect(),
+            missing_at: self.missing_at.clone(),
         }
     }
 }

@@ -164,6 +164,20 @@ pub(super) fn compute_chunk(
         }
         for (c, acc) in accs.iter_mut().enumerate() {
             let phi = [b0.value(i0, c), b1.value(i1, c), b2.value(i2, c)];
+            // (finite values never sum to NaN, even when the sum overflows: one test)
+            if (phi[0] + phi[1] + phi[2]).is_nan() {
+                // A value marked missing: no estimate, class `none`.
+                acc.add_missing(id);
+                if write {
+                    buf.push(b',');
+                    match b0.text(i0, c) {
+                        Some(t) => buf.extend_from_slice(t),
+                        None => push_opt(&mut buf, Some(phi[0])),
+                    }
+                    buf.extend_from_slice(b",,,none,");
+                }
+                continue;
+            }
             let e = fast.estimate(phi);
             acc.add(&e, phi, id, checks);
             if write {

@@ -202,6 +202,48 @@ pub fn open(path: &Path) -> Result<csv::Reader<Bounded<File>>, OpenError> {
         .from_reader(Bounded::new(file)))
 }
 
+/// Why a CSV file could not be read whole.
+#[derive(Debug)]
+pub enum ReadError {
+    /// It cannot be opened (missing, no permission, …).
+    Io(io::Error),
+    /// It is refused before reading: a folder, or larger than [`MAX_CSV_BYTES`].
+    Refused(String),
+    /// A record or the file ran over its bound.
+    Overrun(Overrun),
+}
+
+/// Reads a CSV file a study names into text, within the bounds of [`open`] (the size first,
+/// then every record through [`Bounded`]). Bytes that are not UTF-8 are replaced (`�`): a
+/// name holding them matches no column, and a number holding them is refused.
+pub fn read_text(path: &Path) -> Result<String, ReadError> {
+    let file = crate::input::open_regular(path).map_err(|e| {
+        if e.kind() == io::ErrorKind::InvalidInput {
+            ReadError::Refused(e.to_string())
+        } else {
+            ReadError::Io(e)
+        }
+    })?;
+    let meta = file.metadata().map_err(ReadError::Io)?;
+    if meta.len() > MAX_CSV_BYTES {
+        return Err(ReadError::Refused(format!(
+            "the file has {} bytes; CSV files above 256 MiB are refused",
+            meta.len()
+        )));
+    }
+    let mut bytes = Vec::with_capacity(meta.len() as usize);
+    Bounded::new(file).read_to_end(&mut bytes).map_err(|e| {
+        match e.get_ref().and_then(|r| r.downcast_ref::<Overrun>()) {
+            Some(o) => ReadError::Overrun(*o),
+            None => ReadError::Io(e),
+        }
+    })?;
+    Ok(match String::from_utf8(bytes) {
+        Ok(s) => s,
+        Err(e) => String::from_utf8_lossy(e.as_bytes()).into_owned(),
+    })
+}
+
 /// Most header names a message shows.
 pub const MAX_NAMES_SHOWN: usize = 12;
 
@@ -214,7 +256,7 @@ fn looks_like_name(name: &str) -> bool {
     !name.is_empty()
         && name
             .chars()
-            .all(|c| c.is_alphanumeric() || " _-.()[]/%°·+^".contains(c))
+            .all(|c| c.is_alphanumeric() || " _-.()[]/%°·+^;".contains(c))
 }
 
 fn cut(text: &str) -> String {
@@ -231,10 +273,10 @@ fn cut(text: &str) -> String {
 /// column names, each cut to [`MAX_NAME_CHARS`] characters, at most [`MAX_NAMES_SHOWN`] of
 /// them, and a count of the rest. A message never echoes raw text of a file this way (a study
 /// could name any file).
-pub fn header_names(headers: &csv::StringRecord) -> String {
+pub fn header_names<'a>(headers: impl IntoIterator<Item = &'a str>) -> String {
     let mut shown = Vec::new();
     let mut hidden = 0usize;
-    for h in headers.iter() {
+    for h in headers {
         if shown.len() < MAX_NAMES_SHOWN && looks_like_name(h) {
             shown.push(format!("`{}`", cut(h)));
         } else {
@@ -267,23 +309,24 @@ mod tests {
 
     #[test]
     fn header_names_echo_only_column_like_names() {
-        let rec = |v: &[&str]| csv::StringRecord::from(v.to_vec());
+        fn rec<'a>(v: &[&'a str]) -> Vec<&'a str> {
+            v.to_vec()
+        }
         assert_eq!(
-            header_names(&rec(&["sigma", "head (m)"])),
+            header_names(rec(&["sigma", "head (m)"])),
             "`sigma`, `head (m)`"
         );
         // A line of some other file: not echoed.
         let secret = "root:$6$abc$Zx9:19000:0:99999:7:::";
-        let shown = header_names(&rec(&[secret]));
+        let shown = header_names(rec(&[secret]));
         assert!(!shown.contains("root"), "{shown}");
         assert_eq!(shown, "no name that looks like a column name");
         // Long names are cut, and the count is capped.
         let long = "a".repeat(1000);
-        let shown = header_names(&rec(&[&long]));
+        let shown = header_names(rec(&[&long]));
         assert!(shown.chars().count() < MAX_NAME_CHARS + 5, "{shown}");
         let many: Vec<String> = (0..100).map(|i| format!("c{i}")).collect();
-        let many: Vec<&str> = many.iter().map(String::as_str).collect();
-        let shown = header_names(&rec(&many));
+        let shown = header_names(many.iter().map(String::as_str));
         assert!(shown.ends_with("and 88 others not shown"), "{shown}");
         assert!(field_text(&"9".repeat(5000)).chars().count() <= MAX_NAME_CHARS + 1);
         assert_eq!(field_text("a\u{1b}[2J"), "a�[2J");

@@ -162,6 +162,8 @@ pub struct Study {
     /// Sizes implied by the cell counts, relative to the finest mesh, when both `size` (or
     /// `extent`) and `cells` are given for every mesh.
     pub sizes_from_cells: Option<Vec<f64>>,
+    /// Warnings raised while the files were read (points marked missing, skipped).
+    pub warnings: Vec<crate::warning::Warning>,
 }
 
 /// What a study may reach besides its own folder.
@@ -807,6 +809,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         .map_or(crate::machine::STANDARD_GRAVITY, |g| g.0);
     let mut files_read = vec![path.to_path_buf()];
     files_read.extend(history_files);
+    let mut warnings = Vec::new();
     let mesh_names: Vec<String> = meshes.iter().map(|m| m.name.clone()).collect();
     let sweeps = sweep::check(
         &raw.sweeps,
@@ -815,6 +818,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         &at,
         &reach,
         &mut files_read,
+        &mut warnings,
     )?;
     let mut fields = Vec::new();
     let mut files_written = Vec::new();
@@ -881,6 +885,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
                 columns: f.columns.clone(),
                 files,
                 write,
+                reading: f.reading(&key, &at)?,
             },
             [idx[0], idx[1], idx[2]],
         ));
@@ -892,6 +897,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         &at,
         &reach,
         &mut files_read,
+        &mut warnings,
     )?;
     let title = raw.title.clone().unwrap_or_else(|| {
         path.file_stem()
@@ -933,6 +939,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
             .map(|&i| raw.meshes[i].iterative.map(|v| v.0.abs()))
             .collect(),
         sizes_from_cells,
+        warnings,
     })
 }
 

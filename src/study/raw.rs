@@ -57,6 +57,154 @@ pub struct RawField {
     /// Per-point results file, relative to the study file.
     #[serde(default)]
     pub write: Option<String>,
+    /// The separator of the probe files (default: detected).
+    #[serde(default)]
+    pub separator: Option<crate::tabular::Separator>,
+    /// The decimal mark of the probe files (default: detected).
+    #[serde(default)]
+    pub decimal: Option<crate::tabular::Decimal>,
+    /// Where each of `columns` is read from, and its scale.
+    #[serde(default)]
+    pub mapping: IndexMap<String, RawColumn>,
+}
+
+impl RawField {
+    /// How its probe files are read; refuses a `mapping` key that is not one of `columns`.
+    pub fn reading(
+        &self,
+        key: &str,
+        at: &super::At,
+    ) -> Result<crate::field::FieldReading, super::StudyError> {
+        for m in self.mapping.keys() {
+            if !self.columns.contains(m) {
+                return Err(at.err(
+                    format!("{key}.mapping.{m}"),
+                    format!(
+                        "`{m}` is not one of the field's `columns` ({})",
+                        self.columns.join(", ")
+                    ),
+                ));
+            }
+        }
+        Ok(crate::field::FieldReading {
+            options: crate::tabular::Options {
+                separator: self.separator,
+                decimal: self.decimal,
+            },
+            columns: self
+                .columns
+                .iter()
+                .map(|c| match self.mapping.get(c) {
+                    Some(m) => (m.column.clone(), m.scale),
+                    None => (None, None),
+                })
+                .collect(),
+        })
+    }
+}
+
+/// Where a column is read from in a tabular file: a header name, a position counted from 1,
+/// or `{column, scale}`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RawColumn {
+    /// The column in the file (`None`: the name the study uses).
+    pub column: Option<crate::tabular::ColumnRef>,
+    /// Factor applied to every value read (default 1, or 0.01 for a column in `%`).
+    pub scale: Option<f64>,
+}
+
+impl<'de> Deserialize<'de> for RawColumn {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        use crate::tabular::ColumnRef;
+        struct V;
+        fn index<E: de::Error>(v: u64) -> Result<ColumnRef, E> {
+            if (1..=1_000_000).contains(&v) {
+                Ok(ColumnRef::Index(v as usize))
+            } else {
+                Err(E::custom(format!(
+                    "expected a column position counted from 1, found {v}"
+                )))
+            }
+        }
+        impl<'de> de::Visitor<'de> for V {
+            type Value = RawColumn;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a column name, a column position counted from 1, or `{column: name, scale: factor}`")
+            }
+            fn visit_str<E: de::Error>(self, s: &str) -> Result<RawColumn, E> {
+                if s.trim().is_empty() {
+                    return Err(E::custom("the column name is empty"));
+                }
+                Ok(RawColumn {
+                    column: Some(ColumnRef::Name(s.to_string())),
+                    scale: None,
+                })
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<RawColumn, E> {
+                Ok(RawColumn {
+                    column: Some(index(v)?),
+                    scale: None,
+                })
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<RawColumn, E> {
+                self.visit_u64(u64::try_from(v).unwrap_or(0))
+            }
+            fn visit_map<A: de::MapAccess<'de>>(self, mut map: A) -> Result<RawColumn, A::Error> {
+                let mut out = RawColumn {
+                    column: None,
+                    scale: None,
+                };
+                while let Some(key) = map.next_key::<String>()? {
+                    match key.as_str() {
+                        "column" if out.column.is_none() => {
+                            out.column =
+                                Some(map.next_value::<RawColumn>()?.column.ok_or_else(|| {
+                                    de::Error::custom("expected a column name or position")
+                                })?)
+                        }
+                        "scale" if out.scale.is_none() => {
+                            let v = map.next_value::<Finite>()?.0;
+                            if v == 0.0 {
+                                return Err(de::Error::custom(
+                                    "a scale of 0 would erase every value: give the factor that turns the file's values into the study's unit",
+                                ));
+                            }
+                            out.scale = Some(v);
+                        }
+                        "column" | "scale" => {
+                            return Err(de::Error::custom(format!("`{key}` is given twice")))
+                        }
+                        other => {
+                            return Err(de::Error::custom(format!(
+                                "unknown key `{other}`: expected `column` or `scale`"
+                            )))
+                        }
+                    }
+                }
+                Ok(out)
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+impl schemars::JsonSchema for RawColumn {
+    fn schema_name() -> std::borrow::Cow<'static, str> {
+        "ColumnSource".into()
+    }
+    fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
+        schemars::json_schema!({
+            "description": "where a column is read from: a header name, a position counted from 1, or {column, scale}",
+            "anyOf": [
+                {"type": "string", "minLength": 1},
+                {"type": "integer", "minimum": 1},
+                {"type": "object", "additionalProperties": false, "properties": {
+                    "column": {"anyOf": [{"type": "string", "minLength": 1}, {"type": "integer", "minimum": 1}]},
+                    "scale": {"type": "number", "not": {"const": 0}}
+                }}
+            ]
+        })
+    }
 }
 
 /// One acceptance limit as written.
@@ -180,19 +328,19 @@ pub struct RawQuantity {
 /// A column of a history file: its name in the header, or its 1-based position.
 #[derive(Debug, Clone, PartialEq, Eq, Deserialize, schemars::JsonSchema)]
 #[serde(untagged)]
-pub enum RawColumn {
+pub enum HistoryColumn {
     /// 1-based position.
     Position(usize),
     /// Name in the header.
     Name(String),
 }
 
-impl RawColumn {
+impl HistoryColumn {
     /// The reader's column reference.
     pub fn to_ref(&self) -> crate::history::read::ColumnRef {
         match self {
-            RawColumn::Position(i) => crate::history::read::ColumnRef::Position(*i),
-            RawColumn::Name(n) => crate::history::read::ColumnRef::Name(n.clone()),
+            HistoryColumn::Position(i) => crate::history::read::ColumnRef::Position(*i),
+            HistoryColumn::Name(n) => crate::history::read::ColumnRef::Name(n.clone()),
         }
     }
 }
@@ -218,10 +366,10 @@ pub struct RawHistory {
     /// One history file per mesh name, relative to the study file.
     pub files: IndexMap<String, String>,
     /// The monitored column.
-    pub column: RawColumn,
+    pub column: HistoryColumn,
     /// The iteration or time column, if any.
     #[serde(default)]
-    pub abscissa: Option<RawColumn>,
+    pub abscissa: Option<HistoryColumn>,
     /// Which figure is the value (default `mean`).
     #[serde(default)]
     pub reduce: Option<RawReduction>,

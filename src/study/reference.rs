@@ -113,6 +113,15 @@ pub struct RawReference {
     /// The measured value of a scalar quantity.
     #[serde(default)]
     pub value: Option<Finite>,
+    /// The separator of `file` (default: detected).
+    #[serde(default)]
+    pub separator: Option<crate::tabular::Separator>,
+    /// The decimal mark of `file` (default: detected).
+    #[serde(default)]
+    pub decimal: Option<crate::tabular::Decimal>,
+    /// Where `x`, `value` and `u` are read from in `file`, and their scales.
+    #[serde(default)]
+    pub mapping: IndexMap<String, super::raw::RawColumn>,
 }
 
 /// What a reference compares with.
@@ -139,11 +148,20 @@ pub struct Reference {
     pub normalise: bool,
 }
 
+/// Measured points read from a file: (x, D, u), u absolute or relative, `None` where the file
+/// gives none; and the rows skipped for missing cells (line, columns).
+type FilePoints = (
+    Vec<(f64, f64, Option<AbsOrPercent>)>,
+    Vec<(usize, Vec<String>)>,
+);
+
 fn read_points_csv(
     path: &Path,
     key: &str,
     study: &Path,
-) -> Result<Vec<(f64, f64, Option<f64>)>, StudyError> {
+    r: &RawReference,
+) -> Result<FilePoints, StudyError> {
+    use crate::tabular::{BadNumber, ColumnRef, Table};
     let e = |line: Option<usize>, m: String| StudyError {
         file: path.to_path_buf(),
         key: String::new(),
@@ -151,56 +169,132 @@ fn read_points_csv(
         column: None,
         message: format!("{m} (named by {} at {key})", study.display()),
     };
-    let mut rdr = super::csv_input::open(path).map_err(|er| match er {
-        super::csv_input::OpenError::Io(er) => e(None, format!("cannot read the CSV file: {er}")),
-        super::csv_input::OpenError::Refused(m) => e(None, m),
+    let text = super::csv_input::read_text(path).map_err(|er| match er {
+        super::csv_input::ReadError::Io(er) => e(None, format!("cannot read the CSV file: {er}")),
+        super::csv_input::ReadError::Refused(m) => e(None, m),
+        super::csv_input::ReadError::Overrun(o) => e(o.line(), o.to_string()),
     })?;
-    let unreadable = |er: csv::Error, what: &str, line: Option<usize>| {
-        match super::csv_input::Overrun::of(&er) {
-            Some(o) => e(o.line(), o.to_string()),
-            None => e(
-                er.position().map(|p| p.line() as usize).or(line),
-                format!("{what}: {er}"),
-            ),
-        }
+    let options = crate::tabular::Options {
+        separator: r.separator,
+        decimal: r.decimal,
     };
-    let h = rdr
-        .headers()
-        .map_err(|er| unreadable(er, "cannot read the header row", Some(1)))?
-        .clone();
-    let col = |n: &str| h.iter().position(|c| c == n);
-    let (xi, vi) = match (col("x"), col("value")) {
+    let mut table = Table::open(&text, &options).map_err(|_| {
+        e(
+            None,
+            "holds no header row (only comments or blank lines)".into(),
+        )
+    })?;
+    let hl = Some(table.header_line);
+    let source = |n: &str| {
+        r.mapping
+            .get(n)
+            .and_then(|m| m.column.clone())
+            .unwrap_or_else(|| ColumnRef::Name(n.to_string()))
+    };
+    let find = |n: &str| -> Result<Option<usize>, StudyError> {
+        let col = source(n);
+        if let ColumnRef::Name(name) = &col {
+            if table.matches(name) > 1 {
+                return Err(e(
+                    hl,
+                    format!("more than one column answers to `{name}`: name the column exactly under `mapping`"),
+                ));
+            }
+        }
+        Ok(table.find(&col))
+    };
+    let (xi, vi) = match (find("x")?, find("value")?) {
         (Some(a), Some(b)) => (a, b),
         _ => {
+            let hint = table.hint().map(|h| format!("; {h}")).unwrap_or_default();
             return Err(e(
-                Some(1),
-                "needs the columns `x` and `value` (and optionally `u`)".into(),
-            ))
+                hl,
+                format!(
+                    "needs the columns {} and {} (and optionally {}); the header row names: {}{hint}",
+                    source("x"),
+                    source("value"),
+                    source("u"),
+                    super::csv_input::header_names(table.header.iter().map(String::as_str))
+                ),
+            ));
         }
     };
-    let ui = col("u");
+    let ui = find("u")?;
+    if ui.is_none() && r.mapping.get("u").is_some_and(|m| m.column.is_some()) {
+        return Err(e(hl, format!("has no column {} (for `u`)", source("u"))));
+    }
+    table.units_row_if(|i| i == xi || i == vi || Some(i) == ui);
+    let factor = |n: &str, i: usize| {
+        r.mapping
+            .get(n)
+            .and_then(|m| m.scale)
+            .or_else(|| table.unit(i).and_then(crate::tabular::percent_factor))
+            .unwrap_or(1.0)
+    };
+    let (fx, fv) = (factor("x", xi), factor("value", vi));
+    // A `u` column in `%` is relative to the value, as `u: 0.3%` is.
+    let u_relative = ui.is_some_and(|i| {
+        r.mapping.get("u").and_then(|m| m.scale).is_none()
+            && table
+                .unit(i)
+                .and_then(crate::tabular::percent_factor)
+                .is_some()
+    });
+    let fu = ui.map_or(1.0, |i| factor("u", i));
     let mut out = Vec::new();
-    for r in rdr.records() {
-        let r = r.map_err(|er| unreadable(er, "unreadable CSV", None))?;
-        let line = r.position().map(|p| p.line() as usize);
-        let num = |i: usize, name: &str| -> Result<f64, StudyError> {
-            let f = r.get(i).unwrap_or("");
-            match f.parse::<f64>() {
-                Ok(v) if v.is_finite() => Ok(v),
-                _ => Err(e(
+    let mut missing = Vec::new();
+    for rec in table.records() {
+        let line = Some(rec.line);
+        let mut gaps = Vec::new();
+        let mut num = |i: usize, name: &str, f: f64| -> Result<Option<f64>, StudyError> {
+            let field = rec.get(i);
+            let bad = |what: &str| StudyError {
+                column: Some(field.column),
+                ..e(
                     line,
                     format!(
-                        "column `{name}`: `{}` is not a finite number",
-                        super::csv_input::field_text(f)
+                        "column `{name}`: `{}` is not {what}",
+                        super::csv_input::field_text(&field.text())
                     ),
-                )),
+                )
+            };
+            match table.number(field) {
+                Ok(Some(v)) if (v * f).is_finite() => Ok(Some(v * f)),
+                Ok(Some(_)) | Err(BadNumber::NotFinite) => Err(bad("a finite number")),
+                Err(BadNumber::NotANumber) => Err(bad("a finite number")),
+                Ok(None) => {
+                    gaps.push(format!("`{name}` at column {}", field.column));
+                    Ok(None)
+                }
             }
         };
-        out.push((
-            num(xi, "x")?,
-            num(vi, "value")?,
-            ui.map(|i| num(i, "u")).transpose()?,
-        ));
+        let x = num(xi, "x", fx)?;
+        let v = num(vi, "value", fv)?;
+        // An empty `u` cell: the point has no own u (`u_measured` applies).
+        let u = match ui {
+            Some(i) if !crate::tabular::is_missing(&rec.get(i).text()) => num(i, "u", fu)?,
+            _ => None,
+        };
+        if let Some(bad) = u.filter(|u| *u < 0.0) {
+            return Err(e(
+                line,
+                format!("column `u`: {bad} is negative; an uncertainty is ≥ 0"),
+            ));
+        }
+        match (x, v) {
+            (Some(x), Some(v)) => out.push((
+                x,
+                v,
+                u.map(|u| {
+                    if u_relative {
+                        AbsOrPercent::Relative(u)
+                    } else {
+                        AbsOrPercent::Absolute(u)
+                    }
+                }),
+            )),
+            _ => missing.push((rec.line, gaps)),
+        }
         if out.len() > 1_000_000 {
             return Err(e(
                 line,
@@ -208,7 +302,7 @@ fn read_points_csv(
             ));
         }
     }
-    Ok(out)
+    Ok((out, missing))
 }
 
 /// Checks the measurements against the study's quantities and sweeps.
@@ -219,6 +313,7 @@ pub fn check(
     at: &super::At,
     reach: &super::reach::Reach,
     files_read: &mut Vec<PathBuf>,
+    warnings: &mut Vec<crate::warning::Warning>,
 ) -> Result<Vec<Reference>, StudyError> {
     let file = at.file;
     let err = |key: String, message: String| at.err(key, message);
@@ -251,6 +346,22 @@ pub fn check(
                 format!("`{name}` names neither a quantity nor a sweep of the study"),
             ));
         };
+        for m in r.mapping.keys() {
+            if !["x", "value", "u"].contains(&m.as_str()) {
+                return Err(err(
+                    format!("{key}.mapping.{m}"),
+                    format!("`{m}` is not a column of measured points (`x`, `value`, `u`)"),
+                ));
+            }
+        }
+        if r.file.is_none()
+            && (!r.mapping.is_empty() || r.separator.is_some() || r.decimal.is_some())
+        {
+            return Err(err(
+                key.clone(),
+                "`mapping`, `separator` and `decimal` apply to a `file`, and none is given".into(),
+            ));
+        }
         let mut pts: Vec<(f64, f64, Option<AbsOrPercent>)> = Vec::new();
         match &target {
             ReferenceTarget::Quantity(_) => {
@@ -283,9 +394,31 @@ pub fn check(
                     reach
                         .read(f, &p)
                         .map_err(|m| err(format!("{key}.file"), m))?;
-                    for (x, v, u) in read_points_csv(&p, &format!("{key}.file"), file)? {
-                        pts.push((x, v, u.map(AbsOrPercent::Absolute)));
+                    let (read, missing) = read_points_csv(&p, &format!("{key}.file"), file, r)?;
+                    if !missing.is_empty() {
+                        let mut named: Vec<String> = missing
+                            .iter()
+                            .take(8)
+                            .map(|(l, c)| format!("line {l} ({})", c.join(", ")))
+                            .collect();
+                        if missing.len() > 8 {
+                            named.push(format!("and {} more", missing.len() - 8));
+                        }
+                        warnings.push(
+                            crate::warning::Warning::new(
+                                "missing_points_skipped",
+                                format!(
+                                    "{}: {} measured point{} with a cell marked missing (empty, `-`, `nan`, `n/a`) skipped: {}",
+                                    p.display(),
+                                    missing.len(),
+                                    if missing.len() == 1 { "" } else { "s" },
+                                    named.join("; ")
+                                ),
+                            )
+                            .about(name),
+                        );
                     }
+                    pts.extend(read);
                     files_read.push(p);
                 }
                 if pts.is_empty() {

@@ -54,6 +54,19 @@ pub struct RawSweep {
     /// Uncertainty band along a response curve.
     #[serde(default)]
     pub band: Option<RawBand>,
+    /// The separator of the CSV files (default: detected).
+    #[serde(default)]
+    pub separator: Option<crate::tabular::Separator>,
+    /// The decimal mark of the CSV files (default: detected).
+    #[serde(default)]
+    pub decimal: Option<crate::tabular::Decimal>,
+    /// Where each column the sweep reads comes from, and its scale.
+    #[serde(default)]
+    pub mapping: IndexMap<String, super::raw::RawColumn>,
+    /// With `mode`: the pressure columns are gauge pressures, and this absolute pressure (Pa)
+    /// is added to each.
+    #[serde(default)]
+    pub ambient_pressure: Option<super::num::Positive>,
 }
 
 /// One mesh's sweep data: `file` or inline columns (`name: [numbers]`).
@@ -357,6 +370,10 @@ pub struct Sweep {
     pub breakdown: Vec<BreakdownSpec>,
     /// Band definition.
     pub band: Option<BandSpec>,
+    /// Units of the columns read, as the CSV files give them (units row or header name; the
+    /// first file that gives one), by the study's column name. Values in `%` were read as
+    /// fractions and pressures converted to Pa.
+    pub units: IndexMap<String, String>,
 }
 
 type Ctx<'a> = super::At<'a>;
@@ -367,16 +384,61 @@ struct CsvColumns {
     cols: IndexMap<String, Vec<f64>>,
     lines: Vec<usize>,
     fields: Vec<usize>,
+    format: crate::tabular::Format,
+    /// Rows skipped for cells marked missing: line, and the columns (name, character column).
+    missing: Vec<(usize, Vec<(String, usize)>)>,
+    /// The unit of each needed column, where the file gives one (units row or header name).
+    units: Vec<Option<String>>,
+}
+
+/// How the columns of a sweep's files are read.
+struct Reading<'a> {
+    options: crate::tabular::Options,
+    mapping: &'a IndexMap<String, super::raw::RawColumn>,
+    /// With `mode`: the ambient pressure added to gauge pressures, Pa.
+    ambient: Option<f64>,
+    /// The pressure columns (raw monitors, in Pa).
+    pressures: &'a [&'a str],
+}
+
+impl Reading<'_> {
+    fn column(&self, name: &str) -> crate::tabular::ColumnRef {
+        self.mapping
+            .get(name)
+            .and_then(|m| m.column.clone())
+            .unwrap_or_else(|| crate::tabular::ColumnRef::Name(name.to_string()))
+    }
+}
+
+/// Turns a [`super::csv_input::ReadError`] into the study's error for a file named at `key`.
+fn read_error(e: super::csv_input::ReadError, path: &Path, key: &str, ctx: &Ctx) -> StudyError {
+    let data_err = |line: Option<usize>, message: String| StudyError {
+        file: path.to_path_buf(),
+        key: String::new(),
+        line,
+        column: None,
+        message: format!("{message} (named by {} at {key})", ctx.file.display()),
+    };
+    match e {
+        super::csv_input::ReadError::Io(e) => ctx.err(
+            key.to_string(),
+            format!("cannot read the CSV file {}: {e}", path.display()),
+        ),
+        super::csv_input::ReadError::Refused(m) => data_err(None, m),
+        super::csv_input::ReadError::Overrun(o) => data_err(o.line(), o.to_string()),
+    }
 }
 
 /// Reads the needed numeric columns of a CSV file. Errors name the CSV file, its line and the
-/// column.
+/// column; rows with a cell marked missing are skipped and listed.
 fn read_csv(
     path: &Path,
     needed: &[String],
+    reading: &Reading,
     key: &str,
     ctx: &Ctx,
 ) -> Result<CsvColumns, StudyError> {
+    use crate::tabular::{BadNumber, Table};
     let data_err = |message: String| StudyError {
         file: path.to_path_buf(),
         key: String::new(),
@@ -384,55 +446,124 @@ fn read_csv(
         column: None,
         message: format!("{message} (named by {} at {key})", ctx.file.display()),
     };
-    let mut rdr = super::csv_input::open(path).map_err(|e| match e {
-        super::csv_input::OpenError::Io(e) => ctx.err(
-            key.to_string(),
-            format!("cannot read the CSV file {}: {e}", path.display()),
-        ),
-        super::csv_input::OpenError::Refused(m) => data_err(m),
-    })?;
-    let unreadable = |e: csv::Error| match super::csv_input::Overrun::of(&e) {
-        Some(o) => StudyError {
-            line: o.line(),
-            ..data_err(o.to_string())
-        },
-        None => StudyError {
-            line: e.position().map(|p| p.line() as usize),
-            ..data_err(format!("unreadable CSV: {e}"))
-        },
-    };
-    let headers = rdr
-        .headers()
-        .map_err(|e| match super::csv_input::Overrun::of(&e) {
-            Some(_) => unreadable(e),
-            None => data_err(format!("cannot read the header row: {e}")),
-        })?
-        .clone();
+    let text = super::csv_input::read_text(path).map_err(|e| read_error(e, path, key, ctx))?;
+    let mut table = Table::open(&text, &reading.options)
+        .map_err(|_| data_err("holds no header row (only comments or blank lines)".into()))?;
+    let header_line = Some(table.header_line);
     let mut idx = Vec::with_capacity(needed.len());
     for n in needed {
-        match headers.iter().position(|h| h == n) {
+        let col = reading.column(n);
+        if let crate::tabular::ColumnRef::Name(name) = &col {
+            if table.matches(name) > 1 {
+                return Err(StudyError {
+                    line: header_line,
+                    ..data_err(format!(
+                        "more than one column answers to `{name}` (the header row names: {}): name the column exactly under `mapping`",
+                        super::csv_input::header_names(table.header.iter().map(String::as_str))
+                    ))
+                });
+            }
+        }
+        match table.find(&col) {
             Some(i) => idx.push(i),
             None => {
+                let hint = table.hint().map(|h| format!("; {h}")).unwrap_or_default();
                 return Err(StudyError {
-                    line: Some(1),
+                    line: header_line,
                     ..data_err(format!(
-                        "has no column `{n}` (the header row names: {})",
-                        super::csv_input::header_names(&headers)
+                        "has no column {col}{} (the header row names: {}){hint}",
+                        if matches!(col, crate::tabular::ColumnRef::Name(ref c) if c == n) {
+                            String::new()
+                        } else {
+                            format!(" (for `{n}`)")
+                        },
+                        super::csv_input::header_names(table.header.iter().map(String::as_str))
                     ))
-                })
+                });
             }
         }
     }
+    table.units_row_if(|i| idx.contains(&i));
+    // The factor and offset of every needed column.
+    let mut factor = Vec::with_capacity(needed.len());
+    let mut offset = Vec::with_capacity(needed.len());
+    for (k, n) in needed.iter().enumerate() {
+        let unit = table.unit(idx[k]);
+        let pressure = reading.pressures.contains(&n.as_str());
+        let f = match reading.mapping.get(n).and_then(|m| m.scale) {
+            Some(f) => f,
+            None if pressure => match unit {
+                None => 1.0,
+                Some(u) => crate::tabular::pascal_factor(u).ok_or_else(|| StudyError {
+                    line: table.units_row.as_ref().map(|r| r.0).or(header_line),
+                    ..data_err(format!(
+                        "column `{n}` is in `{}`, which is not a pressure unit read here (Pa, hPa, kPa, MPa, mbar, bar): give `scale` under `mapping.{n}`",
+                        super::csv_input::field_text(u)
+                    ))
+                })?,
+            },
+            None => unit.and_then(crate::tabular::percent_factor).unwrap_or(1.0),
+        };
+        factor.push(f);
+        offset.push(if pressure {
+            reading.ambient.unwrap_or(0.0)
+        } else {
+            0.0
+        });
+    }
     let mut cols: Vec<Vec<f64>> = vec![Vec::new(); needed.len()];
     let mut lines = Vec::new();
-    let mut rec = csv::StringRecord::new();
-    loop {
-        let more = rdr.read_record(&mut rec).map_err(unreadable)?;
-        if !more {
-            break;
+    let mut missing = Vec::new();
+    let mut row = vec![0.0; needed.len()];
+    for rec in table.records() {
+        let line = Some(rec.line);
+        let mut gaps = Vec::new();
+        for (k, &i) in idx.iter().enumerate() {
+            let field = rec.get(i);
+            let at = |m: String| StudyError {
+                line,
+                column: Some(field.column),
+                ..data_err(m)
+            };
+            match table.number(field) {
+                Ok(Some(v)) => {
+                    let v = v * factor[k] + offset[k];
+                    if !v.is_finite() {
+                        return Err(at(format!(
+                            "column `{}`: {} scaled by {} is not a finite number",
+                            needed[k],
+                            super::csv_input::field_text(&field.text()),
+                            factor[k]
+                        )));
+                    }
+                    row[k] = v;
+                }
+                Ok(None) => gaps.push((needed[k].clone(), field.column)),
+                Err(BadNumber::NotANumber) => {
+                    return Err(at(format!(
+                        "column `{}`: `{}` is not a number{}",
+                        needed[k],
+                        super::csv_input::field_text(&field.text()),
+                        match table.format.decimal {
+                            crate::tabular::Decimal::Comma => " (the file is read with decimal commas; set `decimal: point` if it uses points)",
+                            crate::tabular::Decimal::Point if field.text().contains(',') => " (a decimal comma? set `decimal: comma`)",
+                            _ => "",
+                        }
+                    )))
+                }
+                Err(BadNumber::NotFinite) => {
+                    return Err(at(format!(
+                        "column `{}`: {} is not a finite number",
+                        needed[k],
+                        super::csv_input::field_text(&field.text())
+                    )))
+                }
+            }
         }
-        let line = rec.position().map(|p| p.line() as usize);
-        lines.push(line.unwrap_or(0));
+        if !gaps.is_empty() {
+            missing.push((rec.line, gaps));
+            continue;
+        }
         if cols[0].len() >= MAX_POINTS {
             return Err(StudyError {
                 line,
@@ -441,67 +572,67 @@ fn read_csv(
                 ))
             });
         }
-        for (k, &i) in idx.iter().enumerate() {
-            let field = rec.get(i).unwrap_or("");
-            let v: f64 = field.parse().map_err(|_| StudyError {
-                line,
-                ..data_err(format!(
-                    "column `{}`: `{}` is not a number",
-                    needed[k],
-                    super::csv_input::field_text(field)
-                ))
-            })?;
-            if !v.is_finite() {
-                return Err(StudyError {
-                    line,
-                    ..data_err(format!(
-                        "column `{}`: {} is not a finite number",
-                        needed[k],
-                        super::csv_input::field_text(field)
-                    ))
-                });
-            }
-            cols[k].push(v);
+        lines.push(rec.line);
+        for (c, v) in cols.iter_mut().zip(&row) {
+            c.push(*v);
         }
     }
     Ok(CsvColumns {
         cols: needed.iter().cloned().zip(cols).collect(),
         lines,
+        units: idx
+            .iter()
+            .map(|&i| table.unit(i).map(str::to_string))
+            .collect(),
         fields: idx,
+        format: table.format,
+        missing,
     })
 }
 
 /// The 1-based character column at which field `field` (0-based) starts on line `line` of a
-/// CSV file (leading blanks skipped, as the reader trims them), read again only to place an
-/// error; `None` when the line cannot be read or has fewer fields.
-fn csv_column(path: &Path, line: usize, field: usize) -> Option<usize> {
-    use std::io::BufRead;
-    let file = crate::input::open_regular(path).ok()?;
-    let reader = std::io::BufReader::new(super::csv_input::Bounded::new(file));
-    let bytes = reader.split(b'\n').nth(line.checked_sub(1)?)?.ok()?;
-    let text = String::from_utf8_lossy(&bytes);
-    let mut k = 0;
-    let mut quoted = false;
-    let mut start = true;
-    for (col, c) in text.chars().enumerate() {
-        if k == field && start && !c.is_whitespace() {
-            return Some(col + 1);
-        }
-        match c {
-            '"' => quoted = !quoted,
-            ',' if !quoted => {
-                k += 1;
-                start = true;
-                continue;
-            }
-            _ => {}
-        }
-        if !c.is_whitespace() {
-            start = false;
-        }
-    }
-    None
+/// CSV file, read again only to place an error; `None` when the line cannot be read or has
+/// fewer fields.
+fn csv_column(
+    path: &Path,
+    format: crate::tabular::Format,
+    line: usize,
+    field: usize,
+) -> Option<usize> {
+    let text = super::csv_input::read_text(path).ok()?;
+    let (_, rec) = crate::tabular::Lines::new(&text).find(|(l, _)| *l == line)?;
+    crate::tabular::split(rec, format.separator)
+        .get(field)
+        .map(|f| f.column)
 }
+
+/// The rows of one file skipped for missing cells, as a warning's words: `line 7 (`eta`,
+/// column 12), …` (at most eight rows named).
+fn missing_list(missing: &[(usize, Vec<(String, usize)>)]) -> String {
+    let mut parts: Vec<String> = missing
+        .iter()
+        .take(8)
+        .map(|(line, cols)| {
+            let c: Vec<String> = cols
+                .iter()
+                .map(|(n, col)| format!("`{n}` at column {col}"))
+                .collect();
+            format!("line {line} ({})", c.join(", "))
+        })
+        .collect();
+    if missing.len() > 8 {
+        parts.push(format!("and {} more", missing.len() - 8));
+    }
+    parts.join("; ")
+}
+
+/// A sweep's CSV file, its row lines, the field number of each column and the file's format.
+type CsvSource = (
+    PathBuf,
+    Vec<usize>,
+    IndexMap<String, usize>,
+    crate::tabular::Format,
+);
 
 /// Where one point of a mesh's data was given, for messages.
 struct Source<'a> {
@@ -509,15 +640,16 @@ struct Source<'a> {
     mesh: &'a str,
     /// `sweeps.<name>.data.<mesh>`.
     key: String,
-    /// The CSV file, its row lines and the field number of each column; `None` for inline data.
-    csv: Option<(PathBuf, Vec<usize>, IndexMap<String, usize>)>,
+    /// The CSV file, its row lines, the field number of each column and the file's format;
+    /// `None` for inline data.
+    csv: Option<CsvSource>,
 }
 
 impl Source<'_> {
     /// `line 12` of a CSV file, `point 3` of inline data (rows counted from 1).
     fn label(&self, row: usize) -> String {
         match &self.csv {
-            Some((_, lines, _)) => format!("line {}", lines.get(row).copied().unwrap_or(0)),
+            Some((_, lines, _, _)) => format!("line {}", lines.get(row).copied().unwrap_or(0)),
             None => format!("point {}", row + 1),
         }
     }
@@ -526,10 +658,10 @@ impl Source<'_> {
     /// column, placed at the row only).
     fn err(&self, ctx: &Ctx, row: usize, column: Option<&str>, message: String) -> StudyError {
         match &self.csv {
-            Some((path, lines, fields)) => {
+            Some((path, lines, fields, format)) => {
                 let line = lines.get(row).copied();
                 let col = match (line, column.and_then(|c| fields.get(c))) {
-                    (Some(l), Some(&f)) => csv_column(path, l, f),
+                    (Some(l), Some(&f)) => csv_column(path, *format, l, f),
                     _ => None,
                 };
                 StudyError {
@@ -580,7 +712,7 @@ pub fn fold(v: &[f64]) -> Option<(usize, Vec<usize>)> {
 /// row indices, ascending.
 fn row_list(src: &Source, rows: &[usize]) -> String {
     let number = |r: usize| match &src.csv {
-        Some((_, lines, _)) => lines.get(r).copied().unwrap_or(0),
+        Some((_, lines, _, _)) => lines.get(r).copied().unwrap_or(0),
         None => r + 1,
     };
     let mut runs: Vec<(usize, usize)> = Vec::new();
@@ -664,6 +796,7 @@ pub fn check(
     ctx: &Ctx,
     reach: &super::reach::Reach,
     files_read: &mut Vec<PathBuf>,
+    warnings: &mut Vec<crate::warning::Warning>,
 ) -> Result<Vec<Sweep>, StudyError> {
     let base = ctx.file.parent().unwrap_or(Path::new(""));
     let mut out = Vec::new();
@@ -700,9 +833,34 @@ pub fn check(
                 wanted.push(c.clone());
             }
         }
-        if s.mode.is_none() {
-            // A derived name without a mode is an ordinary column.
+        for m in s.mapping.keys() {
+            if !wanted.contains(m) {
+                return Err(ctx.err(
+                    at(&format!("mapping.{m}")),
+                    format!(
+                        "`{m}` is not a column this sweep reads (it reads: {})",
+                        wanted.join(", ")
+                    ),
+                ));
+            }
         }
+        if s.ambient_pressure.is_some() && s.mode.is_none() {
+            return Err(ctx.err(
+                at("ambient_pressure"),
+                "applies to the raw pressure columns of a sweep with `mode`; this sweep has none"
+                    .into(),
+            ));
+        }
+        let pressures = ["inlet_total_pressure", "outlet_total_pressure"];
+        let reading = Reading {
+            options: crate::tabular::Options {
+                separator: s.separator,
+                decimal: s.decimal,
+            },
+            mapping: &s.mapping,
+            ambient: s.ambient_pressure.map(|p| p.0),
+            pressures: if s.mode.is_some() { &pressures } else { &[] },
+        };
         for m in s.data.keys() {
             if !mesh_names.contains(m) {
                 return Err(ctx.err(
@@ -738,6 +896,7 @@ pub fn check(
         let mut mesh_indices = Vec::new();
         let mut curves = Vec::new();
         let mut recorded: Vec<(Source, Vec<Vec<f64>>)> = Vec::new();
+        let mut units: IndexMap<String, String> = IndexMap::new();
         for (mi, mname) in mesh_names.iter().enumerate() {
             let Some(d) = s.data.get(mname) else { continue };
             let key = at(&format!("data.{mname}"));
@@ -751,21 +910,56 @@ pub fn check(
                 reach
                     .read(f, &p)
                     .map_err(|m| ctx.err(format!("{key}.file"), m))?;
-                let c = read_csv(&p, &wanted, &format!("{key}.file"), ctx)?;
+                let c = read_csv(&p, &wanted, &reading, &format!("{key}.file"), ctx)?;
+                if !c.missing.is_empty() {
+                    warnings.push(
+                        crate::warning::Warning::new(
+                            "missing_points_skipped",
+                            format!(
+                                "mesh `{mname}`, {}: {} point{} with a cell marked missing (empty, `-`, `nan`, `n/a`) skipped: {}",
+                                p.display(),
+                                c.missing.len(),
+                                if c.missing.len() == 1 { "" } else { "s" },
+                                missing_list(&c.missing)
+                            ),
+                        )
+                        .about(name),
+                    );
+                }
                 files_read.push(p.clone());
+                for (w, u) in wanted.iter().zip(&c.units) {
+                    if let (Some(u), false) = (u, units.contains_key(w)) {
+                        units.insert(w.clone(), u.clone());
+                    }
+                }
                 let fields = wanted.iter().cloned().zip(c.fields).collect();
-                src.csv = Some((p, c.lines, fields));
+                src.csv = Some((p, c.lines, fields, c.format));
                 c.cols
             } else {
                 let mut c = IndexMap::new();
                 for w in &wanted {
-                    match d.columns.get(w) {
+                    let from = match reading.column(w) {
+                        crate::tabular::ColumnRef::Name(n) => n,
+                        crate::tabular::ColumnRef::Index(_) => {
+                            return Err(ctx.err(
+                                at(&format!("mapping.{w}")),
+                                "a column position applies to CSV files; inline data name their columns".into(),
+                            ))
+                        }
+                    };
+                    match d.columns.get(&from) {
                         Some(v) => {
-                            c.insert(w.clone(), v.clone());
+                            let f = reading.mapping.get(w).and_then(|m| m.scale).unwrap_or(1.0);
+                            let o = if reading.pressures.contains(&w.as_str()) {
+                                reading.ambient.unwrap_or(0.0)
+                            } else {
+                                0.0
+                            };
+                            c.insert(w.clone(), v.iter().map(|x| x * f + o).collect());
                         }
                         None => {
                             return Err(ctx.err(key.clone(), format!(
-                                "has no column `{w}`{}",
+                                "has no column `{from}`{}",
                                 if s.mode.is_some() && RAW_COLUMNS.contains(&w.as_str()) { " (a sweep with `mode` gives the raw columns inlet_total_pressure, outlet_total_pressure, flow, torque, speed, temperature)" } else { "" }
                             )))
                         }
@@ -1026,6 +1220,7 @@ pub fn check(
             curves,
             breakdown,
             band,
+            units,
         });
     }
     Ok(out)
