@@ -59,7 +59,7 @@ fn reduction(r: Option<RawReduction>) -> Reduction {
 
 /// A history error as a study error: the history file with its line and column where the
 /// reader knows them, the study's key otherwise.
-fn study_error(e: HistoryError, key: &str, at: &At<'_>) -> StudyError {
+pub fn error_of(e: HistoryError, key: &str, at: &At<'_>) -> StudyError {
     match e.path() {
         Some(path) => StudyError {
             file: path.to_path_buf(),
@@ -130,8 +130,8 @@ pub fn read(
         let file = base.join(given);
         reach.read(given, &file).map_err(|msg| at.err(&mkey, msg))?;
         let series =
-            history::read::read_history(&file, &read).map_err(|e| study_error(e, &mkey, at))?;
-        let r = history::analyse(&series, &settings).map_err(|e| study_error(e, &mkey, at))?;
+            history::read::read_history(&file, &read).map_err(|e| error_of(e, &mkey, at))?;
+        let r = history::analyse(&series, &settings).map_err(|e| error_of(e, &mkey, at))?;
         let index: Vec<f64>;
         let x = match &series.abscissa {
             Some(x) => x.as_slice(),

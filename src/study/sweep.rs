@@ -67,13 +67,37 @@ pub struct RawSweep {
     /// is added to each.
     #[serde(default)]
     pub ambient_pressure: Option<super::num::Positive>,
+    /// How the meshes' `history` files are read: the iteration or time column they are joined
+    /// on, and the reduction of every operating point.
+    #[serde(default)]
+    pub history_reading: Option<RawSweepHistory>,
 }
 
-/// One mesh's sweep data: `file` or inline columns (`name: [numbers]`).
+/// How a sweep's monitor histories are read.
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawSweepHistory {
+    /// The iteration or time column (required: the columns are joined on it).
+    pub abscissa: super::raw::HistoryColumn,
+    /// Which figure of each point is its value (default `mean` of the steady part).
+    #[serde(default)]
+    pub reduce: Option<super::raw::RawReduction>,
+    /// Batches of the batch-means estimate (default 20).
+    #[serde(default)]
+    pub batches: Option<usize>,
+    /// The share of each point that is its final window (default 0.1).
+    #[serde(default)]
+    pub final_share: Option<f64>,
+}
+
+/// One mesh's sweep data: `file`, `history` or inline columns (`name: [numbers]`).
 #[derive(Debug, Default)]
 pub struct RawSweepData {
     /// CSV file, relative to the study file.
     pub file: Option<String>,
+    /// A monitor history holding every operating point one after the other, relative to the
+    /// study file (read with the sweep's `history_reading`).
+    pub history: Option<String>,
     /// Inline columns.
     pub columns: IndexMap<String, Vec<f64>>,
 }
@@ -85,8 +109,8 @@ impl schemars::JsonSchema for RawSweepData {
     fn json_schema(_: &mut schemars::SchemaGenerator) -> schemars::Schema {
         schemars::json_schema!({
             "type": "object",
-            "description": "`file: path.csv` (relative to the study file) or inline columns `name: [numbers]`",
-            "properties": {"file": {"type": "string"}},
+            "description": "`file: path.csv` or `history: monitor file` (relative to the study file), or inline columns `name: [numbers]`",
+            "properties": {"file": {"type": "string"}, "history": {"type": "string"}},
             "additionalProperties": {"type": "array", "items": {"type": "number"}}
         })
     }
@@ -123,15 +147,20 @@ impl<'de> Deserialize<'de> for RawSweepData {
                 while let Some(key) = map.next_key::<String>()? {
                     if key == "file" {
                         out.file = Some(map.next_value::<String>()?);
+                    } else if key == "history" {
+                        out.history = Some(map.next_value::<String>()?);
                     } else {
                         let col: Vec<Finite> = map.next_value()?;
                         out.columns
                             .insert(key, col.into_iter().map(|v| v.0).collect());
                     }
                 }
-                if out.file.is_some() && !out.columns.is_empty() {
+                let given = usize::from(out.file.is_some())
+                    + usize::from(out.history.is_some())
+                    + usize::from(!out.columns.is_empty());
+                if given > 1 {
                     return Err(de::Error::custom(
-                        "give either `file` or inline columns, not both",
+                        "give one of `file`, `history` or inline columns",
                     ));
                 }
                 Ok(out)
@@ -317,6 +346,9 @@ pub struct Curve {
     pub npsh: Option<Vec<f64>>,
     /// Where each point was given (`line 12 of sweeps/L1.csv`, `point 3`), aligned with `x`.
     pub labels: Vec<String>,
+    /// Per response, the U_I of every point when the curve was read from a monitor history
+    /// (aligned with `x`); empty otherwise.
+    pub noise: Vec<Vec<Option<f64>>>,
 }
 
 /// A checked breakdown definition.
@@ -905,6 +937,7 @@ pub fn check(
                 key: key.clone(),
                 csv: None,
             };
+            let mut noise: Vec<Vec<Option<f64>>> = Vec::new();
             let cols = if let Some(f) = &d.file {
                 let p = base.join(f);
                 reach
@@ -935,6 +968,62 @@ pub fn check(
                 let fields = wanted.iter().cloned().zip(c.fields).collect();
                 src.csv = Some((p, c.lines, fields, c.format));
                 c.cols
+            } else if let Some(hf) = &d.history {
+                let p = base.join(hf);
+                reach
+                    .read(hf, &p)
+                    .map_err(|m| ctx.err(format!("{key}.history"), m))?;
+                let hr = s.history_reading.as_ref().ok_or_else(|| {
+                    ctx.err(
+                        format!("{key}.history"),
+                        format!("a sweep read from histories needs `sweeps.{name}.history_reading` with the iteration or time column (`abscissa`)"),
+                    )
+                })?;
+                if s.mode.is_some() {
+                    return Err(ctx.err(
+                        format!("{key}.history"),
+                        "raw monitors (`mode`) are read from CSV files or inline columns, not from histories".into(),
+                    ));
+                }
+                let settings = crate::history::HistorySettings {
+                    reduction: match hr.reduce {
+                        None | Some(super::raw::RawReduction::Mean) => crate::history::Reduction::Mean,
+                        Some(super::raw::RawReduction::Last) => crate::history::Reduction::Last,
+                        Some(super::raw::RawReduction::Min) => crate::history::Reduction::Min,
+                        Some(super::raw::RawReduction::Max) => crate::history::Reduction::Max,
+                    },
+                    batches: hr.batches.unwrap_or(crate::history::DEFAULT_BATCHES),
+                    final_share: hr.final_share.unwrap_or(0.1),
+                    ..crate::history::HistorySettings::default()
+                };
+                let name_of = |w: &str| match reading.column(w) {
+                    crate::tabular::ColumnRef::Name(n) => crate::history::read::ColumnRef::Name(n),
+                    crate::tabular::ColumnRef::Index(i) => crate::history::read::ColumnRef::Position(i),
+                };
+                let responses: Vec<crate::history::read::ColumnRef> =
+                    s.responses.iter().map(|r| name_of(r)).collect();
+                let sh = super::sweep_history::read(
+                    &p,
+                    &name_of(&s.x),
+                    &hr.abscissa.to_ref(),
+                    &responses,
+                    &settings,
+                )
+                .map_err(|e| super::history_input::error_of(e, &format!("{key}.history"), ctx))?;
+                for w in &sh.warnings {
+                    warnings.push(
+                        crate::warning::Warning::new(&w.code, format!("mesh `{mname}`: {}", w.message))
+                            .about(name),
+                    );
+                }
+                files_read.push(p.clone());
+                noise = sh.noise.clone();
+                let mut c = IndexMap::new();
+                c.insert(s.x.clone(), sh.x.clone());
+                for (r, v) in s.responses.iter().zip(&sh.responses) {
+                    c.insert(r.clone(), v.clone());
+                }
+                c
             } else {
                 let mut c = IndexMap::new();
                 for w in &wanted {
@@ -1068,6 +1157,10 @@ pub fn check(
                 derived: derived.map(|d| order.iter().map(|&i| d[i]).collect()),
                 npsh: npsh.map(|v| order.iter().map(|&i| v[i]).collect()),
                 labels: order.iter().map(|&i| src.label(i)).collect(),
+                noise: noise
+                    .iter()
+                    .map(|v| order.iter().map(|&i| v.get(i).copied().flatten()).collect())
+                    .collect(),
             });
             recorded.push((src, ys));
             mesh_indices.push(mi);
