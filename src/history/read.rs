@@ -425,6 +425,24 @@ fn row_tree(line: &[u8]) -> Result<Vec<Node>, usize> {
     Ok(stack.pop().map(|s| s.0).unwrap_or_default())
 }
 
+/// The offset of the first parenthesis that does not pair up, if any.
+fn unbalanced(line: &[u8]) -> Option<usize> {
+    memchr::memchr2(b'(', b')', line)?;
+    let mut open = Vec::new();
+    for (i, c) in line.iter().enumerate() {
+        match c {
+            b'(' => open.push(i),
+            b')' => {
+                if open.pop().is_none() {
+                    return Some(i);
+                }
+            }
+            _ => {}
+        }
+    }
+    open.first().copied()
+}
+
 /// Splits a whitespace header at spaces outside parentheses.
 fn header_tokens(text: &str) -> Vec<String> {
     let mut out = Vec::new();
@@ -925,6 +943,14 @@ impl<'a> State<'a> {
                 ranges.len()
             }
             None => {
+                if let Some(at) = unbalanced(line) {
+                    self.ranges = ranges;
+                    return Err(self.at(
+                        no,
+                        char_column(line, at),
+                        "unbalanced parenthesis".into(),
+                    ));
+                }
                 let mut i = 0;
                 while i < line.len() && ranges.len() <= need {
                     let c = line[i];
