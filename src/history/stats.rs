@@ -142,24 +142,45 @@ pub const SOKAL_C: f64 = 5.0;
 /// about 4 to 6 for signals whose correlation decays roughly exponentially; c = 5 here, common
 /// practice, no source). The variance of the mean is 2 τ_int s²/n, so the effective sample size
 /// is n/(2 τ_int). τ_int below ½ (an anticorrelated signal) is raised to ½: no credit is taken
-/// for anticorrelation (a project decision). The autocorrelation is computed by FFT,
-/// O(n log n). `None` with fewer than 4 samples, non-finite samples or no variance.
+/// for anticorrelation (a project decision). Lags are summed directly while the window is
+/// short and the whole autocovariance is computed by FFT (O(n log n)) once it is not. `None` with fewer than 4 samples, non-finite samples or no variance.
 pub fn autocorrelation_time(values: &[f64], c: f64) -> Option<AutocorrelationTime> {
+    autocorrelation_time_with(values, c, DIRECT_WORK)
+}
+
+fn autocorrelation_time_with(
+    values: &[f64],
+    c: f64,
+    direct_work: usize,
+) -> Option<AutocorrelationTime> {
     let n = values.len();
     if n < 4 || values.iter().any(|v| !v.is_finite()) {
         return None;
     }
-    let acf = autocorrelation(values)?;
-    let var0 = acf[0];
+    let mean = values.iter().sum::<f64>() / n as f64;
+    let x: Vec<f64> = values.iter().map(|v| v - mean).collect();
+    let var0 = x.iter().map(|v| v * v).sum::<f64>() / n as f64;
     if var0.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
         return None;
     }
     let limit = n / 2;
+    // Lags summed directly while that is cheap (short correlation, the usual case), the whole
+    // autocovariance by FFT once the window grows past that.
+    let direct = (direct_work / n).clamp(16, limit.max(16));
+    let mut fft: Option<Vec<f64>> = None;
     let mut tau = 0.5;
     let mut window = 0;
     let mut found = false;
-    for (m, a) in acf.iter().enumerate().take(limit).skip(1) {
-        tau += a / var0;
+    for m in 1..limit {
+        let cm = if m <= direct {
+            x.iter().zip(&x[m..]).map(|(a, b)| a * b).sum::<f64>() / n as f64
+        } else {
+            if fft.is_none() {
+                fft = autocorrelation(values);
+            }
+            fft.as_ref().and_then(|a| a.get(m)).copied()?
+        };
+        tau += cm / var0;
         window = m;
         if m as f64 >= c * tau {
             found = true;
@@ -178,6 +199,9 @@ pub fn autocorrelation_time(values: &[f64], c: f64) -> Option<AutocorrelationTim
         window_found: found,
     })
 }
+
+/// Multiply-adds spent on directly summed lags before [`autocorrelation_time`] turns to the FFT.
+const DIRECT_WORK: usize = 1 << 26;
 
 /// The autocovariance C_k = (1/n) Σ_{i} (x_i − x̄)(x_{i+k} − x̄), k = 0…n−1, by FFT with zero
 /// padding (no wrap-around).
@@ -300,6 +324,20 @@ mod tests {
                 (0..n - k).map(|i| (x[i] - m) * (x[i + k] - m)).sum::<f64>() / n as f64;
             assert!((acf[k] - direct).abs() < 1e-12, "lag {k}");
         }
+    }
+
+    #[test]
+    fn direct_and_fft_lags_give_one_time() {
+        // Analytic: both paths sum the same autocovariance; a slowly varying signal pushes the
+        // window past the directly summed lags.
+        let x: Vec<f64> = (0..5000)
+            .map(|i| (i as f64 / 300.0).sin() + ((i * 7919) % 31) as f64 * 0.01)
+            .collect();
+        let direct = autocorrelation_time_with(&x, SOKAL_C, usize::MAX).unwrap();
+        let mixed = autocorrelation_time_with(&x, SOKAL_C, 16 * x.len()).unwrap();
+        assert!(direct.window > 16, "window {}", direct.window);
+        assert_eq!(direct.window, mixed.window);
+        assert!((direct.tau - mixed.tau).abs() < 1e-9 * direct.tau);
     }
 
     #[test]
