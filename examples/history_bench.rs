@@ -33,7 +33,10 @@ fn mix(state: &mut u64) -> f64 {
 
 fn generate(n: usize, path: &Path) -> std::io::Result<()> {
     let mut out = std::io::BufWriter::new(std::fs::File::create(path)?);
-    writeln!(out, "# Force coefficients (synthetic benchmark history, invented numbers)")?;
+    writeln!(
+        out,
+        "# Force coefficients (synthetic benchmark history, invented numbers)"
+    )?;
     writeln!(out, "# magUInf     : 12.5")?;
     writeln!(out, "#")?;
     writeln!(out, "# Time\tCm\tCd\tCl\tCl(f)\tCl(r)")?;
@@ -64,7 +67,12 @@ fn main() {
         eprintln!("history_bench: {m}");
         std::process::exit(2)
     };
-    match args.iter().map(String::as_str).collect::<Vec<_>>().as_slice() {
+    match args
+        .iter()
+        .map(String::as_str)
+        .collect::<Vec<_>>()
+        .as_slice()
+    {
         ["generate", n, file] => {
             let n: usize = n.parse().unwrap_or_else(|_| fail("N must be a count"));
             generate(n, Path::new(file)).unwrap_or_else(|e| fail(&e.to_string()));
@@ -79,7 +87,11 @@ fn main() {
             let read = t.elapsed();
             if *mode == "mean" {
                 let m = s.values.iter().sum::<f64>() / s.values.len() as f64;
-                println!("rows {} mean {m:.10e} read {:.3} s", s.values.len(), read.as_secs_f64());
+                println!(
+                    "rows {} mean {m:.10e} read {:.3} s",
+                    s.values.len(),
+                    read.as_secs_f64()
+                );
             } else {
                 let r = analyse(&s, &HistorySettings::default())
                     .unwrap_or_else(|e| fail(&e.to_string()));

@@ -48,7 +48,10 @@ fn main() {
     let mut seed = 2026u64;
     let args: Vec<String> = std::env::args().skip(1).collect();
     for pair in args.chunks(2) {
-        match (pair[0].as_str(), pair.get(1).and_then(|v| v.parse::<u64>().ok())) {
+        match (
+            pair[0].as_str(),
+            pair.get(1).and_then(|v| v.parse::<u64>().ok()),
+        ) {
             ("--runs", Some(v)) => runs = v as usize,
             ("--seed", Some(v)) => seed = v,
             _ => {

@@ -219,7 +219,7 @@ mod tests {
         assert!(t.len() <= 4 * MAX_BUCKETS);
         let max = t.iter().map(|p| p.1).fold(f64::NEG_INFINITY, f64::max);
         let min = t.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
-        assert!(max == 100.0 && min == 0.0);
+        assert_eq!((max, min), (100.0, 0.0));
         assert!(t.windows(2).all(|w| w[1].0 > w[0].0));
     }
 

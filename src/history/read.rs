@@ -430,14 +430,10 @@ fn unbalanced(line: &[u8]) -> Option<usize> {
     memchr::memchr2(b'(', b')', line)?;
     let mut open = Vec::new();
     for (i, c) in line.iter().enumerate() {
-        match c {
-            b'(' => open.push(i),
-            b')' => {
-                if open.pop().is_none() {
-                    return Some(i);
-                }
-            }
-            _ => {}
+        if *c == b'(' {
+            open.push(i);
+        } else if *c == b')' && open.pop().is_none() {
+            return Some(i);
         }
     }
     open.first().copied()
