@@ -164,6 +164,9 @@ pub struct Series {
 /// ends is refused after this much.
 pub const MAX_LINE: usize = 16 << 20;
 const BLOCK: usize = 1 << 20;
+/// The most samples read from one history (160 MB per column held): a bound on memory for any
+/// input (a project limit).
+pub const MAX_SAMPLES: usize = 20_000_000;
 
 /// Reads one column (and the abscissa column) of the history in `path`.
 pub fn read_history(path: &Path, opts: &ReadOptions) -> Result<Series, HistoryError> {
@@ -1000,6 +1003,16 @@ impl<'a> State<'a> {
                 no,
                 char_column(line, a),
                 format!("{name}: `{}` is not a number", shown(&line[a..b])),
+            ));
+        }
+        if self.values.len() >= MAX_SAMPLES {
+            return Err(self.at(
+                no,
+                1,
+                format!(
+                    "more than {MAX_SAMPLES} samples; write the monitor less often or cut the \
+                     file"
+                ),
             ));
         }
         match (v, x) {
