@@ -224,6 +224,23 @@ fn solver_force_vectors() {
 }
 
 #[test]
+fn solver_probes() {
+    // Expected: the sample files' own text; the third probe lies outside the mesh and holds
+    // the solver's unset value −1e300 (missing).
+    let p = data("solver-v1912/probes/0/p");
+    let mut o = by_name("probe_1");
+    o.abscissa = Some(ColumnRef::Name("Time".into()));
+    let s = read_history(&p, &o).unwrap();
+    assert_eq!(s.columns, ["Time", "probe_0", "probe_1", "probe_2"]);
+    assert_eq!(s.values, [1498.5, 1497.25, 1499.0]);
+    assert_eq!(s.abscissa.unwrap(), [0.001, 0.002, 0.003]);
+    let e = read_history(&p, &by_name("probe_2")).unwrap_err();
+    assert!(e.to_string().contains("no finite value"), "{e}");
+    let s = read_history(&data("solver-v1912/probes/0/U"), &by_name("probe_1_y")).unwrap();
+    assert_eq!(s.values, [0.125, 0.25]);
+}
+
+#[test]
 fn spreadsheet_exports() {
     // Expected: the sample files' own text.
     let p = data("spreadsheet/pump-efficiency.csv");
@@ -278,6 +295,13 @@ fn bad_files_are_refused_with_line_and_column() {
     assert_eq!(e.line(), Some(3), "{e}");
     let e = refused("bad/open-quote.csv", "a");
     assert_eq!((e.line(), e.column()), (Some(1), Some(3)), "{e}");
+    // Integers in the first row, a decimal comma later: a hint.
+    let d = tempfile::tempdir().unwrap();
+    let p = d.path().join("later-comma.csv");
+    std::fs::write(&p, "it;v\n1;2\n2;2,5\n").unwrap();
+    let e = read_history(&p, &by_name("v")).unwrap_err();
+    assert_eq!((e.line(), e.column()), (Some(3), Some(3)), "{e}");
+    assert!(e.to_string().contains("decimal comma"), "{e}");
     let e = refused("bad/no-data.dat", "Cd");
     assert!(e.to_string().contains("no row of numbers"), "{e}");
     let e = refused("solver-v1912/forceCoeffs/0/coefficient.dat", "CD");

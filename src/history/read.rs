@@ -18,7 +18,10 @@
 //!   A row of text right under the header is read as the columns' units.
 //!
 //! Only the chosen column (and the optional abscissa column, iteration or time) is parsed;
-//! every other field is only stepped over. Empty fields, `nan`, `N/A`, `NA`, `#N/A`, `null`,
+//! every other field is only stepped over. Probe files (`# Probe 0 (x y z)` lines, then
+//! `# Probe 0 1 …` and `# Time`) name their columns `Time`, `probe_0`, `probe_1`, … (vectors
+//! `probe_0_x`, …); the solver's value for a probe outside the mesh, −1e300, is a missing
+//! sample. Empty fields, `nan`, `N/A`, `NA`, `#N/A`, `null`,
 //! `-` and non-finite numbers in a chosen column mark a missing sample: the row is skipped and
 //! the [`Series`] says which lines were (warning `samples_skipped`). An unterminated last line
 //! that does not parse is taken for a row being written when the file was copied and dropped
@@ -303,6 +306,9 @@ fn parse_num(text: &[u8], comma: bool) -> Num {
         fast_float2::parse::<f64, _>(t)
     };
     match parsed {
+        // −1e300 is the solver's mark of a probe outside the mesh (−VGREAT); anything
+        // below it is no pressure or force either.
+        Ok(v) if v <= -1e300 => Num::Missing,
         Ok(v) if v.is_finite() => Num::Value(v),
         Ok(_) => Num::Missing,
         Err(_) => Num::Bad,
@@ -576,6 +582,8 @@ struct State<'a> {
     opts: &'a ReadOptions,
     /// The last non-empty comment line before the data, without its `#`.
     comment: Option<String>,
+    /// The comment line before it, for the probe layout (`# Probe 0 1 2` then `# Time`).
+    before_comment: Option<String>,
     /// Non-numeric lines before the data (header row, unit row) with their line numbers.
     text_rows: Vec<(u64, Vec<u8>)>,
     layout: Option<Layout>,
@@ -602,6 +610,7 @@ impl<'a> State<'a> {
             path,
             opts,
             comment: None,
+            before_comment: None,
             text_rows: Vec::new(),
             layout: None,
             unit: None,
@@ -632,6 +641,7 @@ impl<'a> State<'a> {
             if self.layout.is_none() {
                 let c = c.trim_ascii();
                 if !c.is_empty() {
+                    self.before_comment = self.comment.take();
                     self.comment = Some(String::from_utf8_lossy(c).into_owned());
                 }
             }
@@ -732,7 +742,21 @@ impl<'a> State<'a> {
                     .map(|(x, y)| unquote(&bytes[x..y]))
                     .collect()
             }),
-            (None, None) => self.comment.as_deref().map(header_tokens),
+            (None, None) => self.comment.as_deref().map(|c| {
+                let words = header_tokens(c);
+                // The probe layout: `# Probe 0 1 2` then `# Time`; our names `probe_0`, ….
+                match (
+                    words.as_slice(),
+                    self.before_comment.as_deref().map(header_tokens),
+                ) {
+                    ([time], Some(p)) if p.first().is_some_and(|w| w == "Probe") => {
+                        std::iter::once(time.clone())
+                            .chain(p[1..].iter().map(|i| format!("probe_{i}")))
+                            .collect()
+                    }
+                    _ => words,
+                }
+            }),
         };
         let flat_count;
         match sep.byte() {
@@ -908,7 +932,7 @@ impl<'a> State<'a> {
         let Some(l) = &self.layout else {
             return Ok(());
         };
-        let (need, vi, ai, comma) = (l.need, l.value, l.abscissa, l.comma);
+        let (need, vi, ai, comma, l_sep) = (l.need, l.value, l.abscissa, l.comma, l.sep);
         let mut ranges = std::mem::take(&mut self.ranges);
         ranges.clear();
         let found = match l.sep.byte() {
@@ -1002,7 +1026,15 @@ impl<'a> State<'a> {
             return Err(self.at(
                 no,
                 char_column(line, a),
-                format!("{name}: `{}` is not a number", shown(&line[a..b])),
+                format!(
+                    "{name}: `{}` is not a number{}",
+                    shown(&line[a..b]),
+                    if line[a..b].contains(&b',') && !comma && l_sep != Separator::Comma {
+                        "; a decimal comma? set the decimal mark to comma"
+                    } else {
+                        ""
+                    }
+                ),
             ));
         }
         if self.values.len() >= MAX_SAMPLES {
