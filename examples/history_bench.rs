@@ -4,6 +4,7 @@
 //! cargo run --release --example history_bench -- generate N FILE
 //! cargo run --release --example history_bench -- mean FILE     (read Cd, its plain mean)
 //! cargo run --release --example history_bench -- full FILE     (read Cd and Time, the whole analysis)
+//! cargo run --release --example history_bench -- plot FILE SVG    (the history figure of Cd)
 //! cargo run --release --example history_bench -- parts FILE    (each statistic of Cd timed alone, on its steady part)
 //! ```
 //!
@@ -106,6 +107,20 @@ fn main() {
                 );
             }
         }
+        ["plot", file, svg] => {
+            let mut o = ReadOptions::column(ColumnRef::Name("Cd".into()));
+            o.abscissa = Some(ColumnRef::Name("Time".into()));
+            let s = read_history(Path::new(file), &o).unwrap_or_else(|e| fail(&e.to_string()));
+            let r = analyse(&s, &HistorySettings::default()).unwrap_or_else(|e| fail(&e.to_string()));
+            let doc = meshbound::history::plot::history_plot(
+                &s.values,
+                s.abscissa.as_deref(),
+                s.abscissa_name.as_deref(),
+                &r,
+            )
+            .unwrap_or_else(|| fail("nothing to draw"));
+            std::fs::write(svg, doc).unwrap_or_else(|e| fail(&e.to_string()));
+        }
         ["parts", file] => {
             let o = ReadOptions::column(ColumnRef::Name("Cd".into()));
             let s = read_history(Path::new(file), &o).unwrap_or_else(|e| fail(&e.to_string()));
@@ -128,6 +143,6 @@ fn main() {
             );
             println!("{cut:?}\n{b:?}\n{a:?}\n{w:?}");
         }
-        _ => fail("usage: history_bench generate N FILE | mean FILE | full FILE | parts FILE"),
+        _ => fail("usage: history_bench generate N FILE | mean FILE | full FILE | plot FILE SVG | parts FILE"),
     }
 }
