@@ -241,9 +241,10 @@ fn for_each_line<R: Read>(
         };
         let scan_from = end;
         end += n;
-        if first && end >= 3 {
+        if first && (end >= 3 || n == 0) {
+            // A byte-order mark can only open the file: checked once, before any line.
             first = false;
-            if buf[..3] == [0xEF, 0xBB, 0xBF] {
+            if no == 0 && start == 0 && buf[..end].starts_with(&[0xEF, 0xBB, 0xBF]) {
                 start = 3;
             }
         }
@@ -1244,6 +1245,32 @@ mod tests {
         o.separator = Separator::Comma;
         let e = read(text, &o).unwrap_err().to_string();
         assert!(e.contains("semicolon"), "{e}");
+    }
+
+    /// A reader that hands out one byte at a time.
+    struct Trickle<'a>(&'a [u8]);
+
+    impl Read for Trickle<'_> {
+        fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+            match (self.0.split_first(), buf.first_mut()) {
+                (Some((b, rest)), Some(d)) => {
+                    *d = *b;
+                    self.0 = rest;
+                    Ok(1)
+                }
+                _ => Ok(0),
+            }
+        }
+    }
+
+    #[test]
+    fn byte_order_mark_and_tiny_reads() {
+        let text = "\u{feff}v;w\n1,5;2\n2,5;3\n";
+        let o = by_name("v");
+        let a = read_history_from(text.as_bytes(), Path::new("h.csv"), &o).unwrap();
+        let b = read_history_from(Trickle(text.as_bytes()), Path::new("h.csv"), &o).unwrap();
+        assert_eq!(a.values, [1.5, 2.5]);
+        assert_eq!(a, b);
     }
 
     #[test]
