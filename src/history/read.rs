@@ -1,4 +1,5 @@
-//! Reading one column of a monitor history, streamed.
+//! Reading one column of a monitor history (or several row-aligned columns, [`read_table`]),
+//! streamed.
 //!
 //! The layouts read (detected from the text, or set with [`Separator`] and [`Decimal`]):
 //!
@@ -163,6 +164,78 @@ pub struct Series {
     pub warnings: Vec<Warning>,
 }
 
+/// What to read from a table of columns (several columns of one history file at once, for
+/// example a value and an operating-point column).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TableOptions {
+    /// The columns, in the order wanted.
+    pub columns: Vec<ColumnRef>,
+    /// Field separator.
+    #[serde(default)]
+    pub separator: Separator,
+    /// Decimal mark.
+    #[serde(default)]
+    pub decimal: Decimal,
+}
+
+/// Columns of a history file, row-aligned: a row missing any of them is left out of all.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Table {
+    /// The file read.
+    pub path: PathBuf,
+    /// The names of the columns read (header names, or `column N` without a header).
+    pub names: Vec<String>,
+    /// Their units, from a unit row.
+    pub units: Vec<Option<String>>,
+    /// Their values, one vector per column read, all of one length.
+    pub columns: Vec<Vec<f64>>,
+    /// Every column name of the file after expansion, in order (empty without a header).
+    pub header: Vec<String>,
+    /// The separator used (detected or given).
+    pub separator: Separator,
+    /// Whether numbers were read with a decimal comma.
+    pub decimal_comma: bool,
+    /// Lines (1-based) of the rows skipped for a missing or non-finite value.
+    pub skipped_lines: Vec<u64>,
+    /// `samples_skipped`, `last_row_incomplete`.
+    pub warnings: Vec<Warning>,
+}
+
+/// Reads the chosen columns of the history file in `path`.
+pub fn read_table(path: &Path, opts: &TableOptions) -> Result<Table, HistoryError> {
+    let file = crate::input::open_regular(path).map_err(|source| HistoryError::Io {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    read_table_from(file, path, opts)
+}
+
+/// Reads the chosen columns from any reader; `path` names it in messages.
+pub fn read_table_from<R: Read>(
+    reader: R,
+    path: &Path,
+    opts: &TableOptions,
+) -> Result<Table, HistoryError> {
+    if opts.separator == Separator::Comma && opts.decimal == Decimal::Comma {
+        return Err(HistoryError::File {
+            path: path.to_path_buf(),
+            message: "a decimal comma cannot be read with the comma separator".into(),
+        });
+    }
+    if opts.columns.is_empty() {
+        return Err(HistoryError::File {
+            path: path.to_path_buf(),
+            message: "no column asked for".into(),
+        });
+    }
+    let mut st = State::new(path, opts);
+    for_each_line(reader, path, |no, line, terminated| {
+        st.line(no, line, terminated)
+    })?;
+    st.finish()
+}
+
 /// The longest line read, in bytes: a history row is a few hundred bytes; a file without line
 /// ends is refused after this much.
 pub const MAX_LINE: usize = 16 << 20;
@@ -186,17 +259,50 @@ pub fn read_history_from<R: Read>(
     path: &Path,
     opts: &ReadOptions,
 ) -> Result<Series, HistoryError> {
-    if opts.separator == Separator::Comma && opts.decimal == Decimal::Comma {
-        return Err(HistoryError::File {
-            path: path.to_path_buf(),
-            message: "a decimal comma cannot be read with the comma separator".into(),
-        });
+    let table = TableOptions {
+        columns: std::iter::once(opts.column.clone())
+            .chain(opts.abscissa.clone())
+            .collect(),
+        separator: opts.separator,
+        decimal: opts.decimal,
+    };
+    let t = read_table_from(reader, path, &table)?;
+    let mut cols = t.columns.into_iter();
+    let mut names = t.names.into_iter();
+    let values = cols.next().unwrap_or_default();
+    let column = names.next().unwrap_or_default();
+    let abscissa = opts.abscissa.as_ref().and(cols.next());
+    let abscissa_name = opts.abscissa.as_ref().and(names.next());
+    let mut warnings = t.warnings;
+    if let Some(x) = &abscissa {
+        if let Some(i) = x.windows(2).position(|w| w[1] <= w[0]) {
+            warnings.push(Warning::new(
+                "abscissa_not_increasing",
+                format!(
+                    "{}: the abscissa `{}` does not increase after sample {} ({} then {}); \
+                     a restarted run appended to the same file?",
+                    path.display(),
+                    abscissa_name.as_deref().unwrap_or(""),
+                    i + 1,
+                    x[i],
+                    x[i + 1]
+                ),
+            ));
+        }
     }
-    let mut st = State::new(path, opts);
-    for_each_line(reader, path, |no, line, terminated| {
-        st.line(no, line, terminated)
-    })?;
-    st.finish()
+    Ok(Series {
+        path: t.path,
+        column,
+        unit: t.units.into_iter().next().flatten(),
+        abscissa_name,
+        values,
+        abscissa,
+        columns: t.header,
+        separator: t.separator,
+        decimal_comma: t.decimal_comma,
+        skipped_lines: t.skipped_lines,
+        warnings,
+    })
 }
 
 /// Calls `f` with each line (1-based number, bytes without the line end, whether a line end
@@ -571,16 +677,15 @@ struct Layout {
     comma: bool,
     /// Flat column names (empty: none known).
     names: Vec<String>,
-    /// Flat index of the value column and the abscissa column.
-    value: usize,
-    abscissa: Option<usize>,
+    /// Flat indices of the columns read, in the order asked.
+    wanted: Vec<usize>,
     /// The largest flat index needed.
     need: usize,
 }
 
 struct State<'a> {
     path: &'a Path,
-    opts: &'a ReadOptions,
+    opts: &'a TableOptions,
     /// The last non-empty comment line before the data, without its `#`.
     comment: Option<String>,
     /// The comment line before it, for the probe layout (`# Probe 0 1 2` then `# Time`).
@@ -588,9 +693,10 @@ struct State<'a> {
     /// Non-numeric lines before the data (header row, unit row) with their line numbers.
     text_rows: Vec<(u64, Vec<u8>)>,
     layout: Option<Layout>,
-    unit: Option<String>,
-    values: Vec<f64>,
-    abscissa: Vec<f64>,
+    units: Vec<Option<String>>,
+    columns: Vec<Vec<f64>>,
+    /// The values of the current row (reused).
+    row_values: Vec<f64>,
     skipped: Vec<u64>,
     incomplete: Option<u64>,
     first_data_line: u64,
@@ -606,7 +712,7 @@ fn comment_text(line: &[u8]) -> Option<&[u8]> {
 }
 
 impl<'a> State<'a> {
-    fn new(path: &'a Path, opts: &'a ReadOptions) -> Self {
+    fn new(path: &'a Path, opts: &'a TableOptions) -> Self {
         State {
             path,
             opts,
@@ -614,9 +720,9 @@ impl<'a> State<'a> {
             before_comment: None,
             text_rows: Vec::new(),
             layout: None,
-            unit: None,
-            values: Vec::new(),
-            abscissa: Vec::new(),
+            units: Vec::new(),
+            columns: Vec::new(),
+            row_values: Vec::new(),
             skipped: Vec::new(),
             incomplete: None,
             first_data_line: 0,
@@ -823,7 +929,7 @@ impl<'a> State<'a> {
                         .collect();
                     match hits.as_slice() {
                         [i] => Ok(*i),
-                        [] => Err(self.missing_column(no, n, what, &names, sep, flat_count)),
+                        [] => Err(self.missing_column(no, what, &names, sep, flat_count)),
                         _ => Err(HistoryError::File {
                             path: self.path.to_path_buf(),
                             message: format!(
@@ -835,22 +941,28 @@ impl<'a> State<'a> {
                 }
             }
         };
-        let value = resolve(&self.opts.column, "value column")?;
-        let abscissa = match &self.opts.abscissa {
-            Some(r) => Some(resolve(r, "abscissa column")?),
-            None => None,
-        };
-        if units.len() == flat_count {
-            self.unit = units.get(value).filter(|u| !u.is_empty()).cloned();
-        }
+        let wanted = self
+            .opts
+            .columns
+            .iter()
+            .map(|r| resolve(r, &r.to_string()))
+            .collect::<Result<Vec<usize>, _>>()?;
+        self.units = wanted
+            .iter()
+            .map(|&k| {
+                (units.len() == flat_count)
+                    .then(|| units.get(k).filter(|u| !u.is_empty()).cloned())
+                    .flatten()
+            })
+            .collect();
+        self.columns = vec![Vec::new(); wanted.len()];
         self.first_data_line = no;
         self.layout = Some(Layout {
             sep,
             comma,
             names,
-            value,
-            abscissa,
-            need: value.max(abscissa.unwrap_or(0)),
+            need: wanted.iter().copied().max().unwrap_or(0),
+            wanted,
         });
         Ok(true)
     }
@@ -865,7 +977,6 @@ impl<'a> State<'a> {
     fn missing_column(
         &self,
         no: u64,
-        name: &str,
         what: &str,
         names: &[String],
         sep: Separator,
@@ -882,7 +993,7 @@ impl<'a> State<'a> {
             };
             return HistoryError::File {
                 path: self.path.to_path_buf(),
-                message: format!("{what} `{name}`: {why}; choose the column by position"),
+                message: format!("{what}: {why}; choose the column by position"),
             };
         }
         let mut listed: Vec<String> = names.iter().take(24).map(|n| format!("`{n}`")).collect();
@@ -906,7 +1017,7 @@ impl<'a> State<'a> {
         HistoryError::File {
             path: self.path.to_path_buf(),
             message: format!(
-                "{what} `{name}` is not in the header; it has {}{hint}",
+                "{what} is not in the header; it has {}{hint}",
                 listed.join(", ")
             ),
         }
@@ -933,7 +1044,7 @@ impl<'a> State<'a> {
         let Some(l) = &self.layout else {
             return Ok(());
         };
-        let (need, vi, ai, comma, l_sep) = (l.need, l.value, l.abscissa, l.comma, l.sep);
+        let (need, comma, l_sep) = (l.need, l.comma, l.sep);
         let mut ranges = std::mem::take(&mut self.ranges);
         ranges.clear();
         let found = match l.sep.byte() {
@@ -1007,22 +1118,24 @@ impl<'a> State<'a> {
                 ),
             ));
         }
-        let get = |k: usize| -> Result<Num, (usize, usize)> {
+        let mut row = std::mem::take(&mut self.row_values);
+        row.clear();
+        let mut missing = false;
+        let mut bad = None;
+        for &k in &l.wanted {
             let (a, b) = ranges[k];
             match parse_num(&line[a..b], comma) {
-                Num::Bad => Err((a, b)),
-                n => Ok(n),
+                Num::Value(v) => row.push(v),
+                Num::Missing => missing = true,
+                Num::Bad => {
+                    bad = Some((a, b, k));
+                    break;
+                }
             }
-        };
-        let v = get(vi);
-        let x = ai.map(get);
-        let bad = match (&v, &x) {
-            (Err(r), _) => Some((*r, vi)),
-            (_, Some(Err(r))) => Some((*r, ai.unwrap_or(0))),
-            _ => None,
-        };
+        }
         self.ranges = ranges;
-        if let Some(((a, b), k)) = bad {
+        if let Some((a, b, k)) = bad {
+            self.row_values = row;
             let name = self.name_of(k);
             return Err(self.at(
                 no,
@@ -1038,24 +1151,25 @@ impl<'a> State<'a> {
                 ),
             ));
         }
-        if self.values.len() >= MAX_SAMPLES {
-            return Err(self.at(
-                no,
-                1,
-                format!(
-                    "more than {MAX_SAMPLES} samples; write the monitor less often or cut the \
-                     file"
-                ),
-            ));
-        }
-        match (v, x) {
-            (Ok(Num::Value(v)), None) => self.values.push(v),
-            (Ok(Num::Value(v)), Some(Ok(Num::Value(x)))) => {
-                self.values.push(v);
-                self.abscissa.push(x);
+        if missing {
+            self.skipped.push(no);
+        } else {
+            if self.columns.first().map_or(0, Vec::len) >= MAX_SAMPLES {
+                self.row_values = row;
+                return Err(self.at(
+                    no,
+                    1,
+                    format!(
+                        "more than {MAX_SAMPLES} samples; write the monitor less often or cut \
+                         the file"
+                    ),
+                ));
             }
-            _ => self.skipped.push(no),
+            for (c, v) in self.columns.iter_mut().zip(&row) {
+                c.push(*v);
+            }
         }
+        self.row_values = row;
         Ok(())
     }
 
@@ -1066,7 +1180,7 @@ impl<'a> State<'a> {
         }
     }
 
-    fn finish(self) -> Result<Series, HistoryError> {
+    fn finish(self) -> Result<Table, HistoryError> {
         let Some(l) = &self.layout else {
             let message = if self.text_rows.is_empty() {
                 "no row of numbers (the file is empty or all comments)".to_string()
@@ -1089,14 +1203,14 @@ impl<'a> State<'a> {
                 message,
             });
         };
-        let column = match l.names.get(l.value) {
-            Some(n) => n.clone(),
-            None => format!("column {}", l.value + 1),
-        };
-        let abscissa_name = l.abscissa.map(|k| match l.names.get(k) {
-            Some(n) => n.clone(),
-            None => format!("column {}", k + 1),
-        });
+        let names: Vec<String> = l
+            .wanted
+            .iter()
+            .map(|&k| match l.names.get(k) {
+                Some(n) => n.clone(),
+                None => format!("column {}", k + 1),
+            })
+            .collect();
         let mut warnings = Vec::new();
         if !self.skipped.is_empty() {
             let shown: Vec<String> = self.skipped.iter().take(8).map(|l| l.to_string()).collect();
@@ -1121,38 +1235,20 @@ impl<'a> State<'a> {
                 ),
             ));
         }
-        if self.values.is_empty() {
+        if self.columns.first().is_none_or(Vec::is_empty) {
+            let which: Vec<String> = names.iter().map(|n| format!("`{n}`")).collect();
             return Err(HistoryError::File {
                 path: self.path.to_path_buf(),
-                message: format!("{column} holds no finite value"),
+                message: format!("no row holds a finite value in {}", which.join(" and ")),
             });
         }
-        let abscissa = l.abscissa.map(|_| self.abscissa);
-        if let Some(x) = &abscissa {
-            if let Some(i) = x.windows(2).position(|w| w[1] <= w[0]) {
-                warnings.push(Warning::new(
-                    "abscissa_not_increasing",
-                    format!(
-                        "{}: the abscissa `{}` does not increase after sample {} ({} then {}); \
-                         a restarted run appended to the same file?",
-                        self.path.display(),
-                        abscissa_name.as_deref().unwrap_or(""),
-                        i + 1,
-                        x[i],
-                        x[i + 1]
-                    ),
-                ));
-            }
-        }
         let _ = self.first_data_line;
-        Ok(Series {
+        Ok(Table {
             path: self.path.to_path_buf(),
-            column,
-            unit: self.unit,
-            abscissa_name,
-            values: self.values,
-            abscissa,
-            columns: l.names.clone(),
+            names,
+            units: self.units,
+            columns: self.columns,
+            header: l.names.clone(),
             separator: l.sep,
             decimal_comma: l.comma,
             skipped_lines: self.skipped,
@@ -1211,6 +1307,29 @@ mod tests {
         assert!(s.decimal_comma);
         assert_eq!(s.unit.as_deref(), Some("[%]"));
         assert_eq!(s.separator, Separator::Semicolon);
+    }
+
+    #[test]
+    fn several_columns_in_one_pass() {
+        // Expected: the numbers written in the text; a row missing any column is left out of
+        // all, so the columns stay row-aligned.
+        let text = "# Time sigma eta\n1 0.3 0.9\n2 0.3 nan\n3 0.25 0.88\n";
+        let o = TableOptions {
+            columns: vec![
+                ColumnRef::Name("sigma".into()),
+                ColumnRef::Name("eta".into()),
+                ColumnRef::Position(1),
+            ],
+            separator: Separator::Auto,
+            decimal: Decimal::Auto,
+        };
+        let t = read_table_from(text.as_bytes(), Path::new("h.dat"), &o).unwrap();
+        assert_eq!(t.names, ["sigma", "eta", "Time"]);
+        assert_eq!(
+            t.columns,
+            [vec![0.3, 0.25], vec![0.9, 0.88], vec![1.0, 3.0]]
+        );
+        assert_eq!(t.skipped_lines, [3]);
     }
 
     #[test]
