@@ -16,7 +16,8 @@
 //! Below that: [`grid`] turns cell counts into representative sizes, [`estimate`] holds the
 //! pure estimators, [`sweep`] the interpolation and breakdown detection along a curve,
 //! [`compare`] the ASME V&V 20 comparison, [`water`] and [`machine`] IAPWS-IF97 properties and
-//! hydraulic machine quantities, [`field`] the streamed per-point estimate, [`gate`] and
+//! hydraulic machine quantities, [`field`] the streamed per-point estimate, [`history`] monitor
+//! histories reduced to a value with its statistical and iterative uncertainty, [`gate`] and
 //! [`plan`] acceptance limits and mesh planning.
 //!
 //! # Example

@@ -8,7 +8,7 @@
 //! of the signal is kept.
 
 use super::{HistoryResult, Status};
-use crate::report::format::{sig, with_uncertainty};
+use crate::report::format::{num, sig, with_uncertainty};
 use crate::report::plot::{render, Dash, Item, Layer, Pen, Sample, Scene};
 use plotters::style::{RGBAColor, RGBColor};
 
@@ -17,7 +17,7 @@ pub const MAX_BUCKETS: usize = 1500;
 
 const SIGNAL: RGBColor = RGBColor(0x1F, 0x3B, 0x57);
 const MEAN: RGBColor = RGBColor(0xB4, 0x53, 0x2A);
-const STEADY: RGBAColor = RGBAColor(0xD8, 0xD2, 0xC0, 0.55);
+const STEADY: RGBAColor = RGBAColor(0xD8, 0xD2, 0xC0, 0.40);
 const BAND: RGBAColor = RGBAColor(0xB4, 0x53, 0x2A, 0.30);
 
 /// The points drawn for a history: every sample when there are few, otherwise the first,
@@ -56,8 +56,13 @@ pub fn thinned(x: &[f64], y: &[f64]) -> Vec<(f64, f64)> {
 }
 
 /// The scene of [`history_plot`]: `values` the samples, `x` their abscissa (the sample index
-/// when `None`), `r` their reduction. `None` when nothing finite can be drawn.
-pub fn history_scene(values: &[f64], x: Option<&[f64]>, r: &HistoryResult) -> Option<Scene> {
+/// when `None`) named `x_name`, `r` their reduction. `None` when nothing finite can be drawn.
+pub fn history_scene(
+    values: &[f64],
+    x: Option<&[f64]>,
+    x_name: Option<&str>,
+    r: &HistoryResult,
+) -> Option<Scene> {
     let n = values.len();
     if n == 0 || x.is_some_and(|x| x.len() != n) {
         return None;
@@ -97,7 +102,7 @@ pub fn history_scene(values: &[f64], x: Option<&[f64]>, r: &HistoryResult) -> Op
             )],
         });
         legend.push((
-            format!("steady part (from {})", sig(x0, 6)),
+            format!("steady part (from {})", num(x0, 6)),
             Sample::Swatch(STEADY),
         ));
     }
@@ -149,9 +154,14 @@ pub fn history_scene(values: &[f64], x: Option<&[f64]>, r: &HistoryResult) -> Op
         });
         legend.push(("mean of the steady part".into(), Sample::Line(pen, None)));
     }
+    let at = match (x, x_name) {
+        (Some(_), Some(name)) => format!(" ({name} {})", num(x0, 6)),
+        (Some(_), None) => format!(" (at {})", num(x0, 6)),
+        _ => String::new(),
+    };
     subtitle.push(format!(
-        "{} samples; steady part: {} samples from sample {}",
-        n, r.steady.samples, r.steady.start_index
+        "{n} samples; steady part: {} samples from index {}{at}",
+        r.steady.samples, r.steady.start_index
     ));
     match r.status {
         Status::Steady => {}
@@ -180,7 +190,7 @@ pub fn history_scene(values: &[f64], x: Option<&[f64]>, r: &HistoryResult) -> Op
     Some(Scene {
         title: format!("History of {}", r.column),
         subtitle,
-        x_desc: "sample".into(),
+        x_desc: x_name.unwrap_or("sample index").to_string(),
         y_desc: format!("{}{unit}", r.column),
         include_x: Vec::new(),
         layers,
@@ -197,11 +207,7 @@ pub fn history_plot(
     x_name: Option<&str>,
     r: &HistoryResult,
 ) -> Option<String> {
-    let mut s = history_scene(values, x, r)?;
-    if let Some(name) = x_name {
-        s.x_desc = name.to_string();
-    }
-    render(&s)
+    render(&history_scene(values, x, x_name, r)?)
 }
 
 #[cfg(test)]
@@ -219,7 +225,7 @@ mod tests {
         assert!(t.len() <= 4 * MAX_BUCKETS);
         let max = t.iter().map(|p| p.1).fold(f64::NEG_INFINITY, f64::max);
         let min = t.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
-        assert!(max == 100.0 && min == 0.0);
+        assert_eq!((max, min), (100.0, 0.0));
         assert!(t.windows(2).all(|w| w[1].0 > w[0].0));
     }
 

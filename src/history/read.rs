@@ -1,4 +1,5 @@
-//! Reading one column of a monitor history, streamed.
+//! Reading one column of a monitor history (or several row-aligned columns, [`read_table`]),
+//! streamed.
 //!
 //! The layouts read (detected from the text, or set with [`Separator`] and [`Decimal`]):
 //!
@@ -18,7 +19,10 @@
 //!   A row of text right under the header is read as the columns' units.
 //!
 //! Only the chosen column (and the optional abscissa column, iteration or time) is parsed;
-//! every other field is only stepped over. Empty fields, `nan`, `N/A`, `NA`, `#N/A`, `null`,
+//! every other field is only stepped over. Probe files (`# Probe 0 (x y z)` lines, then
+//! `# Probe 0 1 …` and `# Time`) name their columns `Time`, `probe_0`, `probe_1`, … (vectors
+//! `probe_0_x`, …); the solver's value for a probe outside the mesh, −1e300, is a missing
+//! sample. Empty fields, `nan`, `N/A`, `NA`, `#N/A`, `null`,
 //! `-` and non-finite numbers in a chosen column mark a missing sample: the row is skipped and
 //! the [`Series`] says which lines were (warning `samples_skipped`). An unterminated last line
 //! that does not parse is taken for a row being written when the file was copied and dropped
@@ -160,10 +164,85 @@ pub struct Series {
     pub warnings: Vec<Warning>,
 }
 
+/// What to read from a table of columns (several columns of one history file at once, for
+/// example a value and an operating-point column).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TableOptions {
+    /// The columns, in the order wanted.
+    pub columns: Vec<ColumnRef>,
+    /// Field separator.
+    #[serde(default)]
+    pub separator: Separator,
+    /// Decimal mark.
+    #[serde(default)]
+    pub decimal: Decimal,
+}
+
+/// Columns of a history file, row-aligned: a row missing any of them is left out of all.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Table {
+    /// The file read.
+    pub path: PathBuf,
+    /// The names of the columns read (header names, or `column N` without a header).
+    pub names: Vec<String>,
+    /// Their units, from a unit row.
+    pub units: Vec<Option<String>>,
+    /// Their values, one vector per column read, all of one length.
+    pub columns: Vec<Vec<f64>>,
+    /// Every column name of the file after expansion, in order (empty without a header).
+    pub header: Vec<String>,
+    /// The separator used (detected or given).
+    pub separator: Separator,
+    /// Whether numbers were read with a decimal comma.
+    pub decimal_comma: bool,
+    /// Lines (1-based) of the rows skipped for a missing or non-finite value.
+    pub skipped_lines: Vec<u64>,
+    /// `samples_skipped`, `last_row_incomplete`.
+    pub warnings: Vec<Warning>,
+}
+
+/// Reads the chosen columns of the history file in `path`.
+pub fn read_table(path: &Path, opts: &TableOptions) -> Result<Table, HistoryError> {
+    let file = crate::input::open_regular(path).map_err(|source| HistoryError::Io {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    read_table_from(file, path, opts)
+}
+
+/// Reads the chosen columns from any reader; `path` names it in messages.
+pub fn read_table_from<R: Read>(
+    reader: R,
+    path: &Path,
+    opts: &TableOptions,
+) -> Result<Table, HistoryError> {
+    if opts.separator == Separator::Comma && opts.decimal == Decimal::Comma {
+        return Err(HistoryError::File {
+            path: path.to_path_buf(),
+            message: "a decimal comma cannot be read with the comma separator".into(),
+        });
+    }
+    if opts.columns.is_empty() {
+        return Err(HistoryError::File {
+            path: path.to_path_buf(),
+            message: "no column asked for".into(),
+        });
+    }
+    let mut st = State::new(path, opts);
+    for_each_line(reader, path, |no, line, terminated| {
+        st.line(no, line, terminated)
+    })?;
+    st.finish()
+}
+
 /// The longest line read, in bytes: a history row is a few hundred bytes; a file without line
 /// ends is refused after this much.
 pub const MAX_LINE: usize = 16 << 20;
 const BLOCK: usize = 1 << 20;
+/// The most samples read from one history (160 MB per column held): a bound on memory for any
+/// input (a project limit).
+pub const MAX_SAMPLES: usize = 20_000_000;
 
 /// Reads one column (and the abscissa column) of the history in `path`.
 pub fn read_history(path: &Path, opts: &ReadOptions) -> Result<Series, HistoryError> {
@@ -180,17 +259,50 @@ pub fn read_history_from<R: Read>(
     path: &Path,
     opts: &ReadOptions,
 ) -> Result<Series, HistoryError> {
-    if opts.separator == Separator::Comma && opts.decimal == Decimal::Comma {
-        return Err(HistoryError::File {
-            path: path.to_path_buf(),
-            message: "a decimal comma cannot be read with the comma separator".into(),
-        });
+    let table = TableOptions {
+        columns: std::iter::once(opts.column.clone())
+            .chain(opts.abscissa.clone())
+            .collect(),
+        separator: opts.separator,
+        decimal: opts.decimal,
+    };
+    let t = read_table_from(reader, path, &table)?;
+    let mut cols = t.columns.into_iter();
+    let mut names = t.names.into_iter();
+    let values = cols.next().unwrap_or_default();
+    let column = names.next().unwrap_or_default();
+    let abscissa = opts.abscissa.as_ref().and(cols.next());
+    let abscissa_name = opts.abscissa.as_ref().and(names.next());
+    let mut warnings = t.warnings;
+    if let Some(x) = &abscissa {
+        if let Some(i) = x.windows(2).position(|w| w[1] <= w[0]) {
+            warnings.push(Warning::new(
+                "abscissa_not_increasing",
+                format!(
+                    "{}: the abscissa `{}` does not increase after sample {} ({} then {}); \
+                     a restarted run appended to the same file?",
+                    path.display(),
+                    abscissa_name.as_deref().unwrap_or(""),
+                    i + 1,
+                    x[i],
+                    x[i + 1]
+                ),
+            ));
+        }
     }
-    let mut st = State::new(path, opts);
-    for_each_line(reader, path, |no, line, terminated| {
-        st.line(no, line, terminated)
-    })?;
-    st.finish()
+    Ok(Series {
+        path: t.path,
+        column,
+        unit: t.units.into_iter().next().flatten(),
+        abscissa_name,
+        values,
+        abscissa,
+        columns: t.header,
+        separator: t.separator,
+        decimal_comma: t.decimal_comma,
+        skipped_lines: t.skipped_lines,
+        warnings,
+    })
 }
 
 /// Calls `f` with each line (1-based number, bytes without the line end, whether a line end
@@ -235,9 +347,10 @@ fn for_each_line<R: Read>(
         };
         let scan_from = end;
         end += n;
-        if first && end >= 3 {
+        if first && (end >= 3 || n == 0) {
+            // A byte-order mark can only open the file: checked once, before any line.
             first = false;
-            if buf[..3] == [0xEF, 0xBB, 0xBF] {
+            if no == 0 && start == 0 && buf[..end].starts_with(&[0xEF, 0xBB, 0xBF]) {
                 start = 3;
             }
         }
@@ -300,6 +413,9 @@ fn parse_num(text: &[u8], comma: bool) -> Num {
         fast_float2::parse::<f64, _>(t)
     };
     match parsed {
+        // −1e300 is the solver's mark of a probe outside the mesh (−VGREAT); anything
+        // below it is no pressure or force either.
+        Ok(v) if v <= -1e300 => Num::Missing,
         Ok(v) if v.is_finite() => Num::Value(v),
         Ok(_) => Num::Missing,
         Err(_) => Num::Bad,
@@ -425,6 +541,20 @@ fn row_tree(line: &[u8]) -> Result<Vec<Node>, usize> {
     Ok(stack.pop().map(|s| s.0).unwrap_or_default())
 }
 
+/// The offset of the first parenthesis that does not pair up, if any.
+fn unbalanced(line: &[u8]) -> Option<usize> {
+    memchr::memchr2(b'(', b')', line)?;
+    let mut open = Vec::new();
+    for (i, c) in line.iter().enumerate() {
+        if *c == b'(' {
+            open.push(i);
+        } else if *c == b')' && open.pop().is_none() {
+            return Some(i);
+        }
+    }
+    open.first().copied()
+}
+
 /// Splits a whitespace header at spaces outside parentheses.
 fn header_tokens(text: &str) -> Vec<String> {
     let mut out = Vec::new();
@@ -547,24 +677,26 @@ struct Layout {
     comma: bool,
     /// Flat column names (empty: none known).
     names: Vec<String>,
-    /// Flat index of the value column and the abscissa column.
-    value: usize,
-    abscissa: Option<usize>,
+    /// Flat indices of the columns read, in the order asked.
+    wanted: Vec<usize>,
     /// The largest flat index needed.
     need: usize,
 }
 
 struct State<'a> {
     path: &'a Path,
-    opts: &'a ReadOptions,
+    opts: &'a TableOptions,
     /// The last non-empty comment line before the data, without its `#`.
     comment: Option<String>,
+    /// The comment line before it, for the probe layout (`# Probe 0 1 2` then `# Time`).
+    before_comment: Option<String>,
     /// Non-numeric lines before the data (header row, unit row) with their line numbers.
     text_rows: Vec<(u64, Vec<u8>)>,
     layout: Option<Layout>,
-    unit: Option<String>,
-    values: Vec<f64>,
-    abscissa: Vec<f64>,
+    units: Vec<Option<String>>,
+    columns: Vec<Vec<f64>>,
+    /// The values of the current row (reused).
+    row_values: Vec<f64>,
     skipped: Vec<u64>,
     incomplete: Option<u64>,
     first_data_line: u64,
@@ -580,16 +712,17 @@ fn comment_text(line: &[u8]) -> Option<&[u8]> {
 }
 
 impl<'a> State<'a> {
-    fn new(path: &'a Path, opts: &'a ReadOptions) -> Self {
+    fn new(path: &'a Path, opts: &'a TableOptions) -> Self {
         State {
             path,
             opts,
             comment: None,
+            before_comment: None,
             text_rows: Vec::new(),
             layout: None,
-            unit: None,
-            values: Vec::new(),
-            abscissa: Vec::new(),
+            units: Vec::new(),
+            columns: Vec::new(),
+            row_values: Vec::new(),
             skipped: Vec::new(),
             incomplete: None,
             first_data_line: 0,
@@ -615,6 +748,7 @@ impl<'a> State<'a> {
             if self.layout.is_none() {
                 let c = c.trim_ascii();
                 if !c.is_empty() {
+                    self.before_comment = self.comment.take();
                     self.comment = Some(String::from_utf8_lossy(c).into_owned());
                 }
             }
@@ -715,7 +849,21 @@ impl<'a> State<'a> {
                     .map(|(x, y)| unquote(&bytes[x..y]))
                     .collect()
             }),
-            (None, None) => self.comment.as_deref().map(header_tokens),
+            (None, None) => self.comment.as_deref().map(|c| {
+                let words = header_tokens(c);
+                // The probe layout: `# Probe 0 1 2` then `# Time`; our names `probe_0`, ….
+                match (
+                    words.as_slice(),
+                    self.before_comment.as_deref().map(header_tokens),
+                ) {
+                    ([time], Some(p)) if p.first().is_some_and(|w| w == "Probe") => {
+                        std::iter::once(time.clone())
+                            .chain(p[1..].iter().map(|i| format!("probe_{i}")))
+                            .collect()
+                    }
+                    _ => words,
+                }
+            }),
         };
         let flat_count;
         match sep.byte() {
@@ -781,7 +929,7 @@ impl<'a> State<'a> {
                         .collect();
                     match hits.as_slice() {
                         [i] => Ok(*i),
-                        [] => Err(self.missing_column(no, n, what, &names, sep, flat_count)),
+                        [] => Err(self.missing_column(no, what, &names, sep, flat_count)),
                         _ => Err(HistoryError::File {
                             path: self.path.to_path_buf(),
                             message: format!(
@@ -793,22 +941,28 @@ impl<'a> State<'a> {
                 }
             }
         };
-        let value = resolve(&self.opts.column, "value column")?;
-        let abscissa = match &self.opts.abscissa {
-            Some(r) => Some(resolve(r, "abscissa column")?),
-            None => None,
-        };
-        if units.len() == flat_count {
-            self.unit = units.get(value).filter(|u| !u.is_empty()).cloned();
-        }
+        let wanted = self
+            .opts
+            .columns
+            .iter()
+            .map(|r| resolve(r, &r.to_string()))
+            .collect::<Result<Vec<usize>, _>>()?;
+        self.units = wanted
+            .iter()
+            .map(|&k| {
+                (units.len() == flat_count)
+                    .then(|| units.get(k).filter(|u| !u.is_empty()).cloned())
+                    .flatten()
+            })
+            .collect();
+        self.columns = vec![Vec::new(); wanted.len()];
         self.first_data_line = no;
         self.layout = Some(Layout {
             sep,
             comma,
             names,
-            value,
-            abscissa,
-            need: value.max(abscissa.unwrap_or(0)),
+            need: wanted.iter().copied().max().unwrap_or(0),
+            wanted,
         });
         Ok(true)
     }
@@ -823,7 +977,6 @@ impl<'a> State<'a> {
     fn missing_column(
         &self,
         no: u64,
-        name: &str,
         what: &str,
         names: &[String],
         sep: Separator,
@@ -840,7 +993,7 @@ impl<'a> State<'a> {
             };
             return HistoryError::File {
                 path: self.path.to_path_buf(),
-                message: format!("{what} `{name}`: {why}; choose the column by position"),
+                message: format!("{what}: {why}; choose the column by position"),
             };
         }
         let mut listed: Vec<String> = names.iter().take(24).map(|n| format!("`{n}`")).collect();
@@ -864,7 +1017,7 @@ impl<'a> State<'a> {
         HistoryError::File {
             path: self.path.to_path_buf(),
             message: format!(
-                "{what} `{name}` is not in the header; it has {}{hint}",
+                "{what} is not in the header; it has {}{hint}",
                 listed.join(", ")
             ),
         }
@@ -891,7 +1044,7 @@ impl<'a> State<'a> {
         let Some(l) = &self.layout else {
             return Ok(());
         };
-        let (need, vi, ai, comma) = (l.need, l.value, l.abscissa, l.comma);
+        let (need, comma, l_sep) = (l.need, l.comma, l.sep);
         let mut ranges = std::mem::take(&mut self.ranges);
         ranges.clear();
         let found = match l.sep.byte() {
@@ -925,6 +1078,14 @@ impl<'a> State<'a> {
                 ranges.len()
             }
             None => {
+                if let Some(at) = unbalanced(line) {
+                    self.ranges = ranges;
+                    return Err(self.at(
+                        no,
+                        char_column(line, at),
+                        "unbalanced parenthesis".into(),
+                    ));
+                }
                 let mut i = 0;
                 while i < line.len() && ranges.len() <= need {
                     let c = line[i];
@@ -957,37 +1118,58 @@ impl<'a> State<'a> {
                 ),
             ));
         }
-        let get = |k: usize| -> Result<Num, (usize, usize)> {
+        let mut row = std::mem::take(&mut self.row_values);
+        row.clear();
+        let mut missing = false;
+        let mut bad = None;
+        for &k in &l.wanted {
             let (a, b) = ranges[k];
             match parse_num(&line[a..b], comma) {
-                Num::Bad => Err((a, b)),
-                n => Ok(n),
+                Num::Value(v) => row.push(v),
+                Num::Missing => missing = true,
+                Num::Bad => {
+                    bad = Some((a, b, k));
+                    break;
+                }
             }
-        };
-        let v = get(vi);
-        let x = ai.map(get);
-        let bad = match (&v, &x) {
-            (Err(r), _) => Some((*r, vi)),
-            (_, Some(Err(r))) => Some((*r, ai.unwrap_or(0))),
-            _ => None,
-        };
+        }
         self.ranges = ranges;
-        if let Some(((a, b), k)) = bad {
+        if let Some((a, b, k)) = bad {
+            self.row_values = row;
             let name = self.name_of(k);
             return Err(self.at(
                 no,
                 char_column(line, a),
-                format!("{name}: `{}` is not a number", shown(&line[a..b])),
+                format!(
+                    "{name}: `{}` is not a number{}",
+                    shown(&line[a..b]),
+                    if line[a..b].contains(&b',') && !comma && l_sep != Separator::Comma {
+                        "; a decimal comma? set the decimal mark to comma"
+                    } else {
+                        ""
+                    }
+                ),
             ));
         }
-        match (v, x) {
-            (Ok(Num::Value(v)), None) => self.values.push(v),
-            (Ok(Num::Value(v)), Some(Ok(Num::Value(x)))) => {
-                self.values.push(v);
-                self.abscissa.push(x);
+        if missing {
+            self.skipped.push(no);
+        } else {
+            if self.columns.first().map_or(0, Vec::len) >= MAX_SAMPLES {
+                self.row_values = row;
+                return Err(self.at(
+                    no,
+                    1,
+                    format!(
+                        "more than {MAX_SAMPLES} samples; write the monitor less often or cut \
+                         the file"
+                    ),
+                ));
             }
-            _ => self.skipped.push(no),
+            for (c, v) in self.columns.iter_mut().zip(&row) {
+                c.push(*v);
+            }
         }
+        self.row_values = row;
         Ok(())
     }
 
@@ -998,7 +1180,7 @@ impl<'a> State<'a> {
         }
     }
 
-    fn finish(self) -> Result<Series, HistoryError> {
+    fn finish(self) -> Result<Table, HistoryError> {
         let Some(l) = &self.layout else {
             let message = if self.text_rows.is_empty() {
                 "no row of numbers (the file is empty or all comments)".to_string()
@@ -1021,14 +1203,14 @@ impl<'a> State<'a> {
                 message,
             });
         };
-        let column = match l.names.get(l.value) {
-            Some(n) => n.clone(),
-            None => format!("column {}", l.value + 1),
-        };
-        let abscissa_name = l.abscissa.map(|k| match l.names.get(k) {
-            Some(n) => n.clone(),
-            None => format!("column {}", k + 1),
-        });
+        let names: Vec<String> = l
+            .wanted
+            .iter()
+            .map(|&k| match l.names.get(k) {
+                Some(n) => n.clone(),
+                None => format!("column {}", k + 1),
+            })
+            .collect();
         let mut warnings = Vec::new();
         if !self.skipped.is_empty() {
             let shown: Vec<String> = self.skipped.iter().take(8).map(|l| l.to_string()).collect();
@@ -1053,38 +1235,20 @@ impl<'a> State<'a> {
                 ),
             ));
         }
-        if self.values.is_empty() {
+        if self.columns.first().is_none_or(Vec::is_empty) {
+            let which: Vec<String> = names.iter().map(|n| format!("`{n}`")).collect();
             return Err(HistoryError::File {
                 path: self.path.to_path_buf(),
-                message: format!("{column} holds no finite value"),
+                message: format!("no row holds a finite value in {}", which.join(" and ")),
             });
         }
-        let abscissa = l.abscissa.map(|_| self.abscissa);
-        if let Some(x) = &abscissa {
-            if let Some(i) = x.windows(2).position(|w| w[1] <= w[0]) {
-                warnings.push(Warning::new(
-                    "abscissa_not_increasing",
-                    format!(
-                        "{}: the abscissa `{}` does not increase after sample {} ({} then {}); \
-                         a restarted run appended to the same file?",
-                        self.path.display(),
-                        abscissa_name.as_deref().unwrap_or(""),
-                        i + 1,
-                        x[i],
-                        x[i + 1]
-                    ),
-                ));
-            }
-        }
         let _ = self.first_data_line;
-        Ok(Series {
+        Ok(Table {
             path: self.path.to_path_buf(),
-            column,
-            unit: self.unit,
-            abscissa_name,
-            values: self.values,
-            abscissa,
-            columns: l.names.clone(),
+            names,
+            units: self.units,
+            columns: self.columns,
+            header: l.names.clone(),
             separator: l.sep,
             decimal_comma: l.comma,
             skipped_lines: self.skipped,
@@ -1146,6 +1310,29 @@ mod tests {
     }
 
     #[test]
+    fn several_columns_in_one_pass() {
+        // Expected: the numbers written in the text; a row missing any column is left out of
+        // all, so the columns stay row-aligned.
+        let text = "# Time sigma eta\n1 0.3 0.9\n2 0.3 nan\n3 0.25 0.88\n";
+        let o = TableOptions {
+            columns: vec![
+                ColumnRef::Name("sigma".into()),
+                ColumnRef::Name("eta".into()),
+                ColumnRef::Position(1),
+            ],
+            separator: Separator::Auto,
+            decimal: Decimal::Auto,
+        };
+        let t = read_table_from(text.as_bytes(), Path::new("h.dat"), &o).unwrap();
+        assert_eq!(t.names, ["sigma", "eta", "Time"]);
+        assert_eq!(
+            t.columns,
+            [vec![0.3, 0.25], vec![0.9, 0.88], vec![1.0, 3.0]]
+        );
+        assert_eq!(t.skipped_lines, [3]);
+    }
+
+    #[test]
     fn missing_values_are_skipped_with_their_lines() {
         let text = "it,v\n1,1.5\n2,nan\n3,\n4,N/A\n5,2.5\n";
         let s = read(text, &by_name("v")).unwrap();
@@ -1177,6 +1364,32 @@ mod tests {
         o.separator = Separator::Comma;
         let e = read(text, &o).unwrap_err().to_string();
         assert!(e.contains("semicolon"), "{e}");
+    }
+
+    /// A reader that hands out one byte at a time.
+    struct Trickle<'a>(&'a [u8]);
+
+    impl Read for Trickle<'_> {
+        fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+            match (self.0.split_first(), buf.first_mut()) {
+                (Some((b, rest)), Some(d)) => {
+                    *d = *b;
+                    self.0 = rest;
+                    Ok(1)
+                }
+                _ => Ok(0),
+            }
+        }
+    }
+
+    #[test]
+    fn byte_order_mark_and_tiny_reads() {
+        let text = "\u{feff}v;w\n1,5;2\n2,5;3\n";
+        let o = by_name("v");
+        let a = read_history_from(text.as_bytes(), Path::new("h.csv"), &o).unwrap();
+        let b = read_history_from(Trickle(text.as_bytes()), Path::new("h.csv"), &o).unwrap();
+        assert_eq!(a.values, [1.5, 2.5]);
+        assert_eq!(a, b);
     }
 
     #[test]

@@ -987,7 +987,9 @@ pub fn check(
                 }
                 let settings = crate::history::HistorySettings {
                     reduction: match hr.reduce {
-                        None | Some(super::raw::RawReduction::Mean) => crate::history::Reduction::Mean,
+                        None | Some(super::raw::RawReduction::Mean) => {
+                            crate::history::Reduction::Mean
+                        }
                         Some(super::raw::RawReduction::Last) => crate::history::Reduction::Last,
                         Some(super::raw::RawReduction::Min) => crate::history::Reduction::Min,
                         Some(super::raw::RawReduction::Max) => crate::history::Reduction::Max,
@@ -998,7 +1000,9 @@ pub fn check(
                 };
                 let name_of = |w: &str| match reading.column(w) {
                     crate::tabular::ColumnRef::Name(n) => crate::history::read::ColumnRef::Name(n),
-                    crate::tabular::ColumnRef::Index(i) => crate::history::read::ColumnRef::Position(i),
+                    crate::tabular::ColumnRef::Index(i) => {
+                        crate::history::read::ColumnRef::Position(i)
+                    }
                 };
                 let responses: Vec<crate::history::read::ColumnRef> =
                     s.responses.iter().map(|r| name_of(r)).collect();
@@ -1012,8 +1016,11 @@ pub fn check(
                 .map_err(|e| super::history_input::error_of(e, &format!("{key}.history"), ctx))?;
                 for w in &sh.warnings {
                     warnings.push(
-                        crate::warning::Warning::new(&w.code, format!("mesh `{mname}`: {}", w.message))
-                            .about(name),
+                        crate::warning::Warning::new(
+                            &w.code,
+                            format!("mesh `{mname}`: {}", w.message),
+                        )
+                        .about(name),
                     );
                 }
                 files_read.push(p.clone());
