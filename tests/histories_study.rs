@@ -158,3 +158,104 @@ fn bad_histories_are_refused_with_the_file_and_the_key() {
         assert!(!w.path().join("out.json").exists());
     }
 }
+
+#[test]
+fn the_demo_sweep_is_split_into_its_points_from_one_history_per_mesh() {
+    // The sweep histories are manufactured around the values of the CSV demo sweep
+    // (studies/sweeps/L*.csv, by studies/histories/make_histories.py): every point's mean must
+    // land on its CSV value within three times the U_I the history states for it, and the
+    // operating points must be the CSV's σ exactly.
+    let hist = json(&["assess", DEMO, "--format", "json"]);
+    let csv = json(&[
+        "assess",
+        "studies/pump-turbine-cavitation.yaml",
+        "--format",
+        "json",
+    ]);
+    let (hs, cs) = (&hist["sweeps"][0], &csv["sweeps"][0]);
+    for (hc, cc) in hs["curves"]
+        .as_array()
+        .expect("curves")
+        .iter()
+        .zip(cs["curves"].as_array().expect("curves"))
+    {
+        assert_eq!(hc["x"], cc["x"], "{}", hc["mesh"]);
+        let noise = hc["noise"][0].as_array().expect("noise of efficiency");
+        for ((v, c), n) in hc["responses"][0]
+            .as_array()
+            .expect("values")
+            .iter()
+            .zip(cc["responses"][0].as_array().expect("values"))
+            .zip(noise)
+        {
+            let n = f(n);
+            assert!(n > 0.0);
+            assert!((f(v) - f(c)).abs() <= 3.0 * n, "{v} vs {c} ± {n}");
+        }
+    }
+    // Every band point carries the finest history's U_I, included in U by root-sum-square.
+    for p in hs["band"]["points"].as_array().expect("band points") {
+        let (u, n) = (f(&p["absolute"]), f(&p["iterative"]));
+        assert!(u >= n, "{p}");
+    }
+}
+
+#[test]
+fn a_sweep_history_needs_its_reading_and_names_short_points() {
+    let w = Workdir::new();
+    // Four operating points of 40 rows each plus one of 3 rows (manufactured, constant values
+    // per point: the reduced values are those constants exactly).
+    let monitor = |offset: f64| {
+        let mut s = String::from("# Iteration sigma eta\n");
+        let mut it = 0;
+        for (sigma, eta) in [(0.4, 0.9), (0.3, 0.9), (0.2, 0.89), (0.1, 0.8), (0.05, 0.7)] {
+            let rows = if sigma == 0.05 { 3 } else { 40 };
+            for _ in 0..rows {
+                it += 1;
+                s.push_str(&format!("{it} {sigma} {}\n", eta + offset));
+            }
+        }
+        s
+    };
+    for (name, off) in [("a.dat", 0.0), ("b.dat", 0.002), ("c.dat", 0.006)] {
+        w.write(name, &monitor(off));
+    }
+    let study = "format: 1
+meshes:
+  - {name: A, size: 1.0}
+  - {name: B, size: 2.0}
+  - {name: C, size: 4.0}
+sweeps:
+  cav:
+    x: sigma
+    responses: [eta]
+    history_reading: {abscissa: Iteration, reduce: last}
+    data:
+      A: {history: a.dat}
+      B: {history: b.dat}
+      C: {history: c.dat}
+";
+    let v = assess_json(&w, study);
+    let c = &v["sweeps"][0]["curves"][0];
+    assert_eq!(c["x"], serde_json::json!([0.1, 0.2, 0.3, 0.4]));
+    assert_eq!(c["responses"][0], serde_json::json!([0.8, 0.89, 0.9, 0.9]));
+    assert!(warning_codes(&v).contains(&"history_point_too_short"));
+    // Without `history_reading` the study is refused at the data key.
+    w.write(
+        "s.yaml",
+        &study.replace(
+            "    history_reading: {abscissa: Iteration, reduce: last}\n",
+            "",
+        ),
+    );
+    let o = run_in(w.path(), &["assess", "s.yaml"]);
+    assert_eq!(o.status.code(), Some(2), "{}", show(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("history_reading"));
+}
+
+fn assess_json(w: &Workdir, text: &str) -> Value {
+    w.write("s.yaml", text);
+    let o = run_in(w.path(), &["assess", "s.yaml", "-f", "json"]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    serde_json::from_slice(&o.stdout).expect("JSON")
+}

@@ -37,6 +37,10 @@ pub struct CurveResult {
     /// Derived machine quantities per point (raw sweeps only), aligned with `x`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub derived: Option<Vec<DerivedPoint>>,
+    /// Per response, each point's U_I when the curve was read from a monitor history (the
+    /// statistical uncertainty of the point's mean with its drift), aligned with `x`.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub noise: Vec<Vec<Option<f64>>>,
 }
 
 /// One mesh's breakdown.
@@ -118,6 +122,39 @@ pub struct BandPoint {
     /// Codes of the warnings the point's estimate raised, each once, in the order of
     /// [`crate::point_warnings::rank`] (the band's `point_warnings` aggregates them).
     pub warnings: Vec<String>,
+    /// The finest mesh's U_I at this abscissa, when its curve was read from a monitor
+    /// history (linear between its points); `absolute` includes it by root-sum-square.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub iterative: Option<f64>,
+}
+
+/// The U_I of response `ri` of a curve read from a monitor history at abscissa `x`: the
+/// point's own where `x` is one, else linear between the two points around it; `None` for
+/// curves without noise or outside them.
+pub fn noise_at(c: &crate::study::sweep::Curve, ri: usize, x: f64) -> Option<f64> {
+    let n = c.noise.get(ri)?;
+    let i = c.x.iter().position(|xi| *xi >= x)?;
+    if c.x[i].total_cmp(&x).is_eq() {
+        return n.get(i).copied().flatten();
+    }
+    let j = i.checked_sub(1)?;
+    let (a, b) = (n.get(j).copied().flatten()?, n.get(i).copied().flatten()?);
+    let t = (x - c.x[j]) / (c.x[i] - c.x[j]);
+    Some(a + t * (b - a))
+}
+
+/// The U_I of a breakdown abscissa on a curve read from a monitor history: the response's
+/// noise where it crosses the threshold, over the curve's slope there, |U_I / (dR/dx)|
+/// (first-order propagation; the slope from the two points around the crossing).
+fn breakdown_noise(c: &crate::study::sweep::Curve, ri: usize, x: f64) -> Option<f64> {
+    let y = c.responses.get(ri)?;
+    let i = c.x.iter().position(|xi| *xi >= x)?;
+    let j = if i == 0 { 1 } else { i - 1 };
+    let (a, b) = (j.min(i), j.max(i));
+    let slope = (y.get(b)? - y.get(a)?) / (c.x.get(b)? - c.x.get(a)?);
+    let noise = noise_at(c, ri, x)?;
+    let d = (noise / slope).abs();
+    (d.is_finite() && slope != 0.0).then_some(d)
 }
 
 /// Counts and shares of the convergence classes along a band.
@@ -356,7 +393,7 @@ pub fn assess_sweep(
         };
         let x_estimate = if failed.is_empty() {
             let bx: Vec<f64> = per_mesh.iter().map(|m| m.x).collect();
-            quantity(
+            let mut q = quantity(
                 &subject,
                 role_b,
                 Some(unit),
@@ -365,7 +402,20 @@ pub fn assess_sweep(
                 settings,
                 estimator,
                 warnings,
-            )
+            );
+            // The finest curve's noise moves its crossing (read against x only: NPSH is
+            // derived per point).
+            let noise = match b.abscissa {
+                Abscissa::X => s
+                    .curves
+                    .first()
+                    .and_then(|c| breakdown_noise(c, b.response_index, bx[0])),
+                Abscissa::Npsh => None,
+            };
+            if let (Some(u), Some(n)) = (&q.uncertainty, noise) {
+                q.uncertainty = Some(super::govern::with_iterative(u, n));
+            }
+            q
         } else {
             quantity_not_computed(
                 &subject,
@@ -448,6 +498,7 @@ pub fn assess_sweep(
                 x: c.x.clone(),
                 responses: c.responses.clone(),
                 derived: c.derived.clone(),
+                noise: c.noise.clone(),
             })
             .collect(),
         breakdown,
@@ -642,6 +693,14 @@ fn band(
             estimator,
             &mut point_warnings,
         );
+        let mut q = q;
+        let noise = s
+            .curves
+            .first()
+            .and_then(|c| noise_at(c, b.response_index, x));
+        if let (Some(u), Some(n)) = (&q.uncertainty, noise) {
+            q.uncertainty = Some(super::govern::with_iterative(u, n));
+        }
         let codes = point_codes(&q, &point_warnings);
         tally.point(codes.iter().map(String::as_str), x);
         let g = q.governing.as_ref();
@@ -678,6 +737,7 @@ fn band(
             convergence: q.convergence,
             demonstrated,
             warnings: codes,
+            iterative: noise,
         });
     }
     if points.is_empty() {

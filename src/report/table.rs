@@ -467,21 +467,30 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
             sm.max_relative_at.map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6))),
             orders(sm.mean_order, sm.median_order, sm.order_points as u64),
         ));
-        let mut t = grid(&[s.x.as_str(), "value", "± U", "lower", "upper", "class"]);
+        let noisy = band.points.iter().any(|p| p.iterative.is_some());
+        let mut head = vec![s.x.as_str(), "value", "± U", "lower", "upper", "class"];
+        if noisy {
+            head.insert(3, "U_I (history)");
+        }
+        let mut t = grid(&head);
         let n = band.points.len();
         let step = n.div_ceil(16).max(1);
         for (i, p) in band.points.iter().enumerate() {
             if i % step != 0 && i + 1 != n {
                 continue;
             }
-            t.add_row(vec![
+            let mut row = vec![
                 num(p.x, 6),
                 sig(p.value, 6),
                 opt(p.absolute, 3),
                 opt(p.lower, 6),
                 opt(p.upper, 6),
                 point_class_label(p).to_string(),
-            ]);
+            ];
+            if noisy {
+                row.insert(3, opt(p.iterative, 3));
+            }
+            t.add_row(row);
         }
         out.push_str(&format!("{t}\n"));
         if step > 1 {
