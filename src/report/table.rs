@@ -150,7 +150,7 @@ fn histories_block(q: &QuantityResult, out: &mut String) {
         "half range",
         "drift",
         "U_I",
-        "status",
+        "mean's status",
     ]);
     for h in &q.histories {
         let r = &h.result;
@@ -165,7 +165,16 @@ fn histories_block(q: &QuantityResult, out: &mut String) {
             opt(r.iterative.as_ref().map(|i| i.half_range), 3),
             opt(r.iterative.as_ref().map(|i| i.drift), 3),
             opt(h.iterative_uncertainty, 3),
-            format!("{:?}", r.status).to_lowercase(),
+            if r.reduction == crate::history::Reduction::Mean {
+                match r.status {
+                    crate::history::Status::Steady => "steady",
+                    crate::history::Status::TooShort => "too short",
+                    crate::history::Status::NoSteadyPart => "no steady part",
+                }
+            } else {
+                "value not a mean"
+            }
+            .to_string(),
         ]);
     }
     out.push_str(&format!("{t}\n"));

@@ -14,7 +14,7 @@ use super::raw::{RawHistory, RawReduction};
 use super::reach::Reach;
 use super::{At, StudyError};
 use crate::grid::Mesh;
-use crate::history::read::ReadOptions;
+use crate::history::read::{ColumnRef, ReadOptions};
 use crate::history::{self, HistoryError, HistoryResult, HistorySettings, Reduction, Status};
 use std::path::{Path, PathBuf};
 
@@ -34,6 +34,24 @@ pub struct QuantityHistories {
     pub files: Vec<PathBuf>,
     /// Each mesh's samples thinned for drawing, and the abscissa's name.
     pub traces: Vec<Trace>,
+}
+
+/// Warnings of a history about the mean of its steady part: they do not concern a value that
+/// is the last sample, a minimum or a maximum.
+pub const MEAN_WARNINGS: [&str; 5] = [
+    "steady_part_not_found",
+    "history_too_short",
+    "batch_means_correlated",
+    "correlation_window_not_found",
+    "statistical_estimates_disagree",
+];
+
+/// Leaves out of `r.warnings` those about the mean when the value is not the mean.
+pub fn keep_relevant_warnings(r: &mut HistoryResult) {
+    if r.reduction != Reduction::Mean {
+        r.warnings
+            .retain(|w| !MEAN_WARNINGS.contains(&w.code.as_str()));
+    }
 }
 
 /// U_I of one reduced history (see the module documentation).
@@ -75,6 +93,43 @@ pub fn error_of(e: HistoryError, key: &str, at: &At<'_>) -> StudyError {
         },
         None => at.err(key, e.to_string()),
     }
+}
+
+/// The series `read.column − minus`, row by row (a row missing either is left out), with the
+/// abscissa when one is asked for.
+fn difference(
+    file: &Path,
+    read: &ReadOptions,
+    minus: &ColumnRef,
+) -> Result<history::read::Series, HistoryError> {
+    let mut columns = vec![read.column.clone(), minus.clone()];
+    columns.extend(read.abscissa.clone());
+    let t = history::read::read_table(
+        file,
+        &history::read::TableOptions {
+            columns,
+            separator: read.separator,
+            decimal: read.decimal,
+        },
+    )?;
+    let values: Vec<f64> = t.columns[0]
+        .iter()
+        .zip(&t.columns[1])
+        .map(|(a, b)| a - b)
+        .collect();
+    Ok(history::read::Series {
+        path: t.path.clone(),
+        column: format!("{} − {}", t.names[0], t.names[1]),
+        unit: t.units[0].clone(),
+        abscissa_name: t.names.get(2).cloned(),
+        values,
+        abscissa: t.columns.get(2).cloned(),
+        columns: t.header.clone(),
+        separator: t.separator,
+        decimal_comma: t.decimal_comma,
+        skipped_lines: t.skipped_lines.clone(),
+        warnings: t.warnings.clone(),
+    })
 }
 
 /// Reads and reduces the history of every mesh of quantity `qname`. Every mesh needs a file;
@@ -129,9 +184,16 @@ pub fn read(
         })?;
         let file = base.join(given);
         reach.read(given, &file).map_err(|msg| at.err(&mkey, msg))?;
-        let series =
-            history::read::read_history(&file, &read).map_err(|e| error_of(e, &mkey, at))?;
-        let r = history::analyse(&series, &settings).map_err(|e| error_of(e, &mkey, at))?;
+        let series = match &h.minus {
+            None => {
+                history::read::read_history(&file, &read).map_err(|e| error_of(e, &mkey, at))?
+            }
+            Some(minus) => {
+                difference(&file, &read, &minus.to_ref()).map_err(|e| error_of(e, &mkey, at))?
+            }
+        };
+        let mut r = history::analyse(&series, &settings).map_err(|e| error_of(e, &mkey, at))?;
+        keep_relevant_warnings(&mut r);
         let index: Vec<f64>;
         let x = match &series.abscissa {
             Some(x) => x.as_slice(),

@@ -370,6 +370,10 @@ pub struct RawHistory {
     /// The iteration or time column, if any.
     #[serde(default)]
     pub abscissa: Option<HistoryColumn>,
+    /// A column subtracted from `column` sample by sample before the reduction (for example
+    /// the rear probe's pressure from the front one's, for a pressure difference).
+    #[serde(default)]
+    pub minus: Option<HistoryColumn>,
     /// Which figure is the value (default `mean`).
     #[serde(default)]
     pub reduce: Option<RawReduction>,

@@ -167,6 +167,7 @@ pub fn read(
         for (k, col) in columns[1..].iter().enumerate() {
             let mut r = analyse_values(&col[start..end], Some(&keep[start..end]), settings)?;
             r.column = series[k + 1].column.clone();
+            super::history_input::keep_relevant_warnings(&mut r);
             out.responses[k].push(r.value);
             out.noise[k].push(iterative_of(&r));
             results.push(r);
