@@ -80,4 +80,16 @@ fn the_benchmark_is_reached_from_the_solver_files() {
             "{name}"
         );
     }
+
+    // Compared as a published benchmark solution (ASME V&V 20 with the interval's midpoint as
+    // D and its half-width/√3 as u_D, GUM §4.3.7 from memory): worded as such, not as
+    // measurements, and every comparison within k·u_val.
+    for c in v["comparisons"].as_array().expect("comparisons") {
+        assert_eq!(c["origin"], "benchmark", "{}", c["name"]);
+        assert_eq!(c["summary"]["within"], 1, "{}", c["name"]);
+    }
+    let o = run(&["assess", STUDY, "--format", "markdown"]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("Comparison with a published benchmark solution"));
+    assert!(!text.contains("Comparison with measurements"));
 }

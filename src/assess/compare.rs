@@ -22,6 +22,8 @@ pub struct ComparisonResult {
     pub kind: &'static str,
     /// The response compared, for a sweep.
     pub response: Option<String>,
+    /// `measurement` or `benchmark` (a published reference solution).
+    pub origin: crate::study::reference::Origin,
     /// The comparison.
     #[serde(flatten)]
     pub comparison: Comparison,
@@ -80,6 +82,7 @@ fn not_computed(
     warnings.push(Warning::new(COMPARISON_NOT_COMPUTED, reason.clone()).about(&r.name));
     ComparisonResult {
         name: r.name.clone(),
+        origin: r.origin,
         kind,
         response,
         comparison: empty(cs),
@@ -146,6 +149,7 @@ pub fn run(
                 match compare(&sim, &meas, s, &cs) {
                     Ok(c) => out.push(ComparisonResult {
                         name: r.name.clone(),
+                        origin: r.origin,
                         kind: "quantity",
                         response: None,
                         comparison: c,
@@ -294,6 +298,7 @@ pub fn run(
                 ));
                 out.push(ComparisonResult {
                     name: r.name.clone(),
+                    origin: r.origin,
                     kind: "sweep",
                     response,
                     comparison: c,

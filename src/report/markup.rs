@@ -604,7 +604,7 @@ fn comparison_blocks(
     let x = a.sweep_x(&c.name);
     out.push(Block::Heading(
         3,
-        format!("Comparison with measurements: {}", c.name),
+        format!("{}: {}", c.origin.heading(), c.name),
     ));
     if let Some(nc) = &c.not_computed {
         out.push(Block::Paragraph(vec![text(format!("{}.", nc.text()))]));
@@ -846,7 +846,13 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
         sweep_blocks(s, &mut out);
     }
     if !a.comparisons.is_empty() {
-        out.push(Block::Heading(2, "Comparison with measurements".into()));
+        let origins: Vec<_> = a.comparisons.iter().map(|c| c.origin).collect();
+        let heading = if origins.iter().all(|o| *o == origins[0]) {
+            origins[0].heading()
+        } else {
+            "Comparisons with measurements and published benchmark solutions"
+        };
+        out.push(Block::Heading(2, heading.into()));
         for c in &a.comparisons {
             comparison_blocks(a, c, &mut out);
         }

@@ -525,7 +525,8 @@ fn comparison_block(
     let cm = &c.comparison;
     let x = a.sweep_x(&c.name);
     out.push_str(&format!(
-        "\ncomparison with measurements: {}{} (ASME V&V 20; k = {}, {}){}\n",
+        "\n{}: {}{} (ASME V&V 20; k = {}, {}){}\n",
+        c.origin.heading().to_lowercase(),
         c.name,
         c.response
             .as_ref()

@@ -808,7 +808,11 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         .gravity
         .map_or(crate::machine::STANDARD_GRAVITY, |g| g.0);
     let mut files_read = vec![path.to_path_buf()];
-    files_read.extend(history_files);
+    for f in history_files {
+        if !files_read.contains(&f) {
+            files_read.push(f);
+        }
+    }
     let mut warnings = Vec::new();
     let mesh_names: Vec<String> = meshes.iter().map(|m| m.name.clone()).collect();
     let sweeps = sweep::check(

@@ -122,6 +122,33 @@ pub struct RawReference {
     /// Where `x`, `value` and `u` are read from in `file`, and their scales.
     #[serde(default)]
     pub mapping: IndexMap<String, super::raw::RawColumn>,
+    /// Where the reference data come from: `measurement` (default) or `benchmark` (a
+    /// published reference solution); outputs word the comparison after it.
+    #[serde(default)]
+    pub origin: Origin,
+}
+
+/// Where reference data come from.
+#[derive(
+    Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, serde::Serialize, schemars::JsonSchema,
+)]
+#[serde(rename_all = "snake_case")]
+pub enum Origin {
+    /// Measurements (a test rig, a model test).
+    #[default]
+    Measurement,
+    /// A published reference solution (a benchmark), not a measurement.
+    Benchmark,
+}
+
+impl Origin {
+    /// The heading of a comparison with such data.
+    pub fn heading(self) -> &'static str {
+        match self {
+            Origin::Measurement => "Comparison with measurements",
+            Origin::Benchmark => "Comparison with a published benchmark solution",
+        }
+    }
 }
 
 /// What a reference compares with.
@@ -146,6 +173,8 @@ pub struct Reference {
     pub u_input: Option<AbsOrPercent>,
     /// Normalise by own peaks.
     pub normalise: bool,
+    /// Measurements or a published benchmark solution.
+    pub origin: Origin,
 }
 
 /// Measured points read from a file: (x, D, u), u absolute or relative, `None` where the file
@@ -443,6 +472,7 @@ pub fn check(
             points,
             u_input: r.u_input,
             normalise: r.normalise,
+            origin: r.origin,
         });
     }
     Ok(out)
