@@ -92,4 +92,10 @@ fn the_benchmark_is_reached_from_the_solver_files() {
     let text = String::from_utf8_lossy(&o.stdout);
     assert!(text.contains("Comparison with a published benchmark solution"));
     assert!(!text.contains("Comparison with measurements"));
+    // A generic flow: the caution speaks of no machine (`domain: general`).
+    let caution = v["caution"].as_str().expect("a caution");
+    assert!(
+        caution.contains("not validation") && !caution.contains("runner"),
+        "{caution}"
+    );
 }

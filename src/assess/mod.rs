@@ -35,6 +35,21 @@ says nothing about modelling error. Cavitation erosion and vibration can destroy
 impellers, and a machine sized on an optimistic number can fail: defer to the applicable test \
 codes, local regulations and licensed engineering judgment.";
 
+/// The caution of a study outside hydraulic machinery (`domain: general`).
+pub const CAUTION_GENERAL: &str =
+    "Numerical (discretisation) uncertainty is not validation and says nothing about modelling \
+error: a small uncertainty shows that the meshes agree, not that the model is right. Where the \
+results size or certify anything, defer to the applicable codes and standards, local \
+regulations and licensed engineering judgment.";
+
+/// The caution a study's outputs carry, worded for its field.
+pub fn caution_for(domain: crate::study::raw::Domain) -> &'static str {
+    match domain {
+        crate::study::raw::Domain::HydraulicMachinery => CAUTION,
+        crate::study::raw::Domain::General => CAUTION_GENERAL,
+    }
+}
+
 /// The result of assessing one study.
 #[derive(Debug, Clone, Serialize)]
 pub struct Assessment {
@@ -630,7 +645,7 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
         comparisons,
         fields,
         warnings,
-        caution: CAUTION.to_string(),
+        caution: caution_for(study.domain).to_string(),
         files_read: study
             .files_read
             .iter()

@@ -135,6 +135,8 @@ pub struct Study {
     pub dimension: u32,
     /// Formal order of the discretisation.
     pub formal_order: f64,
+    /// The field of the study (words the caution).
+    pub domain: raw::Domain,
     /// Meshes, finest first, with sizes and ratios.
     pub meshes: Vec<Mesh>,
     /// Whether sizes are absolute or relative to the finest mesh.
@@ -913,6 +915,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         title,
         dimension,
         formal_order: raw.formal_order.map_or(2.0, |p| p.0),
+        domain: raw.domain.unwrap_or_default(),
         meshes,
         size_basis,
         quantities,

@@ -20,6 +20,10 @@ pub struct RawStudy {
     /// Formal order of the discretisation.
     #[serde(default)]
     pub formal_order: Option<Positive>,
+    /// The field of the study, which words the caution every output carries (default
+    /// `hydraulic_machinery`).
+    #[serde(default)]
+    pub domain: Option<Domain>,
     /// The meshes, any order.
     pub meshes: Vec<RawMesh>,
     /// Scalar quantities by name.
@@ -40,6 +44,17 @@ pub struct RawStudy {
     /// Pointwise fields: probe files per mesh.
     #[serde(default)]
     pub fields: IndexMap<String, RawField>,
+}
+
+/// The field of a study.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, schemars::JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum Domain {
+    /// Pumps, turbines, pump-turbines and their cavitation (the caution speaks of machines).
+    #[default]
+    HydraulicMachinery,
+    /// Any other flow (a benchmark, a generic study): a caution without machines.
+    General,
 }
 
 /// A pointwise field as written (contract).
