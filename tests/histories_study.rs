@@ -259,3 +259,54 @@ fn assess_json(w: &Workdir, text: &str) -> Value {
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     serde_json::from_slice(&o.stdout).expect("JSON")
 }
+
+#[test]
+fn one_history_per_operating_point_reads_the_same_curve() {
+    // The same manufactured monitor (constant values per point) written once as one file and
+    // once as one file per operating point: the curves must be equal.
+    let w = Workdir::new();
+    let points = [(0.4, 0.9), (0.3, 0.9), (0.2, 0.89), (0.1, 0.8)];
+    let rows = |sigma: f64, eta: f64, from: usize| -> String {
+        (0..20)
+            .map(|k| format!("{} {sigma} {eta}\n", from + k))
+            .collect()
+    };
+    let mut whole = String::from("# Iteration sigma eta\n");
+    for (k, (sigma, eta)) in points.iter().enumerate() {
+        whole.push_str(&rows(*sigma, *eta, 1 + 20 * k));
+        w.write(
+            &format!("p{k}.dat"),
+            &format!("# Iteration sigma eta\n{}", rows(*sigma, *eta, 1)),
+        );
+    }
+    w.write("whole.dat", &whole);
+    let study = |data: &str| {
+        format!(
+            "format: 1
+meshes:
+  - {{name: A, size: 1.0}}
+  - {{name: B, size: 2.0}}
+  - {{name: C, size: 4.0}}
+sweeps:
+  cav:
+    x: sigma
+    responses: [eta]
+    history_reading: {{abscissa: Iteration, reduce: last}}
+    data:
+      A: {data}
+      B: {data}
+      C: {data}
+"
+        )
+    };
+    let one = assess_json(&w, &study("{history: whole.dat}"));
+    let many = assess_json(&w, &study("{histories: [p0.dat, p1.dat, p2.dat, p3.dat]}"));
+    assert_eq!(
+        one["sweeps"][0]["curves"][0]["responses"],
+        many["sweeps"][0]["curves"][0]["responses"]
+    );
+    assert_eq!(
+        many["sweeps"][0]["curves"][0]["x"],
+        serde_json::json!([0.1, 0.2, 0.3, 0.4])
+    );
+}

@@ -98,6 +98,9 @@ pub struct RawSweepData {
     /// A monitor history holding every operating point one after the other, relative to the
     /// study file (read with the sweep's `history_reading`).
     pub history: Option<String>,
+    /// Or one monitor history per operating point (each holding its point's rows; several
+    /// points per file are split as for `history`).
+    pub histories: Vec<String>,
     /// Inline columns.
     pub columns: IndexMap<String, Vec<f64>>,
 }
@@ -110,7 +113,7 @@ impl schemars::JsonSchema for RawSweepData {
         schemars::json_schema!({
             "type": "object",
             "description": "`file: path.csv` or `history: monitor file` (relative to the study file), or inline columns `name: [numbers]`",
-            "properties": {"file": {"type": "string"}, "history": {"type": "string"}},
+            "properties": {"file": {"type": "string"}, "history": {"type": "string"}, "histories": {"type": "array", "items": {"type": "string"}}},
             "additionalProperties": {"type": "array", "items": {"type": "number"}}
         })
     }
@@ -149,6 +152,8 @@ impl<'de> Deserialize<'de> for RawSweepData {
                         out.file = Some(map.next_value::<String>()?);
                     } else if key == "history" {
                         out.history = Some(map.next_value::<String>()?);
+                    } else if key == "histories" {
+                        out.histories = map.next_value::<Vec<String>>()?;
                     } else {
                         let col: Vec<Finite> = map.next_value()?;
                         out.columns
@@ -157,10 +162,11 @@ impl<'de> Deserialize<'de> for RawSweepData {
                 }
                 let given = usize::from(out.file.is_some())
                     + usize::from(out.history.is_some())
+                    + usize::from(!out.histories.is_empty())
                     + usize::from(!out.columns.is_empty());
                 if given > 1 {
                     return Err(de::Error::custom(
-                        "give one of `file`, `history` or inline columns",
+                        "give one of `file`, `history`, `histories` or inline columns",
                     ));
                 }
                 Ok(out)
@@ -968,20 +974,20 @@ pub fn check(
                 let fields = wanted.iter().cloned().zip(c.fields).collect();
                 src.csv = Some((p, c.lines, fields, c.format));
                 c.cols
-            } else if let Some(hf) = &d.history {
-                let p = base.join(hf);
-                reach
-                    .read(hf, &p)
-                    .map_err(|m| ctx.err(format!("{key}.history"), m))?;
+            } else if d.history.is_some() || !d.histories.is_empty() {
+                let (files, hkey): (Vec<&String>, String) = match &d.history {
+                    Some(h) => (vec![h], format!("{key}.history")),
+                    None => (d.histories.iter().collect(), format!("{key}.histories")),
+                };
                 let hr = s.history_reading.as_ref().ok_or_else(|| {
                     ctx.err(
-                        format!("{key}.history"),
+                        hkey.clone(),
                         format!("a sweep read from histories needs `sweeps.{name}.history_reading` with the iteration or time column (`abscissa`)"),
                     )
                 })?;
                 if s.mode.is_some() {
                     return Err(ctx.err(
-                        format!("{key}.history"),
+                        hkey.clone(),
                         "raw monitors (`mode`) are read from CSV files or inline columns, not from histories".into(),
                     ));
                 }
@@ -1006,29 +1012,45 @@ pub fn check(
                 };
                 let responses: Vec<crate::history::read::ColumnRef> =
                     s.responses.iter().map(|r| name_of(r)).collect();
-                let sh = super::sweep_history::read(
-                    &p,
-                    &name_of(&s.x),
-                    &hr.abscissa.to_ref(),
-                    &responses,
-                    &settings,
-                )
-                .map_err(|e| super::history_input::error_of(e, &format!("{key}.history"), ctx))?;
-                for w in &sh.warnings {
-                    warnings.push(
-                        crate::warning::Warning::new(
-                            &w.code,
-                            format!("mesh `{mname}`: {}", w.message),
-                        )
-                        .about(name),
-                    );
+                let mut xs = Vec::new();
+                let mut ys: Vec<Vec<f64>> = vec![Vec::new(); s.responses.len()];
+                noise = vec![Vec::new(); s.responses.len()];
+                for (k, hf) in files.iter().enumerate() {
+                    let fkey = if d.history.is_some() {
+                        hkey.clone()
+                    } else {
+                        format!("{hkey}[{k}]")
+                    };
+                    let p = base.join(hf);
+                    reach.read(hf, &p).map_err(|m| ctx.err(fkey.clone(), m))?;
+                    let sh = super::sweep_history::read(
+                        &p,
+                        &name_of(&s.x),
+                        &hr.abscissa.to_ref(),
+                        &responses,
+                        &settings,
+                    )
+                    .map_err(|e| super::history_input::error_of(e, &fkey, ctx))?;
+                    for w in &sh.warnings {
+                        warnings.push(
+                            crate::warning::Warning::new(
+                                &w.code,
+                                format!("mesh `{mname}`: {}", w.message),
+                            )
+                            .about(name),
+                        );
+                    }
+                    files_read.push(p.clone());
+                    xs.extend(sh.x.iter().copied());
+                    for (r, v) in sh.responses.iter().enumerate() {
+                        ys[r].extend(v.iter().copied());
+                        noise[r].extend(sh.noise[r].iter().copied());
+                    }
                 }
-                files_read.push(p.clone());
-                noise = sh.noise.clone();
                 let mut c = IndexMap::new();
-                c.insert(s.x.clone(), sh.x.clone());
-                for (r, v) in s.responses.iter().zip(&sh.responses) {
-                    c.insert(r.clone(), v.clone());
+                c.insert(s.x.clone(), xs);
+                for (r, v) in s.responses.iter().zip(ys) {
+                    c.insert(r.clone(), v);
                 }
                 c
             } else {
