@@ -31,8 +31,9 @@ pub struct TransferOptions {
     /// Number of nearest source points in each fit (at least the quadratic fit's unknowns:
     /// 6 in 2-D, 10 in 3-D; default twice that, 12 and 20).
     pub neighbours: usize,
-    /// A target farther than this multiple of the local source spacing from its nearest source
-    /// point is outside (default 2).
+    /// A target farther than this multiple of the local source spacing (the largest
+    /// nearest-neighbour distance among its neighbours) from its nearest source point is
+    /// outside (default 3).
     pub gap_factor: f64,
     /// A target beyond the bounding box of its neighbours by more than this multiple of the
     /// local source spacing, along any axis, is outside (default 1).
@@ -48,7 +49,7 @@ impl TransferOptions {
         let quadratic = quadratic_unknowns(d);
         Self {
             neighbours: 2 * quadratic,
-            gap_factor: 2.0,
+            gap_factor: 3.0,
             beyond_factor: 1.0,
             error_factor: 3.0,
         }
@@ -242,7 +243,12 @@ impl<const D: usize> Source<D> {
             return outside;
         };
         let nearest = first.item as usize;
-        let spacing = self.spacing[nearest];
+        // The local spacing: the largest nearest-neighbour spacing among the neighbours
+        // (robust to one pair of close points beside a target).
+        let spacing = found
+            .iter()
+            .map(|n| self.spacing[n.item as usize])
+            .fold(0.0, f64::max);
         let d1 = first.distance.sqrt();
         if d1 > options.gap_factor * spacing {
             return outside;
