@@ -90,6 +90,8 @@ pub(super) fn reconstruct<'a, const D: usize>(
 /// Solves the weighted least-squares problem on the first `n` basis functions of `rows`
 /// (basis, weight, value) through the normal equations with partial pivoting. `None` where
 /// there are fewer rows than unknowns or the normal matrix is (numerically) singular.
+// Index loops read as the textbook elimination.
+#[allow(clippy::needless_range_loop)]
 fn solve_weighted(
     rows: &[([f64; MAX_UNKNOWNS], f64, f64)],
     n: usize,

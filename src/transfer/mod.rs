@@ -255,14 +255,14 @@ impl<const D: usize> Source<D> {
         }
         // Beyond the neighbours' bounding box along some axis.
         let margin = options.beyond_factor * spacing;
-        for axis in 0..D {
+        for (axis, &t) in target.iter().enumerate() {
             let (lo, hi) = found
                 .iter()
                 .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), n| {
                     let c = self.points[n.item as usize][axis];
                     (lo.min(c), hi.max(c))
                 });
-            if target[axis] < lo - margin || target[axis] > hi + margin {
+            if t < lo - margin || t > hi + margin {
                 return outside;
             }
         }
