@@ -173,13 +173,13 @@ fn points_outside_the_source_are_reported_not_extrapolated() {
     let values = ring.iter().map(f2).collect();
     let source = Source::new(ring, values).unwrap();
     let hole = [[0.5, 0.5], [0.55, 0.45], [0.4, 0.5]];
-    let inside = [[0.5, 0.9], [0.1, 0.5], [0.5 + 0.28, 0.5]];
+    let inside = [[0.5, 0.9], [0.1, 0.5]];
     let r = source
         .transfer(&hole, &TransferOptions::for_dimension(2))
         .unwrap();
     assert!(r.iter().all(|t| t.status == PointStatus::Outside), "{r:?}");
     let r = source
-        .transfer(&inside[..2], &TransferOptions::for_dimension(2))
+        .transfer(&inside, &TransferOptions::for_dimension(2))
         .unwrap();
     assert!(r.iter().all(|t| t.status == PointStatus::Interior), "{r:?}");
     // The same source points as targets are never outside.
