@@ -64,6 +64,7 @@ pub mod sink;
 pub mod study;
 pub mod sweep;
 pub mod tabular;
+pub mod transfer;
 pub mod warning;
 pub mod water;
 
