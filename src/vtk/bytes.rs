@@ -50,16 +50,16 @@ impl Scalar {
     /// `unsigned_long` are read as 8 bytes (the size on 64-bit Linux; from memory).
     pub(crate) fn from_legacy(name: &str) -> Option<Scalar> {
         Some(match name.to_ascii_lowercase().as_str() {
-            "char" => Scalar::I8,
-            "unsigned_char" | "bit" => Scalar::U8,
-            "short" => Scalar::I16,
-            "unsigned_short" => Scalar::U16,
-            "int" => Scalar::I32,
-            "unsigned_int" => Scalar::U32,
+            "char" | "signed_char" | "vtktypeint8" => Scalar::I8,
+            "unsigned_char" | "bit" | "vtktypeuint8" => Scalar::U8,
+            "short" | "vtktypeint16" => Scalar::I16,
+            "unsigned_short" | "vtktypeuint16" => Scalar::U16,
+            "int" | "vtktypeint32" => Scalar::I32,
+            "unsigned_int" | "vtktypeuint32" => Scalar::U32,
             "long" | "vtktypeint64" | "vtkidtype" => Scalar::I64,
             "unsigned_long" | "vtktypeuint64" => Scalar::U64,
-            "float" => Scalar::F32,
-            "double" => Scalar::F64,
+            "float" | "vtktypefloat32" => Scalar::F32,
+            "double" | "vtktypefloat64" => Scalar::F64,
             _ => return None,
         })
     }
@@ -155,6 +155,15 @@ pub(crate) fn decode_indices(
         out.push(u64::from_le_bytes(b));
     }
     Ok(out)
+}
+
+/// One ASCII number: text of a 32-bit float type is rounded once, to the nearest `f32`.
+pub(crate) fn parse_number(text: &str, ty: Scalar) -> Option<f64> {
+    if ty == Scalar::F32 {
+        text.parse::<f32>().ok().map(f64::from)
+    } else {
+        text.parse::<f64>().ok()
+    }
 }
 
 pub(crate) fn floats_to_indices(v: &[f64]) -> Result<Vec<u64>, Fault> {

@@ -76,9 +76,8 @@ impl<'a> Cursor<'a> {
                     format!("the file ends after {i} of {count} values"),
                 )
             })?;
-            let v: f64 = w
-                .parse()
-                .map_err(|_| Fault::at(at, format!("{w:?} is not a number")))?;
+            let v = super::bytes::parse_number(w, ty)
+                .ok_or_else(|| Fault::at(at, format!("{w:?} is not a number")))?;
             out.push(v);
         }
         Ok(out)

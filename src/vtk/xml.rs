@@ -334,7 +334,7 @@ impl ArrayReader<'_> {
             .checked_mul(comps)
             .ok_or_else(|| Fault::new("the array size overflows"))?;
         let values = if da.attribute("format") == Some("ascii") {
-            let v = ascii_numbers(da.text().unwrap_or(""), count)?;
+            let v = ascii_numbers(da.text().unwrap_or(""), count, ty)?;
             if !ty.is_float() {
                 floats_to_indices(&v)?;
             }
@@ -357,7 +357,7 @@ impl ArrayReader<'_> {
     fn indices(&self, da: Node, count: usize) -> Result<Vec<u64>, Fault> {
         let ty = Self::scalar(da)?;
         if da.attribute("format") == Some("ascii") {
-            let v = ascii_numbers(da.text().unwrap_or(""), count)?;
+            let v = ascii_numbers(da.text().unwrap_or(""), count, ty)?;
             return floats_to_indices(&v);
         }
         let raw = self.binary(da)?;
@@ -372,15 +372,16 @@ impl ArrayReader<'_> {
     }
 }
 
-fn ascii_numbers(text: &str, count: usize) -> Result<Vec<f64>, Fault> {
+/// ASCII numbers; a `Float32` array's text is rounded to the nearest `f32` (as a reader that
+/// stores the declared type would), everything else parsed as `f64`.
+fn ascii_numbers(text: &str, count: usize, ty: Scalar) -> Result<Vec<f64>, Fault> {
     let mut out = Vec::with_capacity(count.min(1 << 20));
     for (i, tok) in text.split_ascii_whitespace().enumerate() {
         if i >= count {
             return Err(Fault::new(format!("more than the {count} values expected")));
         }
-        let v: f64 = tok
-            .parse()
-            .map_err(|_| Fault::new(format!("value {i} ({tok:?}) is not a number")))?;
+        let v = super::bytes::parse_number(tok, ty)
+            .ok_or_else(|| Fault::new(format!("value {i} ({tok:?}) is not a number")))?;
         out.push(v);
     }
     if out.len() != count {
