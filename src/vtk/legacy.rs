@@ -486,3 +486,36 @@ fn skip_metadata(c: &mut Cursor) {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    /// Binary polydata: big-endian floats and the 4.x cell list (manufactured: one triangle
+    /// and one line), plus a cell scalar without a lookup table line.
+    #[test]
+    fn binary_polydata_is_read() {
+        let mut b =
+            b"# vtk DataFile Version 3.0\nt\nBINARY\nDATASET POLYDATA\nPOINTS 3 float\n".to_vec();
+        for x in [0.0f32, 0.0, 0.0, 1.0, 0.0, 0.0, 0.0, 2.0, 0.0] {
+            b.extend(x.to_be_bytes());
+        }
+        b.extend(b"\nPOLYGONS 1 4\n");
+        for i in [3i32, 0, 1, 2] {
+            b.extend(i.to_be_bytes());
+        }
+        b.extend(b"\nLINES 1 3\n");
+        for i in [2i32, 0, 2] {
+            b.extend(i.to_be_bytes());
+        }
+        b.extend(b"\nCELL_DATA 2\nSCALARS q double\n");
+        for x in [1.5f64, -2.0] {
+            b.extend(x.to_be_bytes());
+        }
+        b.extend(b"\n");
+        let m = super::super::read_bytes(&b, "p.vtk").unwrap();
+        assert_eq!(m.points[2], [0.0, 2.0, 0.0]);
+        assert_eq!(m.connectivity, vec![0, 1, 2, 0, 2]);
+        assert_eq!(m.offsets, vec![3, 5]);
+        assert_eq!(m.types, vec![5, 3]);
+        assert_eq!(m.values("q").unwrap().values, vec![1.5, -2.0]);
+    }
+}

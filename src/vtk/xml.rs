@@ -392,3 +392,102 @@ fn ascii_numbers(text: &str, count: usize, ty: Scalar) -> Result<Vec<f64>, Fault
     }
     Ok(out)
 }
+
+#[cfg(test)]
+mod tests {
+    use base64::engine::general_purpose::STANDARD;
+    use base64::Engine;
+
+    /// A one-triangle grid whose arrays are given as (attributes, body) and an optional
+    /// appended section; the values are manufactured (points of a unit right triangle).
+    fn grid(arrays: [String; 4], head: &str, appended: &str) -> String {
+        format!(
+            "<?xml version=\"1.0\"?>\n<VTKFile type=\"UnstructuredGrid\" {head}>\
+             <UnstructuredGrid><Piece NumberOfPoints=\"3\" NumberOfCells=\"1\">\
+             <Points>{}</Points><Cells>{}{}{}</Cells></Piece></UnstructuredGrid>{appended}\
+             </VTKFile>",
+            arrays[0], arrays[1], arrays[2], arrays[3]
+        )
+    }
+
+    fn f64s_be(v: &[f64]) -> Vec<u8> {
+        v.iter().flat_map(|x| x.to_be_bytes()).collect()
+    }
+
+    const POINTS: [f64; 9] = [0.0, 0.0, 0.0, 1.0, 0.0, 0.0, 0.0, 1.0, 0.0];
+
+    /// Appended base64 data: each array's UInt32 header and data encoded separately, offsets
+    /// counted in characters (as VTK writes them).
+    #[test]
+    fn appended_base64_arrays_are_read() {
+        let blobs: [(Vec<u8>, &str, &str, u32); 4] = [
+            (
+                POINTS.iter().flat_map(|x| x.to_le_bytes()).collect(),
+                "Float64",
+                "Points",
+                3,
+            ),
+            (
+                [0i32, 1, 2].iter().flat_map(|x| x.to_le_bytes()).collect(),
+                "Int32",
+                "connectivity",
+                1,
+            ),
+            (3i32.to_le_bytes().to_vec(), "Int32", "offsets", 1),
+            (vec![5u8], "UInt8", "types", 1),
+        ];
+        let mut section = String::new();
+        let mut arrays: Vec<String> = Vec::new();
+        for (bytes, ty, name, comps) in &blobs {
+            arrays.push(format!(
+                "<DataArray type=\"{ty}\" Name=\"{name}\" NumberOfComponents=\"{comps}\" \
+                 format=\"appended\" offset=\"{}\"/>",
+                section.len()
+            ));
+            section.push_str(&STANDARD.encode((bytes.len() as u32).to_le_bytes()));
+            section.push_str(&STANDARD.encode(bytes));
+        }
+        let appended = format!("<AppendedData encoding=\"base64\">\n _{section}\n</AppendedData>");
+        let arrays: [String; 4] = arrays.try_into().unwrap();
+        let text = grid(arrays, "byte_order=\"LittleEndian\"", &appended);
+        let m = super::super::read_bytes(text.as_bytes(), "a.vtu").unwrap();
+        assert_eq!(m.points[1], [1.0, 0.0, 0.0]);
+        assert_eq!(m.connectivity, vec![0, 1, 2]);
+        assert_eq!((m.offsets.clone(), m.types.clone()), (vec![3], vec![5]));
+    }
+
+    /// Big-endian inline binary with a UInt64 header.
+    #[test]
+    fn big_endian_inline_binary_is_read() {
+        let enc = |bytes: Vec<u8>| {
+            let mut b = (bytes.len() as u64).to_be_bytes().to_vec();
+            b.extend(bytes);
+            STANDARD.encode(b)
+        };
+        let da = |ty: &str, name: &str, comps: u32, body: String| {
+            format!(
+                "<DataArray type=\"{ty}\" Name=\"{name}\" NumberOfComponents=\"{comps}\" \
+                 format=\"binary\">{body}</DataArray>"
+            )
+        };
+        let arrays = [
+            da("Float64", "Points", 3, enc(f64s_be(&POINTS))),
+            da(
+                "Int64",
+                "connectivity",
+                1,
+                enc([0i64, 2, 1].iter().flat_map(|x| x.to_be_bytes()).collect()),
+            ),
+            da("Int64", "offsets", 1, enc(3i64.to_be_bytes().to_vec())),
+            da("UInt8", "types", 1, enc(vec![5])),
+        ];
+        let text = grid(
+            arrays,
+            "byte_order=\"BigEndian\" header_type=\"UInt64\"",
+            "",
+        );
+        let m = super::super::read_bytes(text.as_bytes(), "b.vtu").unwrap();
+        assert_eq!(m.points[2], [0.0, 1.0, 0.0]);
+        assert_eq!(m.connectivity, vec![0, 2, 1]);
+    }
+}
