@@ -512,7 +512,10 @@ mod tests {
         }
         b.extend(b"\n");
         let m = super::super::read_bytes(&b, "p.vtk").unwrap();
-        assert_eq!(m.points[2], [0.0, 2.0, 0.0]);
+        assert_eq!(
+            m.points[2].map(f64::to_bits),
+            [0.0, 2.0, 0.0].map(f64::to_bits)
+        );
         assert_eq!(m.connectivity, vec![0, 1, 2, 0, 2]);
         assert_eq!(m.offsets, vec![3, 5]);
         assert_eq!(m.types, vec![5, 3]);

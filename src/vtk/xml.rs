@@ -451,7 +451,10 @@ mod tests {
         let arrays: [String; 4] = arrays.try_into().unwrap();
         let text = grid(arrays, "byte_order=\"LittleEndian\"", &appended);
         let m = super::super::read_bytes(text.as_bytes(), "a.vtu").unwrap();
-        assert_eq!(m.points[1], [1.0, 0.0, 0.0]);
+        assert_eq!(
+            m.points[1].map(f64::to_bits),
+            [1.0, 0.0, 0.0].map(f64::to_bits)
+        );
         assert_eq!(m.connectivity, vec![0, 1, 2]);
         assert_eq!((m.offsets.clone(), m.types.clone()), (vec![3], vec![5]));
     }
@@ -487,7 +490,10 @@ mod tests {
             "",
         );
         let m = super::super::read_bytes(text.as_bytes(), "b.vtu").unwrap();
-        assert_eq!(m.points[2], [0.0, 1.0, 0.0]);
+        assert_eq!(
+            m.points[2].map(f64::to_bits),
+            [0.0, 1.0, 0.0].map(f64::to_bits)
+        );
         assert_eq!(m.connectivity, vec![0, 2, 1]);
     }
 }
