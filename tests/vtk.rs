@@ -246,7 +246,7 @@ fn same_bits(a: &Mesh, b: &Mesh) -> bool {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(64))]
+    #![proptest_config(ProptestConfig::with_cases(256))]
 
     /// Write → read gives the mesh back bit for bit (NaN payloads and infinities too), in
     /// every encoding (manufactured data).

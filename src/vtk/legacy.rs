@@ -202,7 +202,7 @@ pub(crate) fn read(bytes: &[u8]) -> Result<Mesh, Fault> {
                         let n = o.saturating_sub(start);
                         mesh.types.push(poly_type(&key, n));
                     }
-                    mesh.offsets.push(base + o);
+                    mesh.offsets.push(base.saturating_add(o));
                     start = o;
                 }
                 mesh.connectivity.extend(conn);
