@@ -18,7 +18,7 @@
 //! [`compare`] the ASME V&V 20 comparison, [`water`] and [`machine`] IAPWS-IF97 properties and
 //! hydraulic machine quantities, [`field`] the streamed per-point estimate, [`history`] monitor
 //! histories reduced to a value with its statistical and iterative uncertainty, [`gate`] and
-//! [`plan`] acceptance limits and mesh planning.
+//! [`plan`] acceptance limits and mesh planning, [`vtk`] VTK files read and written.
 //!
 //! # Example
 //!
@@ -65,6 +65,7 @@ pub mod study;
 pub mod sweep;
 pub mod tabular;
 pub mod transfer;
+pub mod vtk;
 pub mod warning;
 pub mod water;
 
