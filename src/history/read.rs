@@ -267,12 +267,48 @@ pub fn read_history_from<R: Read>(
         decimal: opts.decimal,
     };
     let t = read_table_from(reader, path, &table)?;
+    Ok(series_of(t, path, opts.abscissa.is_some()))
+}
+
+/// Reads `opts.column − minus`, row by row (a row missing either is left out of both), with
+/// the abscissa when `opts` asks for one: for example a pressure difference between two probes.
+pub fn read_difference(
+    path: &Path,
+    opts: &ReadOptions,
+    minus: &ColumnRef,
+) -> Result<Series, HistoryError> {
+    let file = crate::input::open_regular(path).map_err(|source| HistoryError::Io {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    let table = TableOptions {
+        columns: [opts.column.clone(), minus.clone()]
+            .into_iter()
+            .chain(opts.abscissa.clone())
+            .collect(),
+        separator: opts.separator,
+        decimal: opts.decimal,
+    };
+    let mut t = read_table_from(file, path, &table)?;
+    let minus_values = t.columns.remove(1);
+    let minus_name = t.names.remove(1);
+    t.units.remove(1);
+    for (a, b) in t.columns[0].iter_mut().zip(&minus_values) {
+        *a -= b;
+    }
+    t.names[0] = format!("{} − {minus_name}", t.names[0]);
+    Ok(series_of(t, path, opts.abscissa.is_some()))
+}
+
+/// The first column of a table as a series, with the second as its abscissa when there is one
+/// (warning `abscissa_not_increasing` where it does not increase).
+fn series_of(t: Table, path: &Path, with_abscissa: bool) -> Series {
     let mut cols = t.columns.into_iter();
     let mut names = t.names.into_iter();
     let values = cols.next().unwrap_or_default();
     let column = names.next().unwrap_or_default();
-    let abscissa = opts.abscissa.as_ref().and(cols.next());
-    let abscissa_name = opts.abscissa.as_ref().and(names.next());
+    let abscissa = cols.next().filter(|_| with_abscissa);
+    let abscissa_name = names.next().filter(|_| with_abscissa);
     let mut warnings = t.warnings;
     if let Some(x) = &abscissa {
         if let Some(i) = x.windows(2).position(|w| w[1] <= w[0]) {
@@ -290,7 +326,7 @@ pub fn read_history_from<R: Read>(
             ));
         }
     }
-    Ok(Series {
+    Series {
         path: t.path,
         column,
         unit: t.units.into_iter().next().flatten(),
@@ -302,7 +338,7 @@ pub fn read_history_from<R: Read>(
         decimal_comma: t.decimal_comma,
         skipped_lines: t.skipped_lines,
         warnings,
-    })
+    }
 }
 
 /// Calls `f` with each line (1-based number, bytes without the line end, whether a line end

@@ -14,7 +14,7 @@ use super::raw::{RawHistory, RawReduction};
 use super::reach::Reach;
 use super::{At, StudyError};
 use crate::grid::Mesh;
-use crate::history::read::{ColumnRef, ReadOptions};
+use crate::history::read::ReadOptions;
 use crate::history::{self, HistoryError, HistoryResult, HistorySettings, Reduction, Status};
 use std::path::{Path, PathBuf};
 
@@ -95,43 +95,6 @@ pub fn error_of(e: HistoryError, key: &str, at: &At<'_>) -> StudyError {
     }
 }
 
-/// The series `read.column − minus`, row by row (a row missing either is left out), with the
-/// abscissa when one is asked for.
-fn difference(
-    file: &Path,
-    read: &ReadOptions,
-    minus: &ColumnRef,
-) -> Result<history::read::Series, HistoryError> {
-    let mut columns = vec![read.column.clone(), minus.clone()];
-    columns.extend(read.abscissa.clone());
-    let t = history::read::read_table(
-        file,
-        &history::read::TableOptions {
-            columns,
-            separator: read.separator,
-            decimal: read.decimal,
-        },
-    )?;
-    let values: Vec<f64> = t.columns[0]
-        .iter()
-        .zip(&t.columns[1])
-        .map(|(a, b)| a - b)
-        .collect();
-    Ok(history::read::Series {
-        path: t.path.clone(),
-        column: format!("{} − {}", t.names[0], t.names[1]),
-        unit: t.units[0].clone(),
-        abscissa_name: t.names.get(2).cloned(),
-        values,
-        abscissa: t.columns.get(2).cloned(),
-        columns: t.header.clone(),
-        separator: t.separator,
-        decimal_comma: t.decimal_comma,
-        skipped_lines: t.skipped_lines.clone(),
-        warnings: t.warnings.clone(),
-    })
-}
-
 /// Reads and reduces the history of every mesh of quantity `qname`. Every mesh needs a file;
 /// no other names are allowed; each file must lie where the study may read.
 pub fn read(
@@ -188,9 +151,8 @@ pub fn read(
             None => {
                 history::read::read_history(&file, &read).map_err(|e| error_of(e, &mkey, at))?
             }
-            Some(minus) => {
-                difference(&file, &read, &minus.to_ref()).map_err(|e| error_of(e, &mkey, at))?
-            }
+            Some(minus) => history::read::read_difference(&file, &read, &minus.to_ref())
+                .map_err(|e| error_of(e, &mkey, at))?,
         };
         let mut r = history::analyse(&series, &settings).map_err(|e| error_of(e, &mkey, at))?;
         keep_relevant_warnings(&mut r);
