@@ -3,6 +3,7 @@
 //! Nothing here reads files or prints. Inputs are always ordered finest mesh first.
 
 pub mod least_squares;
+pub mod point;
 pub mod rules;
 pub mod three_grid;
 pub mod three_grid_fast;
