@@ -3,6 +3,7 @@
 
 pub mod bundle;
 pub mod csv;
+pub mod duty;
 pub mod format;
 pub mod html;
 pub mod json;

@@ -6,6 +6,7 @@
 //! [`StudyError`] naming the file, the key path and, where known, the line and column.
 
 pub mod csv_input;
+pub mod duty;
 pub mod history_input;
 pub mod keys;
 pub mod num;
@@ -153,6 +154,8 @@ pub struct Study {
     pub acceptance: Vec<raw::RawAcceptance>,
     /// Measurements to compare with.
     pub references: Vec<reference::Reference>,
+    /// Duty curves: sweeps at several flows assembled against the flow.
+    pub duty_curves: Vec<duty::DutyCurve>,
     /// Pointwise fields, with the indices of the three finest meshes they cover.
     pub fields: Vec<(crate::field::FieldSpec, [usize; 3])>,
     /// Files the study makes meshbound write (field per-point results).
@@ -826,6 +829,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         &mut files_read,
         &mut warnings,
     )?;
+    let duty_curves = duty::check(&raw.duty_curves, &sweeps, &at)?;
     let mut fields = Vec::new();
     let mut files_written = Vec::new();
     for (fname, f) in &raw.fields {
@@ -933,6 +937,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         },
         references,
         sweeps,
+        duty_curves,
         fields,
         files_written,
         files_read,
