@@ -66,6 +66,7 @@
 
 mod align;
 mod parse;
+pub mod profile;
 mod read;
 mod summary;
 mod write;

@@ -4,6 +4,7 @@
 pub mod bundle;
 pub mod csv;
 pub mod duty;
+pub mod field_line;
 pub mod format;
 pub mod html;
 pub mod json;
