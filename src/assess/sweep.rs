@@ -200,6 +200,36 @@ pub struct BandSummary {
     pub median_order: Option<f64>,
     /// Number of points whose order enters the mean and the median.
     pub order_points: usize,
+    /// The variation of the response along the band: the largest minus the smallest
+    /// finest-mesh value over the band points (`None` without points).
+    pub variation: Option<f64>,
+    /// The abscissae of the points whose U exceeds [`Self::variation`]: there the band cannot
+    /// tell the curve's shape apart (warning `band_wider_than_variation`; docs/method.md,
+    /// "Uncertainty too wide to conclude").
+    pub wider_than_variation: Vec<f64>,
+}
+
+/// The abscissae of the band points whose U exceeds the variation of the response along the
+/// band (largest minus smallest value of the finest mesh). A band without variation (every
+/// value equal) has none: its shape is flat, and U is judged by the quantity limits alone.
+pub fn wider_than_variation(points: &[BandPoint]) -> (Option<f64>, Vec<f64>) {
+    let (lo, hi) = points.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), p| {
+        (l.min(p.value), h.max(p.value))
+    });
+    if points.is_empty() {
+        return (None, Vec::new());
+    }
+    let variation = hi - lo;
+    let wide = if variation > 0.0 {
+        points
+            .iter()
+            .filter(|p| p.absolute.is_some_and(|u| u > variation))
+            .map(|p| p.x)
+            .collect()
+    } else {
+        Vec::new()
+    };
+    (Some(variation), wide)
 }
 
 /// The band along one response.
@@ -595,6 +625,8 @@ fn band_not_computed(
             mean_order: None,
             median_order: None,
             order_points: 0,
+            variation: None,
+            wider_than_variation: Vec::new(),
         },
         point_warnings: Vec::new(),
         points_outside_range: skipped,
@@ -775,6 +807,24 @@ fn band(
         &format!("{}.band.{}", s.name, b.response),
         "band",
     ));
+    let (variation, wide) = wider_than_variation(&points);
+    if let (Some(v), false) = (variation, wide.is_empty()) {
+        warnings.push(
+            Warning::new(
+                crate::warning::BAND_WIDER_THAN_VARIATION,
+                format!(
+                    "U exceeds the variation of {} along the band ({}, the largest minus the smallest value of the finest mesh) at {} of {} points ({} = {}): the band cannot tell the curve's shape apart there, and its summary supports no conclusion about it",
+                    b.response,
+                    sweep::fmt_num(v),
+                    wide.len(),
+                    points.len(),
+                    s.x,
+                    first_places(&wide)
+                ),
+            )
+            .about(&subject),
+        );
+    }
     BandResult {
         response: b.response.clone(),
         interpolation: b.interpolation,
@@ -794,11 +844,22 @@ fn band(
             mean_order: point_warnings::mean(&orders),
             order_points: orders.len(),
             median_order: point_warnings::median(orders),
+            variation,
+            wider_than_variation: wide,
         },
         points,
         point_warnings,
         points_outside_range: skipped,
         not_computed: None,
+    }
+}
+
+/// The first five abscissae of a list, then "… and N more".
+pub(crate) fn first_places(xs: &[f64]) -> String {
+    let shown: Vec<String> = xs.iter().take(5).map(|x| sweep::fmt_num(*x)).collect();
+    match xs.len().saturating_sub(5) {
+        0 => shown.join(", "),
+        more => format!("{} … and {more} more", shown.join(", ")),
     }
 }
 

@@ -346,7 +346,7 @@ fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
             Some(nc) => format!("is {}", nc.text()),
             None => {
                 let (xv, xt) = figure(&b.x_estimate, String::new());
-                format!("lies at {x}_b = {xv}, {xt}")
+                format!("lies at {} = {xv}, {xt}", super::table::subscript_b(x))
             }
         };
         let reference = match &b.reference_estimate.not_computed {

@@ -346,6 +346,15 @@ pub fn symbol(name: &str) -> &str {
     }
 }
 
+/// The breakdown subscript on an abscissa's symbol, before a unit in brackets when the name
+/// carries one: `σ` → `σ_b`, `NPSH [m]` → `NPSH_b [m]`.
+pub fn subscript_b(symbol: &str) -> String {
+    match symbol.trim_end().strip_suffix(']').and_then(|s| s.rsplit_once(" [")) {
+        Some((name, unit)) => format!("{name}_b [{unit}]"),
+        None => format!("{symbol}_b"),
+    }
+}
+
 /// Describes a breakdown rule in words (`x`: the sweep's abscissa; a breakdown read against
 /// another abscissa, NPSH, says so).
 pub fn breakdown_rule(b: &crate::assess::sweep::BreakdownResult, x: &str) -> String {
@@ -411,8 +420,8 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
     for b in &s.breakdown {
         out.push_str(&format!("\n  breakdown: {}\n", breakdown_rule(b, &s.x)));
         out.push_str(&format!(
-            "    {}_b = {}\n",
-            symbol(&b.abscissa),
+            "    {} = {}\n",
+            subscript_b(symbol(&b.abscissa)),
             statement(&b.x_estimate)
         ));
         out.push_str(&format!(
@@ -504,7 +513,8 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
         out.push_str(&format!("{t}\n"));
         if step > 1 {
             out.push_str(&format!(
-                "  every {step}th point shown; all {n} are in the JSON and CSV outputs\n"
+                "  every {} point shown; all {n} are in the JSON and CSV outputs\n",
+                super::format::ordinal(step)
             ));
         }
         point_warnings_block(
