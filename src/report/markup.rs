@@ -289,7 +289,7 @@ fn results_table_column(a: &Assessment) -> TableBlock {
             u,
             Cell::percent(q.uncertainty.as_ref().and_then(|u| u.relative)),
             Cell::num(governing_order(q).map(|p| sig(p, 4))),
-            Cell::num(governing_extrapolated(q).map(|x| sig(x, 7))),
+            Cell::num(governing_extrapolated(q).map(|x| sig(x, 6))),
         ]);
     }
     t
