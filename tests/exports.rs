@@ -84,6 +84,44 @@ fn csv_matches_the_golden_file_and_the_json_figures() {
     let got: f64 = head_b[col("absolute")].parse().unwrap();
     // Full precision: the very double of the JSON result.
     assert_relative_eq!(got, want, epsilon = 0.0, max_relative = 0.0);
+    // One comparison_point row per compared point, with the JSON's figures and verdicts.
+    let comparisons = v["comparisons"].as_array().unwrap();
+    let points: Vec<&serde_json::Value> = comparisons
+        .iter()
+        .flat_map(|c| c["points"].as_array().unwrap())
+        .collect();
+    let cmp: Vec<&csv::StringRecord> = rows
+        .iter()
+        .filter(|r| &r[0] == "comparison_point")
+        .collect();
+    assert_eq!(cmp.len(), points.len());
+    for (r, p) in cmp.iter().zip(&points) {
+        for (c, k) in [
+            ("value", "simulation"),
+            ("reference_value", "measured"),
+            ("comparison_error", "error"),
+            ("u_val", "u_val"),
+        ] {
+            let got: f64 = r[col(c)].parse().unwrap();
+            assert_relative_eq!(
+                got,
+                p[k].as_f64().unwrap(),
+                epsilon = 0.0,
+                max_relative = 0.0
+            );
+        }
+    }
+    let carried: usize = comparisons
+        .iter()
+        .map(|c| c["carried_by_u_num"].as_array().map_or(0, Vec::len))
+        .sum();
+    assert!(carried > 0, "the demo has points carried by u_num");
+    assert_eq!(
+        cmp.iter()
+            .filter(|r| &r[col("agreement")] == "by_u_num")
+            .count(),
+        carried
+    );
 }
 
 #[test]

@@ -38,7 +38,10 @@ fn tables(fragment: &str) -> Vec<String> {
 
 /// Points from a TeX dimension as `\the` writes it (`229.5pt`).
 fn pt(s: &str) -> f64 {
-    s.trim().trim_end_matches("pt").parse().expect("a TeX dimension")
+    s.trim()
+        .trim_end_matches("pt")
+        .parse()
+        .expect("a TeX dimension")
 }
 
 /// The two-column test document: the fragment as it would sit in a paper, then every table
@@ -96,7 +99,10 @@ fn latex_tables_of_every_example_study_fit_one_column_of_a_two_column_page() {
         let name = study.file_name().unwrap().to_string_lossy().to_string();
         assert!(o.status.success(), "pdflatex failed on {name}\n{log}");
         // No box of the page overflows: tables, paragraphs, lists (the amount is in the log).
-        let overfull: Vec<&str> = log.lines().filter(|l| l.contains("Overfull \\hbox")).collect();
+        let overfull: Vec<&str> = log
+            .lines()
+            .filter(|l| l.contains("Overfull \\hbox"))
+            .collect();
         assert!(overfull.is_empty(), "{name}: {overfull:#?}");
         assert!(!log.contains("X Columns too narrow"), "{name}: {log}");
         let column = log
@@ -122,7 +128,10 @@ fn latex_tables_of_every_example_study_fit_one_column_of_a_two_column_page() {
             widths.len()
         );
         for (i, wd) in widths.iter().enumerate() {
-            assert!(*wd <= column + 0.01, "{name}: table {i} is {wd} pt wide, the column {column} pt");
+            assert!(
+                *wd <= column + 0.01,
+                "{name}: table {i} is {wd} pt wide, the column {column} pt"
+            );
         }
         if max > widest.0 {
             widest = (max, name);

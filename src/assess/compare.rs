@@ -348,10 +348,7 @@ fn carried(
         return Vec::new();
     }
     let xs: Vec<f64> = pts.iter().map(|p| p.x).collect();
-    let largest = pts
-        .iter()
-        .filter_map(|p| p.u_num)
-        .fold(0.0_f64, f64::max);
+    let largest = pts.iter().filter_map(|p| p.u_num).fold(0.0_f64, f64::max);
     let at = x.map_or(String::new(), |x| {
         format!(" ({x} = {})", super::sweep::first_places(&xs))
     });
@@ -380,4 +377,51 @@ fn common_range(sw: &crate::study::sweep::Sweep) -> (f64, f64) {
         .map(|c| (c.x[0], c.x[c.x.len() - 1]))
         .collect();
     crate::sweep::overlap(&ranges).unwrap_or((f64::NAN, f64::NAN))
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::report::markup::fixture;
+
+    /// drag = 10 + 0.1 h² on h = 1, 2, 4 (analytic manufactured data: order 2, δ_RE = 0.1),
+    /// compared with D = 10.0, so E = S − D = 0.1 exactly; k = 2 (the default).
+    fn study(u_d: f64) -> String {
+        format!(
+            "format: 1
+title: manufactured comparison
+meshes:
+  - {{name: h1, size: 1.0}}
+  - {{name: h2, size: 2.0}}
+  - {{name: h4, size: 4.0}}
+quantities:
+  drag:
+    values: {{h1: 10.1, h2: 10.4, h4: 11.6}}
+reference_data:
+  drag: {{value: 10.0, u_measured: {u_d}}}
+"
+        )
+    }
+
+    #[test]
+    fn an_agreement_that_rests_on_u_num_is_flagged() {
+        // u_D = 0.01: k·u_D = 0.02 < |E| = 0.1, so only u_num can make the point agree.
+        let a = fixture::assess(&study(0.01));
+        let c = &a.comparisons[0];
+        let p = &c.comparison.points[0];
+        assert!((p.error - 0.1).abs() < 1e-12);
+        assert_eq!(p.within, Some(true), "{p:?}");
+        assert_eq!(c.carried_by_u_num, [0.0]);
+        assert!(a
+            .warnings
+            .iter()
+            .any(|w| w.code == crate::warning::COMPARISON_CARRIED_BY_U_NUM));
+        let checks = crate::gate::check(&a, &[]).expect("no limits");
+        assert!(checks.iter().any(|c| !c.passed && c.target == "drag"));
+        // u_D = 0.06: k·u_D = 0.12 ≥ |E| = 0.1, the reference's own uncertainty covers E.
+        let a = fixture::assess(&study(0.06));
+        let c = &a.comparisons[0];
+        assert_eq!(c.comparison.points[0].within, Some(true));
+        assert!(c.carried_by_u_num.is_empty());
+        assert!(crate::gate::check(&a, &[]).expect("no limits").is_empty());
+    }
 }

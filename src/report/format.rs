@@ -238,7 +238,19 @@ mod tests {
     #[test]
     fn ordinals_follow_english_usage() {
         // English spelling of ordinals (a fact of the language, no source needed)
-        for (n, w) in [(1, "1st"), (2, "2nd"), (3, "3rd"), (4, "4th"), (11, "11th"), (12, "12th"), (13, "13th"), (21, "21st"), (22, "22nd"), (102, "102nd"), (111, "111th")] {
+        for (n, w) in [
+            (1, "1st"),
+            (2, "2nd"),
+            (3, "3rd"),
+            (4, "4th"),
+            (11, "11th"),
+            (12, "12th"),
+            (13, "13th"),
+            (21, "21st"),
+            (22, "22nd"),
+            (102, "102nd"),
+            (111, "111th"),
+        ] {
             assert_eq!(super::ordinal(n), w);
         }
     }

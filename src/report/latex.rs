@@ -170,9 +170,12 @@ pub fn prose(text: &str) -> String {
                         .unwrap_or(part.len());
                     let core_end = part
                         .rfind(|c: char| !matches!(c, ',' | '.' | ';' | ':' | ')' | ']'))
-                        .map_or(start, |i| i + part[i..].chars().next().map_or(1, char::len_utf8));
+                        .map_or(start, |i| {
+                            i + part[i..].chars().next().map_or(1, char::len_utf8)
+                        });
                     let core_end = core_end.max(start);
-                    let (pre, core, post) = (&part[..start], &part[start..core_end], &part[core_end..]);
+                    let (pre, core, post) =
+                        (&part[..start], &part[start..core_end], &part[core_end..]);
                     match symbol_math(core) {
                         Some(m) => format!("{}{m}{}", escape(pre), escape(post)),
                         // identifiers break after their underscores
@@ -205,13 +208,14 @@ fn header(h: &str) -> String {
     }
 }
 
-/// Text set in a typewriter font, breakable after `/`, `_`, `.` and `-` so that a long path
-/// does not run into the margin.
+/// Text set in a typewriter font; a long one (a path, beyond 24 characters) breakable after
+/// `/`, `_`, `.` and `-` so that it does not run into the margin of a column.
 fn code(t: &str) -> String {
     let mut out = String::from("\\texttt{");
+    let long = t.chars().count() > 24;
     for c in t.chars() {
         out.push_str(&escape(&c.to_string()));
-        if matches!(c, '/' | '_' | '.' | '-') {
+        if long && matches!(c, '/' | '_' | '.' | '-') {
             out.push_str("\\allowbreak{}");
         }
     }
@@ -346,12 +350,26 @@ mod tests {
     }
 
     #[test]
-    fn numbers_go_through_siunitx() {
-        assert_eq!(cell(&Cell::Num("0.90930".into())), "\\num{0.90930}");
-        assert_eq!(cell(&Cell::Num("1.50e-7".into())), "\\num{1.50e-7}");
-        assert_eq!(cell(&Cell::Percent(0.004123)), "\\num{0.412}\\,\\%");
+    fn numbers_and_symbols_are_math() {
+        assert_eq!(cell(&Cell::Num("0.90930".into())), "$0.90930$");
+        assert_eq!(cell(&Cell::Num("1.50e-7".into())), "$1.50\\times10^{-7}$");
+        assert_eq!(cell(&Cell::Num("2.5e12".into())), "$2.5\\times10^{12}$");
+        assert_eq!(cell(&Cell::Percent(0.004123)), "$0.412$\\,\\%");
+        assert_eq!(cell(&Cell::Num("0.00334 *".into())), "$0.00334$\\rlap{*}");
         assert_eq!(cell(&Cell::Missing), "--");
         assert_eq!(cell(&Cell::Num("not a number".into())), "not a number");
+        assert_eq!(
+            prose("ratios r21 = 1.329 and r11,10 = 2, Fs = 1.25, σ_b = 0.164 (NPSH_b)."),
+            "ratios $r_{21}$ = 1.329 and $r_{11,10}$ = 2, $F_\\mathrm{s}$ = 1.25, $\\sigma_\\mathrm{b}$ = 0.164 ($\\mathrm{NPSH}_\\mathrm{b}$)."
+        );
+        assert_eq!(
+            prose("|E| ≤ k·u_val"),
+            "$|E|$ \\ensuremath{\\leq} $k$\\ensuremath{\\cdot}$u_\\mathrm{val}$"
+        );
+        // ordinary words stay words: "run", "rate", "p2"
+        assert_eq!(prose("run rate p2 r2"), "run rate p2 r2");
+        assert_eq!(header("|E| ≤ k u_val"), "$|E|\\le k\\,u_\\mathrm{val}$");
+        assert_eq!(header("U_I"), "$U_\\mathrm{I}$");
     }
 
     #[test]
@@ -360,21 +378,24 @@ mod tests {
         let text = String::from_utf8(Latex.export(&a)).unwrap();
         let count = |s: &str| text.matches(s).count();
         // meshes, results, the published rules, breakdown summary and per mesh, band, the
-        // band's point warnings
-        assert_eq!(count("\\begin{tabular}"), 7);
-        for rule in ["\\toprule", "\\midrule", "\\bottomrule", "\\end{tabular}"] {
+        // band's point warnings: each has a text column, so each is a tabularx
+        assert_eq!(count("\\begin{tabularx}{\\columnwidth}"), 7);
+        for rule in ["\\toprule", "\\midrule", "\\bottomrule", "\\end{tabularx}"] {
             assert_eq!(count(rule), 7, "{rule}");
         }
         assert_eq!(count("\\begin{"), count("\\end{"));
+        assert!(!text.contains("\\num{") && !text.contains("siunitx"));
         assert!(text.contains("\\section*{Demo runner \\& draft tube\\_test (invented) 100\\%}"));
         assert!(
-            text.contains("M\\_fine & \\num{2000000} & \\num{1} & -- \\\\"),
+            text.contains("M\\_\\allowbreak{}fine & $2000000$ & $1$ & -- \\\\"),
             "{text}"
         );
-        // every row of a tabular has as many cells as its column spec
-        for block in text.split("\\begin{tabular}{").skip(1) {
-            let spec_len = block.find('}').unwrap_or(0);
-            let body = &block[..block.find("\\end{tabular}").unwrap_or(block.len())];
+        // every row of a table has as many cells as its column spec
+        for block in text.split("\\begin{tabularx}{\\columnwidth}{").skip(1) {
+            let spec = block[..block.find("}\n").unwrap_or(0)]
+                .replace(">{\\raggedright\\arraybackslash\\hspace{0pt}}X", "X");
+            let spec_len = spec.chars().count();
+            let body = &block[..block.find("\\end{tabularx}").unwrap_or(block.len())];
             for line in body.lines().filter(|l| l.ends_with("\\\\")) {
                 let cols = line.replace("\\&", "").matches('&').count() + 1;
                 assert_eq!(cols, spec_len, "{line}");

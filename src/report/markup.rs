@@ -606,7 +606,11 @@ fn breakdown_summary_column(s: &SweepResult) -> TableBlock {
         let (x, ux) = value_and_u(&b.x_estimate);
         let (r, ur) = value_and_u(&b.reference_estimate);
         t.rows.push(vec![
-            Cell::text(format!("({}) {}", i + 1, super::table::subscript_b(symbol(&b.abscissa)))),
+            Cell::text(format!(
+                "({}) {}",
+                i + 1,
+                super::table::subscript_b(symbol(&b.abscissa))
+            )),
             x,
             ux,
             r,
@@ -843,7 +847,8 @@ fn comparison_blocks(
     }
     if !c.points_outside_range.is_empty() {
         out.push(Block::Paragraph(vec![text(format!(
-            "Measured points outside the range common to all meshes, not computed there: {x} = {}.",
+            "{} outside the range common to all meshes, not computed there: {x} = {}.",
+            points_word(c.origin, true),
             c.points_outside_range
                 .iter()
                 .map(|v| num(*v, 6))
@@ -879,12 +884,17 @@ fn comparison_blocks(
     }
     if c.kind == "sweep" {
         out.push(Block::Paragraph(vec![text(format!(
-            "Observed order of the pointwise estimates at the measured points: {} (orders on a search bound, not found or not demonstrated left out).",
+            "Observed order of the pointwise estimates at the {}: {} (orders on a search bound, not found or not demonstrated left out).",
+            points_word(c.origin, false),
             orders(c.mean_order, c.median_order, c.order_points as u64)
         ))]));
     }
     let warned = point_warnings_table(
-        format!("Warnings at the measured points of {}", c.name),
+        format!(
+            "Warnings at the {} of {}",
+            points_word(c.origin, false),
+            c.name
+        ),
         &c.point_warnings,
         cm.points.len() as u64,
         &format!("at {x}"),
@@ -976,6 +986,17 @@ fn comparison_blocks(
     out.extend(warned);
 }
 
+/// The points of a comparison's data: "measured points" or "reference points" (capitalised
+/// at the start of a sentence).
+fn points_word(o: crate::study::reference::Origin, capital: bool) -> &'static str {
+    match (o, capital) {
+        (crate::study::reference::Origin::Measurement, false) => "measured points",
+        (crate::study::reference::Origin::Measurement, true) => "Measured points",
+        (crate::study::reference::Origin::Benchmark, false) => "reference points",
+        (crate::study::reference::Origin::Benchmark, true) => "Reference points",
+    }
+}
+
 /// What a comparison's data are, after "with": measurements or a published reference
 /// solution.
 fn data_phrase(o: crate::study::reference::Origin) -> &'static str {
@@ -989,8 +1010,14 @@ fn data_phrase(o: crate::study::reference::Origin) -> &'static str {
 fn columns_of(t: &TableBlock, keep: &[usize], what: &str) -> TableBlock {
     TableBlock {
         caption: format!("{}: {what}", t.caption),
-        headers: keep.iter().filter_map(|&i| t.headers.get(i).cloned()).collect(),
-        align: keep.iter().filter_map(|&i| t.align.get(i).copied()).collect(),
+        headers: keep
+            .iter()
+            .filter_map(|&i| t.headers.get(i).cloned())
+            .collect(),
+        align: keep
+            .iter()
+            .filter_map(|&i| t.align.get(i).copied())
+            .collect(),
         rows: t
             .rows
             .iter()
