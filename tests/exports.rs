@@ -46,9 +46,10 @@ fn markdown_matches_the_golden_file() {
 fn latex_matches_the_golden_file() {
     let text = golden("latex", "pump-turbine-cavitation.tex");
     assert_eq!(
-        text.matches("\\begin{tabular}").count(),
+        text.matches("\\begin{tabular").count(),
         text.matches("\\bottomrule").count()
     );
+    assert!(!text.contains("siunitx") && !text.contains("\\num{"));
 }
 
 #[test]
@@ -103,12 +104,9 @@ fn csv_matches_the_golden_file_and_the_json_figures() {
             ("u_val", "u_val"),
         ] {
             let got: f64 = r[col(c)].parse().unwrap();
-            assert_relative_eq!(
-                got,
-                p[k].as_f64().unwrap(),
-                epsilon = 0.0,
-                max_relative = 0.0
-            );
+            // serde_json reads decimals to within an ulp (its exact-roundtrip parser is a
+            // feature this crate does not enable); the CSV holds the shortest exact text.
+            assert_relative_eq!(got, p[k].as_f64().unwrap(), max_relative = 1e-15);
         }
     }
     let carried: usize = comparisons

@@ -48,7 +48,7 @@ pub fn uncertainty_paragraph(a: &Assessment) -> String {
             crate::study::reference::Origin::Benchmark => "the published benchmark solution",
         };
         s.push(format!(
-            "In the comparison {} with {data}, {} of {} points agree only because of the numerical uncertainty (warning `{}`): that agreement supports no conclusion until the discretisation uncertainty is reduced.",
+            "In the comparison {} with {data}, {} of {} points agree only because of the numerical uncertainty (warning {}): that agreement supports no conclusion until the discretisation uncertainty is reduced.",
             c.name,
             c.carried_by_u_num.len(),
             c.comparison.summary.points,
@@ -455,7 +455,7 @@ fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
         ));
         if let (Some(v), false) = (sm.variation, sm.wider_than_variation.is_empty()) {
             out.push(format!(
-                "At {} of the {} band points U exceeds the variation of {} along the band ({}): there the band cannot tell the curve's shape apart, and these meshes support no conclusion about it (warning `{}`).",
+                "At {} of the {} band points U exceeds the variation of {} along the band ({}): there the band cannot tell the curve's shape apart, and these meshes support no conclusion about it (warning {}).",
                 sm.wider_than_variation.len(),
                 sm.points,
                 band.response,
