@@ -552,6 +552,21 @@ discretisation uncertainty can be claimed."
         );
     }
 
+    /// The manufactured drag of [`MANUFACTURED`] in percent: the unit is written once, on the
+    /// bracketed pair, and the relative U is named (U = 0.110 and 1.09 %, as above).
+    #[test]
+    fn a_quantity_in_percent_carries_its_unit_once() {
+        let text = MANUFACTURED.replace(
+            "unit: N\n    values: {h1: 10.1, h2: 10.4",
+            "unit: \"%\"\n    values: {h1: 10.1, h2: 10.4",
+        );
+        let p = uncertainty_paragraph(&fixture::assess(&text));
+        assert!(
+            p.contains("drag is (10.100 ± 0.110) % (relative U 1.09 %), with observed order"),
+            "{p}"
+        );
+    }
+
     #[test]
     fn oscillation_is_named_after_stern() {
         // φ = 1.0, 0.99, 1.02 on h = 1, 1.5, 2.25: oscillatory, half range 0.015 above the GCI
