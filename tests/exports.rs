@@ -19,7 +19,12 @@ const STUDY: &str = "studies/pump-turbine-cavitation.yaml";
 
 /// Runs `assess STUDY --format FORMAT` and compares stdout with `tests/golden/NAME`.
 fn golden(format: &str, name: &str) -> String {
-    let o = run(&["assess", STUDY, "--format", format]);
+    golden_of(STUDY, format, name)
+}
+
+/// [`golden`] for another study.
+fn golden_of(study: &str, format: &str, name: &str) -> String {
+    let o = run(&["assess", study, "--format", format]);
     assert_eq!(o.status.code(), Some(0), "{}", show(&o));
     let got = String::from_utf8(o.stdout.clone()).expect("UTF-8 output");
     let path = root().join("tests/golden").join(name);
@@ -50,6 +55,25 @@ fn latex_matches_the_golden_file() {
         text.matches("\\bottomrule").count()
     );
     assert!(!text.contains("siunitx") && !text.contains("\\num{"));
+}
+
+/// A published benchmark (Schäfer & Turek 2D-1, run by us: studies/cylinder-2d1.yaml) in a
+/// study of `domain: general`: neutral headings, the general caution, nothing of machines.
+#[test]
+fn latex_of_a_benchmark_study_is_neutral_and_matches_its_golden_file() {
+    let text = golden_of("studies/cylinder-2d1.yaml", "latex", "cylinder-2d1.tex");
+    assert!(text.contains("Comparison with a published benchmark solution"));
+    assert!(text.contains("with the published benchmark solution"));
+    for word in [
+        "measurement",
+        "Measured",
+        "runner",
+        "impeller",
+        "model-test",
+    ] {
+        assert!(!text.contains(word), "{word}");
+    }
+    assert!(text.contains("is not validation"));
 }
 
 #[test]

@@ -239,8 +239,14 @@ fn method(q: &QuantityResult) -> Cell {
 fn meshes_table(a: &Assessment) -> TableBlock {
     let caption = match a.size_basis {
         crate::grid::SizeBasis::Relative => format!(
-            "Meshes, finest first; h relative to the finest mesh, from the cell counts as (N1/N)^(1/{}), dimension {}",
-            a.dimension, a.dimension
+            "Meshes, finest first; h relative to the finest mesh: the {} of the finest mesh's cell count over the mesh's (dimension {})",
+            match a.dimension {
+                1 => "ratio".to_string(),
+                2 => "square root".to_string(),
+                3 => "cube root".to_string(),
+                d => format!("root of order {d}"),
+            },
+            a.dimension
         ),
         crate::grid::SizeBasis::Absolute => format!(
             "Meshes, finest first; h the representative size as given (absolute; dimension {})",
