@@ -751,12 +751,21 @@ fn band_blocks(s: &SweepResult, band: &BandResult, layout: Layout, out: &mut Vec
         .max_relative_at
         .map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6)));
     out.push(Block::Paragraph(vec![text(format!(
-        "{} points, {} interpolation: {} monotonic, {} oscillatory, {} divergent; mean relative U {}, largest {}{largest_at}; observed order {} (orders on a search bound, not found or not demonstrated left out).",
+        "{} points, {} interpolation: {} monotonic, {} oscillatory, {} divergent{}; mean relative U {}, largest {}{largest_at}; observed order {} (orders on a search bound, not found or not demonstrated left out).",
         sm.points,
         band.interpolation.label(),
         percent(sm.share_monotonic),
         percent(sm.share_oscillatory),
         percent(sm.share_divergent),
+        // classes by the ratio of differences; convergence itself is shown only where the
+        // point demonstrates it
+        band.point_warnings
+            .iter()
+            .find(|w| w.code == crate::point_warnings::NOT_DEMONSTRATED)
+            .map_or(String::new(), |w| format!(
+                " (convergence not demonstrated at {} of them)",
+                points_of(w, sm.points as u64)
+            )),
         sm.mean_relative.map_or("–".into(), percent),
         sm.max_relative.map_or("–".into(), percent),
         orders(sm.mean_order, sm.median_order, sm.order_points as u64),
