@@ -9,7 +9,9 @@
 //! `convergence_not_demonstrated` entry of `ColumnSummary::point_warnings`): their U is not
 //! quotable, so no figure over the column can be vouched for. A target that could not be
 //! computed (a breakdown a mesh does not reach, a quantity whose estimate failed: its
-//! `not_computed`) fails every limit set on it, with the reason in the note.
+//! `not_computed`) fails every limit set on it, with the reason in the note. A study whose
+//! band or comparison carries a warning of [`crate::warning::UNSUPPORTED_CONCLUSION`] fails
+//! one more check per such warning, whatever its limits ([`unsupported`]).
 
 use crate::assess::{Assessment, QuantityResult};
 use crate::study::raw::RawAcceptance;
@@ -284,7 +286,27 @@ pub fn check(a: &Assessment, limits: &[RawAcceptance]) -> Result<Vec<Check>, Str
             }
         }
     }
+    out.extend(unsupported(a));
     Ok(out)
+}
+
+/// One failing check per warning whose code marks a stated uncertainty too wide to support a
+/// conclusion ([`crate::warning::UNSUPPORTED_CONCLUSION`]: a band wider than the response's
+/// own variation, a comparison that agrees only through u_num). These fail whatever limits the
+/// study sets, because no limit can vouch for a figure the data do not support.
+pub fn unsupported(a: &Assessment) -> Vec<Check> {
+    a.warnings
+        .iter()
+        .filter(|w| crate::warning::UNSUPPORTED_CONCLUSION.contains(&w.code.as_str()))
+        .map(|w| Check {
+            study: a.study.clone(),
+            target: w.subject.clone().unwrap_or_default(),
+            limit: "uncertainty narrow enough to conclude".into(),
+            value: serde_json::json!(w.code),
+            passed: false,
+            note: Some(w.message.clone()),
+        })
+        .collect()
 }
 
 #[cfg(test)]

@@ -33,3 +33,20 @@ impl Warning {
         self
     }
 }
+
+/// A band whose U exceeds, at some points, the variation of the response along the band (the
+/// largest minus the smallest finest-mesh value over the band points): there the band cannot
+/// tell the curve's shape apart, so its summary supports no conclusion (docs/method.md,
+/// "Uncertainty too wide to conclude"). `gate` fails a study that carries it.
+pub const BAND_WIDER_THAN_VARIATION: &str = "band_wider_than_variation";
+
+/// A comparison some of whose points agree with the reference only because of the numerical
+/// uncertainty: |E| ≤ k·u_val holds, but |E| > k·√(u_input² + u_D²), so the verdict rests on
+/// u_num (docs/method.md, "Uncertainty too wide to conclude"). `gate` fails a study that
+/// carries it.
+pub const COMPARISON_CARRIED_BY_U_NUM: &str = "comparison_carried_by_u_num";
+
+/// The warning codes that mark a stated uncertainty too wide to support a conclusion; `gate`
+/// fails every study that carries one of them.
+pub const UNSUPPORTED_CONCLUSION: [&str; 2] =
+    [BAND_WIDER_THAN_VARIATION, COMPARISON_CARRIED_BY_U_NUM];

@@ -324,7 +324,7 @@ fn latex_fragments_of_every_example_study_compile() {
         w.write(
             "doc.tex",
             &format!(
-                "\\documentclass{{article}}\n\\usepackage[T1]{{fontenc}}\n\\usepackage{{booktabs,siunitx}}\n\\begin{{document}}\n{fragment}\n\\end{{document}}\n"
+                "\\documentclass{{article}}\n\\usepackage[T1]{{fontenc}}\n\\usepackage{{booktabs,array,tabularx}}\n\\begin{{document}}\n{fragment}\n\\end{{document}}\n"
             ),
         );
         let o = Command::new(engine)

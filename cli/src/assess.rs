@@ -26,7 +26,7 @@ pub enum AssessFormat {
     Csv,
     /// Markdown tables.
     Markdown,
-    /// LaTeX tabulars (booktabs, siunitx).
+    /// LaTeX tables that fit one column of a two-column page (booktabs, tabularx).
     Latex,
 }
 

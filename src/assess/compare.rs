@@ -43,6 +43,12 @@ pub struct ComparisonResult {
     /// there are some; the other points are compared).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub points_outside_range: Vec<f64>,
+    /// The abscissae of the points that agree with the reference only because of the
+    /// numerical uncertainty: |E| ≤ k·u_val, but |E| > k·√(u_input² + u_D²) (warning
+    /// `comparison_carried_by_u_num`; docs/method.md, "Uncertainty too wide to conclude").
+    /// For a scalar quantity the abscissa is 0. Present only when there are some.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub carried_by_u_num: Vec<f64>,
     /// Why the comparison could not be made (present only then; `points` is empty).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub not_computed: Option<NotComputed>,
@@ -91,6 +97,7 @@ fn not_computed(
         median_order: None,
         order_points: 0,
         points_outside_range: skipped,
+        carried_by_u_num: Vec::new(),
         not_computed: Some(NotComputed::new(COMPARISON_NOT_COMPUTED, reason)),
     }
 }
@@ -148,6 +155,7 @@ pub fn run(
                 }];
                 match compare(&sim, &meas, s, &cs) {
                     Ok(c) => out.push(ComparisonResult {
+                        carried_by_u_num: carried(&c, None, &r.name, warnings),
                         name: r.name.clone(),
                         origin: r.origin,
                         kind: "quantity",
@@ -297,6 +305,7 @@ pub fn run(
                     "comparison",
                 ));
                 out.push(ComparisonResult {
+                    carried_by_u_num: carried(&c, Some(&sw.x), &r.name, warnings),
                     name: r.name.clone(),
                     origin: r.origin,
                     kind: "sweep",
@@ -315,6 +324,51 @@ pub fn run(
     out
 }
 
+/// The points of a comparison whose agreement rests on the numerical uncertainty: judged
+/// within k·u_val, yet |E| > k·√(u_input² + u_D²), so that without u_num they would not agree.
+/// Warns once per comparison (`comparison_carried_by_u_num`, about `subject`); `x` names the
+/// abscissa of a sweep (`None` for a scalar quantity).
+fn carried(
+    c: &Comparison,
+    x: Option<&str>,
+    subject: &str,
+    warnings: &mut Vec<Warning>,
+) -> Vec<f64> {
+    let k = c.coverage_factor;
+    let pts: Vec<&crate::compare::ComparedPoint> = c
+        .points
+        .iter()
+        .filter(|p| {
+            p.within == Some(true)
+                && p.u_num.is_some_and(|u| u > 0.0)
+                && p.error.abs() > k * p.u_input.hypot(p.u_measured)
+        })
+        .collect();
+    if pts.is_empty() {
+        return Vec::new();
+    }
+    let xs: Vec<f64> = pts.iter().map(|p| p.x).collect();
+    let largest = pts.iter().filter_map(|p| p.u_num).fold(0.0_f64, f64::max);
+    let at = x.map_or(String::new(), |x| {
+        format!(" ({x} = {})", super::sweep::first_places(&xs))
+    });
+    warnings.push(
+        Warning::new(
+            crate::warning::COMPARISON_CARRIED_BY_U_NUM,
+            format!(
+                "{} of {} point{} agree{} with the reference only because of the numerical uncertainty{at}: |E| exceeds k·√(u_input² + u_D²) there, and u_num (up to {}) makes up the difference; the agreement supports no conclusion until the discretisation uncertainty is reduced",
+                xs.len(),
+                c.points.len(),
+                if c.points.len() == 1 { "" } else { "s" },
+                if xs.len() == 1 { "s" } else { "" },
+                fmt_num(largest),
+            ),
+        )
+        .about(subject),
+    );
+    xs
+}
+
 /// The abscissa range common to all meshes of a sweep (for messages).
 fn common_range(sw: &crate::study::sweep::Sweep) -> (f64, f64) {
     let ranges: Vec<(f64, f64)> = sw
@@ -323,4 +377,51 @@ fn common_range(sw: &crate::study::sweep::Sweep) -> (f64, f64) {
         .map(|c| (c.x[0], c.x[c.x.len() - 1]))
         .collect();
     crate::sweep::overlap(&ranges).unwrap_or((f64::NAN, f64::NAN))
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::report::markup::fixture;
+
+    /// drag = 10 + 0.1 h² on h = 1, 2, 4 (analytic manufactured data: order 2, δ_RE = 0.1),
+    /// compared with D = 10.0, so E = S − D = 0.1 exactly; k = 2 (the default).
+    fn study(u_d: f64) -> String {
+        format!(
+            "format: 1
+title: manufactured comparison
+meshes:
+  - {{name: h1, size: 1.0}}
+  - {{name: h2, size: 2.0}}
+  - {{name: h4, size: 4.0}}
+quantities:
+  drag:
+    values: {{h1: 10.1, h2: 10.4, h4: 11.6}}
+reference_data:
+  drag: {{value: 10.0, u_measured: {u_d}}}
+"
+        )
+    }
+
+    #[test]
+    fn an_agreement_that_rests_on_u_num_is_flagged() {
+        // u_D = 0.01: k·u_D = 0.02 < |E| = 0.1, so only u_num can make the point agree.
+        let a = fixture::assess(&study(0.01));
+        let c = &a.comparisons[0];
+        let p = &c.comparison.points[0];
+        assert!((p.error - 0.1).abs() < 1e-12);
+        assert_eq!(p.within, Some(true), "{p:?}");
+        assert_eq!(c.carried_by_u_num, [0.0]);
+        assert!(a
+            .warnings
+            .iter()
+            .any(|w| w.code == crate::warning::COMPARISON_CARRIED_BY_U_NUM));
+        let checks = crate::gate::check(&a, &[]).expect("no limits");
+        assert!(checks.iter().any(|c| !c.passed && c.target == "drag"));
+        // u_D = 0.06: k·u_D = 0.12 ≥ |E| = 0.1, the reference's own uncertainty covers E.
+        let a = fixture::assess(&study(0.06));
+        let c = &a.comparisons[0];
+        assert_eq!(c.comparison.points[0].within, Some(true));
+        assert!(c.carried_by_u_num.is_empty());
+        assert!(crate::gate::check(&a, &[]).expect("no limits").is_empty());
+    }
 }

@@ -62,6 +62,12 @@ pub struct Assessment {
     pub study: String,
     /// Meshes finest first.
     pub meshes: Vec<Mesh>,
+    /// Whether the meshes' sizes `h` are absolute (from `size` or `extent`) or relative to
+    /// the finest mesh (from cell counts alone).
+    pub size_basis: crate::grid::SizeBasis,
+    /// The spatial dimension the sizes were formed with (the study's `dimension`, 3 when it
+    /// gives none).
+    pub dimension: u32,
     /// Scalar quantities.
     pub quantities: Vec<QuantityResult>,
     /// Sweeps (curves per mesh).
@@ -657,6 +663,8 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
         title: study.title.clone(),
         study: study.path.display().to_string(),
         meshes: study.meshes.clone(),
+        size_basis: study.size_basis,
+        dimension: study.dimension,
         quantities,
         sweeps,
         duty_curves,

@@ -200,6 +200,38 @@ pub struct BandSummary {
     pub median_order: Option<f64>,
     /// Number of points whose order enters the mean and the median.
     pub order_points: usize,
+    /// The variation of the response along the band: the largest minus the smallest
+    /// finest-mesh value over the band points (`None` without points).
+    pub variation: Option<f64>,
+    /// The abscissae of the points whose U exceeds [`Self::variation`]: there the band cannot
+    /// tell the curve's shape apart (warning `band_wider_than_variation`; docs/method.md,
+    /// "Uncertainty too wide to conclude").
+    pub wider_than_variation: Vec<f64>,
+}
+
+/// The abscissae of the band points whose U exceeds the variation of the response along the
+/// band (largest minus smallest value of the finest mesh). A band without variation (every
+/// value equal) has none: its shape is flat, and U is judged by the quantity limits alone.
+pub fn wider_than_variation(points: &[BandPoint]) -> (Option<f64>, Vec<f64>) {
+    let (lo, hi) = points
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), p| {
+            (l.min(p.value), h.max(p.value))
+        });
+    if points.is_empty() {
+        return (None, Vec::new());
+    }
+    let variation = hi - lo;
+    let wide = if variation > 0.0 {
+        points
+            .iter()
+            .filter(|p| p.absolute.is_some_and(|u| u > variation))
+            .map(|p| p.x)
+            .collect()
+    } else {
+        Vec::new()
+    };
+    (Some(variation), wide)
 }
 
 /// The band along one response.
@@ -595,6 +627,8 @@ fn band_not_computed(
             mean_order: None,
             median_order: None,
             order_points: 0,
+            variation: None,
+            wider_than_variation: Vec::new(),
         },
         point_warnings: Vec::new(),
         points_outside_range: skipped,
@@ -775,6 +809,24 @@ fn band(
         &format!("{}.band.{}", s.name, b.response),
         "band",
     ));
+    let (variation, wide) = wider_than_variation(&points);
+    if let (Some(v), false) = (variation, wide.is_empty()) {
+        warnings.push(
+            Warning::new(
+                crate::warning::BAND_WIDER_THAN_VARIATION,
+                format!(
+                    "U exceeds the variation of {} along the band ({}, the largest minus the smallest value of the finest mesh) at {} of {} points ({} = {}): the band cannot tell the curve's shape apart there, and its summary supports no conclusion about it",
+                    b.response,
+                    sweep::fmt_num(v),
+                    wide.len(),
+                    points.len(),
+                    s.x,
+                    first_places(&wide)
+                ),
+            )
+            .about(&subject),
+        );
+    }
     BandResult {
         response: b.response.clone(),
         interpolation: b.interpolation,
@@ -794,11 +846,22 @@ fn band(
             mean_order: point_warnings::mean(&orders),
             order_points: orders.len(),
             median_order: point_warnings::median(orders),
+            variation,
+            wider_than_variation: wide,
         },
         points,
         point_warnings,
         points_outside_range: skipped,
         not_computed: None,
+    }
+}
+
+/// The first five abscissae of a list, then "… and N more".
+pub(crate) fn first_places(xs: &[f64]) -> String {
+    let shown: Vec<String> = xs.iter().take(5).map(|x| sweep::fmt_num(*x)).collect();
+    match xs.len().saturating_sub(5) {
+        0 => shown.join(", "),
+        more => format!("{} … and {more} more", shown.join(", ")),
     }
 }
 
@@ -865,4 +928,104 @@ pub(crate) fn band_point_warnings(
         );
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::report::markup::fixture;
+
+    /// Manufactured band (analytic): on h = 1, 2, 4 every mesh gives φ = 1 + 0.1 x + c h², so
+    /// the finest curve varies by 0.1 over x ∈ [0, 1] (to round-off), and at every point the
+    /// differences are 3c and 12c: order 2 exactly, δ_RE = c, and U of the order of c.
+    fn band_study(c: f64) -> String {
+        let curve = |h: f64| {
+            let y: Vec<String> = [0.0, 0.25, 0.5, 1.0]
+                .iter()
+                .map(|x| format!("{}", 1.0 + 0.1 * x + c * h * h))
+                .collect();
+            format!("{{x: [0, 0.25, 0.5, 1], phi: [{}]}}", y.join(", "))
+        };
+        format!(
+            "format: 1
+title: manufactured band
+meshes:
+  - {{name: h1, size: 1.0}}
+  - {{name: h2, size: 2.0}}
+  - {{name: h4, size: 4.0}}
+sweeps:
+  s:
+    x: x
+    responses: [phi]
+    interpolation: linear
+    data:
+      h1: {}
+      h2: {}
+      h4: {}
+    band: {{response: phi, at: fine}}
+",
+            curve(1.0),
+            curve(2.0),
+            curve(4.0)
+        )
+    }
+
+    #[test]
+    fn a_band_wider_than_its_curve_is_flagged_and_a_narrow_one_is_not() {
+        // c = 1: δ_RE = 1 at every point, ten times the variation 0.1 (analytic)
+        let a = fixture::assess(&band_study(1.0));
+        let band = a.sweeps[0].band.as_ref().expect("a band");
+        let v = band.summary.variation.expect("a variation");
+        assert!((v - 0.1).abs() < 1e-9, "{v}");
+        assert!(band
+            .points
+            .iter()
+            .all(|p| p.absolute.is_some_and(|u| u >= 1.0)));
+        assert_eq!(band.summary.wider_than_variation, [0.0, 0.25, 0.5, 1.0]);
+        assert!(a
+            .warnings
+            .iter()
+            .any(|w| w.code == crate::warning::BAND_WIDER_THAN_VARIATION
+                && w.subject.as_deref() == Some("s.band.phi")));
+        // gate fails it whatever the limits
+        let checks = crate::gate::check(&a, &[]).expect("no limits to resolve");
+        assert_eq!(checks.len(), 1);
+        assert!(!checks[0].passed);
+        assert_eq!(checks[0].target, "s.band.phi");
+        // c = 0.001: δ_RE = 0.001, U a few thousandths, well inside 0.1 (analytic)
+        let a = fixture::assess(&band_study(0.001));
+        let band = a.sweeps[0].band.as_ref().expect("a band");
+        assert!(band
+            .points
+            .iter()
+            .all(|p| p.absolute.is_some_and(|u| u < 0.01)));
+        assert!(band.summary.wider_than_variation.is_empty());
+        assert!(a
+            .warnings
+            .iter()
+            .all(|w| w.code != crate::warning::BAND_WIDER_THAN_VARIATION));
+        assert!(crate::gate::check(&a, &[]).expect("no limits").is_empty());
+    }
+
+    #[test]
+    fn a_flat_band_has_no_points_wider_than_its_variation() {
+        use super::{wider_than_variation, BandPoint};
+        let p = |x: f64| BandPoint {
+            x,
+            value: 2.0,
+            extrapolated: None,
+            order: None,
+            absolute: Some(0.5),
+            lower: None,
+            upper: None,
+            convergence: None,
+            demonstrated: true,
+            warnings: Vec::new(),
+            iterative: None,
+        };
+        assert_eq!(
+            wider_than_variation(&[p(0.0), p(1.0)]),
+            (Some(0.0), Vec::new())
+        );
+        assert_eq!(wider_than_variation(&[]), (None, Vec::new()));
+    }
 }

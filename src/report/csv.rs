@@ -3,7 +3,8 @@
 //! Rows, in this order:
 //! 1. one `quantity` row per scalar quantity, then per sweep and per breakdown the breakdown
 //!    abscissa (`<sweep>.breakdown.<response>`) and the reference (`<sweep>.reference.<response>`);
-//! 2. one `band_point` row per point of every sweep's band, increasing abscissa;
+//! 2. one `band_point` row per point of every sweep's band, increasing abscissa, then one
+//!    `comparison_point` row per compared point of every comparison (in the study's order);
 //! 3. the aggregated warnings of the points of a result, one row per code: `band_warning`
 //!    (per sweep's band), `comparison_warning` (per comparison along a sweep), `field_warning`
 //!    (per field column), in that order;
@@ -43,6 +44,14 @@
 //! | `mesh_values` | values finest first, `;`-separated | – |
 //! | `warning` | the code of `not_computed`, when the result could not be computed | the codes of the point's warnings, `;`-separated |
 //! | `warning_points`, `warning_at` | – | – |
+//!
+//! A `comparison_point` row holds `sweep` (the comparison), `name` (the response, or the
+//! quantity), `x` (the abscissa; empty for a scalar quantity), `value` (the simulation S) and
+//! the last seven columns: `reference_value` (D), `comparison_error` (E = S − D), `u_num`,
+//! `u_input`, `u_reference` (u_D), `u_val` (standard uncertainties) and `agreement` (`yes`:
+//! \|E\| ≤ k·u_val; `by_u_num`: yes, but only because of u_num, warning
+//! `comparison_carried_by_u_num`; `no`; `undecided`: no quotable u_num). Those columns are empty
+//! on every other row.
 //!
 //! A `band_warning`, `comparison_warning` or `field_warning` row holds `sweep` (the sweep, for a
 //! band or comparison), `name` (the band's or comparison's response, or `<field>.<column>`),
@@ -99,8 +108,20 @@ const MESHES: &str = "meshes";
 const MESH_VALUES: &str = "mesh_values";
 /// The columns after `meshes` and `mesh_values`: the point warnings.
 pub const WARNING_COLUMNS: [&str; 3] = ["warning", "warning_points", "warning_at"];
+/// The last columns: the figures of a `comparison_point` row (ASME V&V 20; docs/method.md §8).
+pub const COMPARISON_COLUMNS: [&str; 7] = [
+    "reference_value",
+    "comparison_error",
+    "u_num",
+    "u_input",
+    "u_reference",
+    "u_val",
+    "agreement",
+];
+/// Where the comparison columns begin.
+const CMP: usize = COLUMNS.len() + 2 + WARNING_COLUMNS.len();
 /// Cells per row.
-const WIDTH: usize = COLUMNS.len() + 2 + WARNING_COLUMNS.len();
+const WIDTH: usize = CMP + COMPARISON_COLUMNS.len();
 
 fn o(v: Option<f64>) -> String {
     v.map_or(String::new(), full)
@@ -137,7 +158,7 @@ fn quantity_row(q: &QuantityResult) -> Vec<String> {
     let g = q.governing.as_ref();
     let tg = q.three_grid.as_ref().map(|t| &t.estimate);
     let ls = q.least_squares.as_ref();
-    vec![
+    let mut row = vec![
         "quantity".into(),
         text(q.role.sweep().unwrap_or_default()),
         text(&q.name),
@@ -178,7 +199,9 @@ fn quantity_row(q: &QuantityResult) -> Vec<String> {
             .map_or(String::new(), |nc| text(&nc.code)),
         String::new(),
         String::new(),
-    ]
+    ];
+    row.resize(WIDTH, String::new());
+    row
 }
 
 /// A `not_computed` row: a band or comparison that could not be formed.
@@ -214,6 +237,40 @@ fn band_row(s: &SweepResult, response: &str, p: &BandPoint) -> Vec<String> {
     row
 }
 
+/// One row per compared point (`record` `comparison_point`): `sweep` the comparison, `name`
+/// the response (or the quantity), `x` the abscissa (empty for a scalar quantity), `value` the
+/// simulation S, then the comparison columns.
+fn comparison_rows(c: &crate::assess::compare::ComparisonResult) -> Vec<Vec<String>> {
+    c.comparison
+        .points
+        .iter()
+        .map(|p| {
+            let mut row = vec![String::new(); WIDTH];
+            row[0] = "comparison_point".into();
+            row[1] = text(&c.name);
+            row[2] = text(c.response.as_deref().unwrap_or(&c.name));
+            if c.kind == "sweep" {
+                row[4] = full(p.x);
+            }
+            row[5] = full(p.simulation);
+            row[CMP] = full(p.measured);
+            row[CMP + 1] = full(p.error);
+            row[CMP + 2] = o(p.u_num);
+            row[CMP + 3] = full(p.u_input);
+            row[CMP + 4] = full(p.u_measured);
+            row[CMP + 5] = o(p.u_val);
+            row[CMP + 6] = match p.within {
+                None => "undecided",
+                Some(false) => "no",
+                Some(true) if c.carried_by_u_num.contains(&p.x) => "by_u_num",
+                Some(true) => "yes",
+            }
+            .into();
+            row
+        })
+        .collect()
+}
+
 /// One row of aggregated point warnings (`record` `band_warning`, `comparison_warning` or
 /// `field_warning`).
 fn warning_row<T>(
@@ -239,6 +296,7 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
         .iter()
         .chain(&[MESHES, MESH_VALUES])
         .chain(&WARNING_COLUMNS)
+        .chain(&COMPARISON_COLUMNS)
         .map(|c| c.to_string())
         .collect::<Vec<_>>()];
     for q in &a.quantities {
@@ -256,6 +314,9 @@ pub fn rows(a: &Assessment) -> Vec<Vec<String>> {
                 out.push(band_row(s, &band.response, p));
             }
         }
+    }
+    for c in &a.comparisons {
+        out.extend(comparison_rows(c));
     }
     for s in &a.sweeps {
         if let Some(band) = &s.band {
@@ -367,10 +428,14 @@ mod tests {
     fn rows_have_the_columns_of_the_header_and_both_record_kinds() {
         let a = fixture::assess(fixture::DEMO);
         let (head, rows) = parse(&Csv.export(&a));
-        assert_eq!(head.len(), COLUMNS.len() + 2 + WARNING_COLUMNS.len());
+        assert_eq!(
+            head.len(),
+            COLUMNS.len() + 2 + WARNING_COLUMNS.len() + COMPARISON_COLUMNS.len()
+        );
         assert_eq!(&head[0], "record");
         assert_eq!(&head[COLUMNS.len() + 1], "mesh_values");
-        assert_eq!(&head[head.len() - 1], "warning_at");
+        assert_eq!(&head[CMP - 1], "warning_at");
+        assert_eq!(&head[head.len() - 1], "agreement");
         for r in &rows {
             assert_eq!(r.len(), head.len());
         }
@@ -507,7 +572,10 @@ quantities:
             text.contains("\nquantity,,\"'=HYPERLINK(\"\"x\"\")\",\"'+1\",,-0.5,"),
             "{text}"
         );
-        assert!(text.contains(",\"'@m1;m2;m3\",-0.5;-0.8;-2,,,\n"), "{text}");
+        assert!(
+            text.contains(",\"'@m1;m2;m3\",-0.5;-0.8;-2,,,,,,,,,,\n"),
+            "{text}"
+        );
         let (head, rows) = parse(&bytes);
         let col = |name: &str| head.iter().position(|h| h == name).expect(name);
         let q = rows.iter().find(|r| &r[0] == "quantity").expect("row");

@@ -221,8 +221,40 @@ pub fn orders(mean: Option<f64>, median: Option<f64>, points: u64) -> String {
     }
 }
 
+/// An English ordinal: 1st, 2nd, 3rd, 4th, 11th, 12th, 13th, 21st, 22nd, 102nd.
+pub fn ordinal(n: usize) -> String {
+    let suffix = match (n % 10, n % 100) {
+        (_, 11..=13) => "th",
+        (1, _) => "st",
+        (2, _) => "nd",
+        (3, _) => "rd",
+        _ => "th",
+    };
+    format!("{n}{suffix}")
+}
+
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn ordinals_follow_english_usage() {
+        // English spelling of ordinals (a fact of the language, no source needed)
+        for (n, w) in [
+            (1, "1st"),
+            (2, "2nd"),
+            (3, "3rd"),
+            (4, "4th"),
+            (11, "11th"),
+            (12, "12th"),
+            (13, "13th"),
+            (21, "21st"),
+            (22, "22nd"),
+            (102, "102nd"),
+            (111, "111th"),
+        ] {
+            assert_eq!(super::ordinal(n), w);
+        }
+    }
+
     use super::*;
 
     #[test]

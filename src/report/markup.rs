@@ -15,6 +15,16 @@ use crate::assess::sweep::{BandResult, BreakdownResult, SweepResult};
 use crate::assess::{Assessment, Method, QuantityResult};
 use crate::point_warnings::PointWarning;
 
+/// How wide the tables may be.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Layout {
+    /// Every column (Markdown, HTML: the page scrolls or wraps).
+    Wide,
+    /// Tables narrow enough for one column of a two-column paper (LaTeX): fewer columns,
+    /// long tables turned into rows, the classes and methods left to the text above them.
+    Column,
+}
+
 /// Rows of the condensed band table (about this many, always with the last point).
 pub const BAND_ROWS: usize = 16;
 
@@ -227,8 +237,24 @@ fn method(q: &QuantityResult) -> Cell {
 }
 
 fn meshes_table(a: &Assessment) -> TableBlock {
+    let caption = match a.size_basis {
+        crate::grid::SizeBasis::Relative => format!(
+            "Meshes, finest first; h relative to the finest mesh: the {} of the finest mesh's cell count over the mesh's (dimension {})",
+            match a.dimension {
+                1 => "ratio".to_string(),
+                2 => "square root".to_string(),
+                3 => "cube root".to_string(),
+                d => format!("root of order {d}"),
+            },
+            a.dimension
+        ),
+        crate::grid::SizeBasis::Absolute => format!(
+            "Meshes, finest first; h the representative size as given (absolute; dimension {})",
+            a.dimension
+        ),
+    };
     let mut t = TableBlock::new(
-        "Meshes, finest first (h relative to the finest mesh when only cell counts are given)",
+        caption,
         &[
             ("mesh", Align::Left),
             ("cells", Align::Right),
@@ -245,6 +271,42 @@ fn meshes_table(a: &Assessment) -> TableBlock {
         ]);
     }
     t
+}
+
+/// The results table of a column: quantity with its unit, value, U, relative U, the governing
+/// order and extrapolated value (the class and method are in the list above it).
+fn results_table_column(a: &Assessment) -> TableBlock {
+    let mut t = TableBlock::new(
+        "Uncertainty of each quantity on the finest mesh (class and method in the list above; p and the extrapolated value of the governing estimate)",
+        &[
+            ("quantity", Align::Left),
+            ("value", Align::Right),
+            ("U", Align::Right),
+            ("relative U", Align::Right),
+            ("p", Align::Right),
+            ("extrapolated", Align::Right),
+        ],
+    );
+    for q in &a.quantities {
+        let (v, u) = value_and_u(q);
+        t.rows.push(vec![
+            Cell::text(with_unit(&q.name, q.unit.as_deref())),
+            v,
+            u,
+            Cell::percent(q.uncertainty.as_ref().and_then(|u| u.relative)),
+            Cell::num(governing_order(q).map(|p| sig(p, 4))),
+            Cell::num(governing_extrapolated(q).map(|x| sig(x, 6))),
+        ]);
+    }
+    t
+}
+
+/// A name with its unit in brackets: `head [m]`; no brackets for a dimensionless quantity.
+pub fn with_unit(name: &str, unit: Option<&str>) -> String {
+    match unit.map(str::trim) {
+        None | Some("" | "-" | "1") => name.to_string(),
+        Some(u) => format!("{name} [{u}]"),
+    }
 }
 
 fn results_table(a: &Assessment) -> TableBlock {
@@ -323,10 +385,61 @@ fn rules_table(a: &Assessment) -> Option<TableBlock> {
     Some(t)
 }
 
+/// Every published rule's U per quantity as rows (quantity, rule, U; * marks the one that
+/// governs), for a column.
+fn rules_table_column(a: &Assessment) -> Option<TableBlock> {
+    let mut t = TableBlock::new(
+        "U of the finest mesh by every published rule (* governs; docs/method.md §12)",
+        &[
+            ("quantity", Align::Left),
+            ("rule", Align::Left),
+            ("U", Align::Right),
+        ],
+    );
+    for q in a.quantities.iter().filter(|q| !q.rules.is_empty()) {
+        let governs = q
+            .governing
+            .as_ref()
+            .filter(|g| g.method != Method::LeastSquares)
+            .and_then(|g| g.three_mesh_rule);
+        for (i, r) in q.rules.iter().enumerate() {
+            let mark = if governs == Some(r.rule) { " *" } else { "" };
+            t.rows.push(vec![
+                Cell::text(if i == 0 { q.name.as_str() } else { "" }),
+                Cell::text(r.rule.title()),
+                Cell::num(r.uncertainty.map(|u| format!("{}{mark}", sig(u, 3)))),
+            ]);
+        }
+    }
+    (!t.rows.is_empty()).then_some(t)
+}
+
 /// The monitor histories the quantities' values came from, per mesh; `None` when none did.
-fn histories_table(a: &Assessment) -> Option<TableBlock> {
+fn histories_table(a: &Assessment, layout: Layout) -> Option<TableBlock> {
     if a.quantities.iter().all(|q| q.histories.is_empty()) {
         return None;
+    }
+    if layout == Layout::Column {
+        let mut t = TableBlock::new(
+            "Monitor histories: value of each mesh and the iterative uncertainty U_I its history gives (steady part and drift in the Markdown and HTML reports)",
+            &[
+                ("quantity, mesh", Align::Left),
+                ("samples", Align::Right),
+                ("value", Align::Right),
+                ("U_I", Align::Right),
+            ],
+        );
+        for q in &a.quantities {
+            for h in &q.histories {
+                t.rows.push(vec![
+                    Cell::text(format!("{}, {}", q.name, h.mesh)),
+                    Cell::num(Some(h.result.samples.to_string())),
+                    Cell::num(Some(num(h.result.value, 8))),
+                    Cell::num(h.iterative_uncertainty.map(|u| sig(u, 3))),
+                ]);
+            }
+        }
+        return Some(t);
     }
     let mut t = TableBlock::new(
         "Monitor histories: value of each mesh, start of the steady part, and the iterative uncertainty U_I the history gives (docs/method.md, monitor histories)",
@@ -414,6 +527,103 @@ fn both_estimates_table(a: &Assessment) -> Option<TableBlock> {
         ]);
     }
     (!t.rows.is_empty()).then_some(t)
+}
+
+/// The two estimates as rows (quantity, estimate, p, extrapolated, U; * marks the one that
+/// governs), for a column.
+fn both_estimates_column(a: &Assessment) -> Option<TableBlock> {
+    let mut t = TableBlock::new(
+        "Three-mesh and least-squares estimates (U of the finest mesh; * governs)",
+        &[
+            ("quantity", Align::Left),
+            ("estimate", Align::Left),
+            ("p", Align::Right),
+            ("extrapolated", Align::Right),
+            ("U", Align::Right),
+        ],
+    );
+    for q in &a.quantities {
+        let Some(ls) = &q.least_squares else { continue };
+        let tg = q.three_grid.as_ref().map(|t| &t.estimate);
+        let governs = q
+            .governing
+            .as_ref()
+            .filter(|g| g.absolute.is_some())
+            .map(|g| g.method);
+        let mark = |yes: bool| if yes { " *" } else { "" };
+        t.rows.push(vec![
+            Cell::text(&q.name),
+            Cell::text("three-mesh"),
+            Cell::num(tg.and_then(|e| e.observed_order).map(|p| sig(p, 4))),
+            Cell::num(tg.and_then(|e| e.extrapolated).map(|x| sig(x, 7))),
+            Cell::num(tg.and_then(|e| e.uncertainty).map(|u| {
+                format!(
+                    "{}{}",
+                    sig(u, 4),
+                    mark(matches!(
+                        governs,
+                        Some(Method::ThreeGrid | Method::OscillationRange)
+                    ))
+                )
+            })),
+        ]);
+        t.rows.push(vec![
+            Cell::text(""),
+            Cell::text(format!(
+                "least squares, {} {}",
+                if ls.selected.weighted {
+                    "weighted"
+                } else {
+                    "unweighted"
+                },
+                ls.selected.kind.label()
+            )),
+            Cell::num(ls.order.map(|p| sig(p, 4))),
+            Cell::num(ls.selected_fit().map(|f| sig(f.phi0, 7))),
+            Cell::num(ls.per_mesh.first().map(|m| {
+                format!(
+                    "{}{}",
+                    sig(m.uncertainty, 4),
+                    mark(governs == Some(Method::LeastSquares))
+                )
+            })),
+        ]);
+    }
+    (!t.rows.is_empty()).then_some(t)
+}
+
+/// The breakdown summary of a column: criterion, breakdown abscissa and U, reference and U
+/// (relative U and class in the list above).
+fn breakdown_summary_column(s: &SweepResult) -> TableBlock {
+    let mut t = TableBlock::new(
+        format!(
+            "Breakdown of sweep {}: the finest mesh's {} and reference, with their uncertainty (classes in the list above)",
+            s.name, s.x
+        ),
+        &[
+            ("criterion", Align::Left),
+            ("breakdown", Align::Right),
+            ("U", Align::Right),
+            ("reference", Align::Right),
+            ("U of reference", Align::Right),
+        ],
+    );
+    for (i, b) in s.breakdown.iter().enumerate() {
+        let (x, ux) = value_and_u(&b.x_estimate);
+        let (r, ur) = value_and_u(&b.reference_estimate);
+        t.rows.push(vec![
+            Cell::text(format!(
+                "({}) {}",
+                i + 1,
+                super::table::subscript_b(symbol(&b.abscissa))
+            )),
+            x,
+            ux,
+            r,
+            ur,
+        ]);
+    }
+    t
 }
 
 fn breakdown_summary(s: &SweepResult) -> TableBlock {
@@ -516,7 +726,7 @@ fn point_warnings_table<T>(
     Some(Block::Table(t))
 }
 
-fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
+fn band_blocks(s: &SweepResult, band: &BandResult, layout: Layout, out: &mut Vec<Block>) {
     let sm = &band.summary;
     out.push(Block::Heading(
         3,
@@ -541,29 +751,52 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
         .max_relative_at
         .map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6)));
     out.push(Block::Paragraph(vec![text(format!(
-        "{} points, {} interpolation: {} monotonic, {} oscillatory, {} divergent; mean relative U {}, largest {}{largest_at}; observed order {} (orders on a search bound, not found or not demonstrated left out).",
+        "{} points, {} interpolation: {} monotonic, {} oscillatory, {} divergent{}; mean relative U {}, largest {}{largest_at}; observed order {} (orders on a search bound, not found or not demonstrated left out).",
         sm.points,
         band.interpolation.label(),
         percent(sm.share_monotonic),
         percent(sm.share_oscillatory),
         percent(sm.share_divergent),
+        // classes by the ratio of differences; convergence itself is shown only where the
+        // point demonstrates it
+        band.point_warnings
+            .iter()
+            .find(|w| w.code == crate::point_warnings::NOT_DEMONSTRATED)
+            .map_or(String::new(), |w| format!(
+                " (convergence not demonstrated at {} of them)",
+                points_of(w, sm.points as u64)
+            )),
         sm.mean_relative.map_or("–".into(), percent),
         sm.max_relative.map_or("–".into(), percent),
         orders(sm.mean_order, sm.median_order, sm.order_points as u64),
     ))]));
+    if let (Some(v), false) = (sm.variation, sm.wider_than_variation.is_empty()) {
+        out.push(Block::Paragraph(vec![
+            Span::Strong("The band is wider than the curve".into()),
+            text(format!(
+                " at {} of {} points: there U exceeds the variation of {} along the band ({}), so the band cannot tell the curve's shape apart and the figures above support no conclusion about it (warning ",
+                sm.wider_than_variation.len(),
+                sm.points,
+                band.response,
+                sig(v, 3),
+            )),
+            Span::Code(crate::warning::BAND_WIDER_THAN_VARIATION.into()),
+            text(")."),
+        ]));
+    }
     let (rows, step) = condensed(band.points.len(), BAND_ROWS);
     let caption = if step > 1 {
         format!(
-            "Band of {} on the finest mesh, every {step}th of {} points (all are in the JSON and CSV outputs)",
+            "Band of {} on the finest mesh, every {} point of {} (all are in the JSON and CSV outputs)",
             band.response,
+            super::format::ordinal(step),
             band.points.len()
         )
     } else {
         format!("Band of {} on the finest mesh", band.response)
     };
-    let mut t = TableBlock::new(
-        caption,
-        &[
+    let columns: &[(&str, Align)] = match layout {
+        Layout::Wide => &[
             (s.x.as_str(), Align::Right),
             ("value", Align::Right),
             ("U", Align::Right),
@@ -571,11 +804,27 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
             ("upper", Align::Right),
             ("class", Align::Left),
         ],
-    );
+        Layout::Column => &[
+            (s.x.as_str(), Align::Right),
+            ("value", Align::Right),
+            ("U", Align::Right),
+            ("class", Align::Left),
+        ],
+    };
+    let mut t = TableBlock::new(caption, columns);
     for i in rows {
         let Some(p) = band.points.get(i) else {
             continue;
         };
+        if layout == Layout::Column {
+            t.rows.push(vec![
+                Cell::Num(num(p.x, 6)),
+                Cell::Num(sig(p.value, 6)),
+                Cell::num(p.absolute.map(|u| sig(u, 3))),
+                Cell::text(point_class_label(p)),
+            ]);
+            continue;
+        }
         t.rows.push(vec![
             Cell::Num(num(p.x, 6)),
             Cell::Num(sig(p.value, 6)),
@@ -598,6 +847,7 @@ fn band_blocks(s: &SweepResult, band: &BandResult, out: &mut Vec<Block>) {
 fn comparison_blocks(
     a: &Assessment,
     c: &crate::assess::compare::ComparisonResult,
+    layout: Layout,
     out: &mut Vec<Block>,
 ) {
     let cm = &c.comparison;
@@ -612,7 +862,8 @@ fn comparison_blocks(
     }
     if !c.points_outside_range.is_empty() {
         out.push(Block::Paragraph(vec![text(format!(
-            "Measured points outside the range common to all meshes, not computed there: {x} = {}.",
+            "{} outside the range common to all meshes, not computed there: {x} = {}.",
+            points_word(c.origin, true),
             c.points_outside_range
                 .iter()
                 .map(|v| num(*v, 6))
@@ -634,14 +885,31 @@ fn comparison_blocks(
             ""
         }
     ))]));
+    if !c.carried_by_u_num.is_empty() {
+        out.push(Block::Paragraph(vec![
+            Span::Strong("Agreement carried by u_num".into()),
+            text(format!(
+                " at {} of {} points: |E| exceeds k·√(u_input² + u_D²) there, so the points agree only because of the numerical uncertainty, and the agreement supports no conclusion until that uncertainty is reduced (warning ",
+                c.carried_by_u_num.len(),
+                cm.summary.points,
+            )),
+            Span::Code(crate::warning::COMPARISON_CARRIED_BY_U_NUM.into()),
+            text(")."),
+        ]));
+    }
     if c.kind == "sweep" {
         out.push(Block::Paragraph(vec![text(format!(
-            "Observed order of the pointwise estimates at the measured points: {} (orders on a search bound, not found or not demonstrated left out).",
+            "Observed order of the pointwise estimates at the {}: {} (orders on a search bound, not found or not demonstrated left out).",
+            points_word(c.origin, false),
             orders(c.mean_order, c.median_order, c.order_points as u64)
         ))]));
     }
     let warned = point_warnings_table(
-        format!("Warnings at the measured points of {}", c.name),
+        format!(
+            "Warnings at the {} of {}",
+            points_word(c.origin, false),
+            c.name
+        ),
         &c.point_warnings,
         cm.points.len() as u64,
         &format!("at {x}"),
@@ -649,11 +917,12 @@ fn comparison_blocks(
     );
     let mut t = TableBlock::new(
         format!(
-            "Comparison of {}{} with measurements",
+            "Comparison of {}{} with {}",
             c.name,
             c.response
                 .as_ref()
-                .map_or(String::new(), |r| format!(" ({r})"))
+                .map_or(String::new(), |r| format!(" ({r})")),
+            data_phrase(c.origin)
         ),
         &[
             (x, Align::Right),
@@ -666,6 +935,52 @@ fn comparison_blocks(
             ("|E| ≤ k u_val", Align::Left),
         ],
     );
+    let verdict = |p: &crate::compare::ComparedPoint| {
+        Cell::text(match p.within {
+            None => "undecided",
+            Some(false) => "no",
+            Some(true) if c.carried_by_u_num.contains(&p.x) => "yes, by u_num",
+            Some(true) => "yes",
+        })
+    };
+    if layout == Layout::Column {
+        let sweep = c.kind == "sweep";
+        let mut cols: Vec<(&str, Align)> = Vec::new();
+        if sweep {
+            cols.push((x, Align::Right));
+        }
+        cols.extend([
+            ("E", Align::Right),
+            ("u_num", Align::Right),
+            ("u_D", Align::Right),
+            ("u_val", Align::Right),
+            ("|E| ≤ k u_val", Align::Left),
+        ]);
+        t = TableBlock::new(
+            format!(
+                "{} (E = S − D; S and D in the Markdown, HTML and CSV outputs)",
+                t.caption
+            ),
+            &cols,
+        );
+        for p in &cm.points {
+            let mut row = Vec::new();
+            if sweep {
+                row.push(Cell::Num(num(p.x, 6)));
+            }
+            row.extend([
+                Cell::Num(sig(p.error, 3)),
+                Cell::num(p.u_num.map(|u| sig(u, 3))),
+                Cell::Num(sig(p.u_measured, 3)),
+                Cell::num(p.u_val.map(|u| sig(u, 3))),
+                verdict(p),
+            ]);
+            t.rows.push(row);
+        }
+        out.push(Block::Table(t));
+        out.extend(warned);
+        return;
+    }
     for p in &cm.points {
         t.rows.push(vec![
             if c.kind == "sweep" {
@@ -679,17 +994,54 @@ fn comparison_blocks(
             Cell::num(p.u_num.map(|u| sig(u, 3))),
             Cell::Num(sig(p.u_measured, 3)),
             Cell::num(p.u_val.map(|u| sig(u, 3))),
-            Cell::text(
-                p.within
-                    .map_or("undecided", |w| if w { "yes" } else { "no" }),
-            ),
+            verdict(p),
         ]);
     }
     out.push(Block::Table(t));
     out.extend(warned);
 }
 
-fn field_blocks(f: &crate::field::FieldSummary, out: &mut Vec<Block>) {
+/// The points of a comparison's data: "measured points" or "reference points" (capitalised
+/// at the start of a sentence).
+fn points_word(o: crate::study::reference::Origin, capital: bool) -> &'static str {
+    match (o, capital) {
+        (crate::study::reference::Origin::Measurement, false) => "measured points",
+        (crate::study::reference::Origin::Measurement, true) => "Measured points",
+        (crate::study::reference::Origin::Benchmark, false) => "reference points",
+        (crate::study::reference::Origin::Benchmark, true) => "Reference points",
+    }
+}
+
+/// What a comparison's data are, after "with": measurements or a published reference
+/// solution.
+fn data_phrase(o: crate::study::reference::Origin) -> &'static str {
+    match o {
+        crate::study::reference::Origin::Measurement => "measurements",
+        crate::study::reference::Origin::Benchmark => "the published benchmark solution",
+    }
+}
+
+/// Some columns of a table, its caption extended by `what`.
+fn columns_of(t: &TableBlock, keep: &[usize], what: &str) -> TableBlock {
+    TableBlock {
+        caption: format!("{}: {what}", t.caption),
+        headers: keep
+            .iter()
+            .filter_map(|&i| t.headers.get(i).cloned())
+            .collect(),
+        align: keep
+            .iter()
+            .filter_map(|&i| t.align.get(i).copied())
+            .collect(),
+        rows: t
+            .rows
+            .iter()
+            .map(|r| keep.iter().filter_map(|&i| r.get(i).cloned()).collect())
+            .collect(),
+    }
+}
+
+fn field_blocks(f: &crate::field::FieldSummary, layout: Layout, out: &mut Vec<Block>) {
     out.push(Block::Heading(2, format!("Field {}", f.name)));
     let mut t = TableBlock::new(
         format!(
@@ -724,7 +1076,21 @@ fn field_blocks(f: &crate::field::FieldSummary, out: &mut Vec<Block>) {
             Cell::percent(c.max_relative),
         ]);
     }
-    out.push(Block::Table(t));
+    match layout {
+        Layout::Wide => out.push(Block::Table(t)),
+        Layout::Column => {
+            out.push(Block::Table(columns_of(
+                &t,
+                &[0, 1, 2, 3, 4],
+                "probes per convergence class",
+            )));
+            out.push(Block::Table(columns_of(
+                &t,
+                &[0, 5, 6, 7, 8],
+                "orders and relative U",
+            )));
+        }
+    }
     out.push(Block::Paragraph(vec![text(
         "Mean and median orders are over the probes whose convergence is demonstrated (orders on a search bound, not found or not demonstrated left out).",
     )]));
@@ -739,7 +1105,7 @@ fn field_blocks(f: &crate::field::FieldSummary, out: &mut Vec<Block>) {
     }
 }
 
-fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
+fn sweep_blocks(s: &SweepResult, layout: Layout, out: &mut Vec<Block>) {
     out.push(Block::Heading(2, format!("Sweep {}", s.name)));
     let mode = s.mode.map_or(String::new(), |m| {
         format!(", derived from raw monitors in {} mode", m.label())
@@ -756,12 +1122,16 @@ fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
     if !s.breakdown.is_empty() {
         out.push(Block::Heading(3, format!("Breakdown of {}", s.name)));
         let mut items = Vec::new();
-        for b in &s.breakdown {
+        for (i, b) in s.breakdown.iter().enumerate() {
+            let n = match layout {
+                Layout::Wide => String::new(),
+                Layout::Column => format!("({}) ", i + 1),
+            };
             items.push(vec![
-                Span::Strong(breakdown_rule(b, &s.x)),
+                Span::Strong(format!("{n}{}", breakdown_rule(b, &s.x))),
                 text(format!(
-                    ": {}_b = {}; reference {} = {}",
-                    symbol(&b.abscissa),
+                    ": {} = {}; reference {} = {}",
+                    super::table::subscript_b(symbol(&b.abscissa)),
                     statement(&b.x_estimate),
                     symbol(&b.response),
                     statement(&b.reference_estimate)
@@ -769,13 +1139,16 @@ fn sweep_blocks(s: &SweepResult, out: &mut Vec<Block>) {
             ]);
         }
         out.push(Block::List(items));
-        out.push(Block::Table(breakdown_summary(s)));
+        out.push(Block::Table(match layout {
+            Layout::Wide => breakdown_summary(s),
+            Layout::Column => breakdown_summary_column(s),
+        }));
         for b in &s.breakdown {
             out.push(Block::Table(breakdown_per_mesh(s, b)));
         }
     }
     if let Some(band) = &s.band {
-        band_blocks(s, band, out);
+        band_blocks(s, band, layout, out);
     }
 }
 
@@ -785,12 +1158,18 @@ pub const STATEMENT_HEADING: &str = "Drafted uncertainty statement";
 /// What the drafted statement is, said before it.
 pub const STATEMENT_NOTE: &str = "A draft to adapt for a report or a paper. It states only the \
 figures above; add what the study file does not hold: the solver and its discretisation schemes, \
-the iterative convergence, the turbulence and cavitation models.";
+the iterative convergence, the turbulence model and any other physical model (cavitation, \
+multiphase, combustion) the results depend on.";
 
 /// The report of one assessment as blocks: meshes, results, estimates side by side, sweeps
 /// (breakdown and band), figures, warnings, the drafted uncertainty statement
 /// ([`super::paragraph::uncertainty_paragraph`]) and, last, the caution.
 pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
+    document_with(a, figures, Layout::Wide)
+}
+
+/// [`document`] with the tables laid out for `layout`.
+pub fn document_with(a: &Assessment, figures: &[Figure], layout: Layout) -> Vec<Block> {
     let mut out = vec![
         Block::Heading(1, a.title.clone()),
         Block::Paragraph(vec![text("Study file: "), Span::Code(a.study.clone())]),
@@ -831,19 +1210,32 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
             })
             .collect();
         out.push(Block::List(items));
-        out.push(Block::Table(results_table(a)));
-        if let Some(t) = rules_table(a) {
+        let column = layout == Layout::Column;
+        out.push(Block::Table(if column {
+            results_table_column(a)
+        } else {
+            results_table(a)
+        }));
+        if let Some(t) = if column {
+            rules_table_column(a)
+        } else {
+            rules_table(a)
+        } {
             out.push(Block::Table(t));
         }
-        if let Some(t) = histories_table(a) {
+        if let Some(t) = histories_table(a, layout) {
             out.push(Block::Table(t));
         }
-        if let Some(t) = both_estimates_table(a) {
+        if let Some(t) = if column {
+            both_estimates_column(a)
+        } else {
+            both_estimates_table(a)
+        } {
             out.push(Block::Table(t));
         }
     }
     for s in &a.sweeps {
-        sweep_blocks(s, &mut out);
+        sweep_blocks(s, layout, &mut out);
     }
     out.extend(super::duty::blocks(&a.duty_curves));
     if !a.comparisons.is_empty() {
@@ -855,11 +1247,11 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
         };
         out.push(Block::Heading(2, heading.into()));
         for c in &a.comparisons {
-            comparison_blocks(a, c, &mut out);
+            comparison_blocks(a, c, layout, &mut out);
         }
     }
     for f in &a.fields {
-        field_blocks(f, &mut out);
+        field_blocks(f, layout, &mut out);
     }
     if !figures.is_empty() {
         out.push(Block::Heading(2, "Figures".into()));

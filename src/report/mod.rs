@@ -34,7 +34,8 @@ pub enum Format {
     Csv,
     /// Markdown with GitHub tables.
     Markdown,
-    /// A LaTeX fragment: booktabs tables with siunitx numbers.
+    /// A LaTeX fragment: booktabs tables one column of a two-column page wide, numbers and
+    /// symbols in math mode.
     Latex,
 }
 

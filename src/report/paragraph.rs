@@ -38,6 +38,23 @@ pub fn uncertainty_paragraph(a: &Assessment) -> String {
     for sw in &a.sweeps {
         s.extend(sweep_sentences(a, sw));
     }
+    for c in a
+        .comparisons
+        .iter()
+        .filter(|c| !c.carried_by_u_num.is_empty())
+    {
+        let data = match c.origin {
+            crate::study::reference::Origin::Measurement => "the measurements",
+            crate::study::reference::Origin::Benchmark => "the published benchmark solution",
+        };
+        s.push(format!(
+            "In the comparison {} with {data}, {} of {} points agree only because of the numerical uncertainty (warning {}): that agreement supports no conclusion until the discretisation uncertainty is reduced.",
+            c.name,
+            c.carried_by_u_num.len(),
+            c.comparison.summary.points,
+            crate::warning::COMPARISON_CARRIED_BY_U_NUM,
+        ));
+    }
     s.join(" ")
 }
 
@@ -209,6 +226,19 @@ fn fit_phrase(kind: FitKind) -> &'static str {
 /// What the uncertainty rests on, as a clause beginning with "with".
 fn basis(q: &QuantityResult, method: Method) -> String {
     let class = q.convergence.map_or("no convergence class", class_phrase);
+    // The least-squares class is over all the meshes; where the three finest meshes tell
+    // another story, it is said (never "monotonic" alone while the finest meshes diverge).
+    let class = match (
+        method,
+        q.three_grid.as_ref().map(|t| t.estimate.convergence),
+    ) {
+        (Method::LeastSquares, Some(c3)) if Some(c3) != q.convergence => format!(
+            "{class} over all the meshes, while the three finest meshes show {}",
+            class_phrase(c3)
+        ),
+        (Method::LeastSquares, _) => format!("{class} over all the meshes"),
+        _ => class.to_string(),
+    };
     match method {
         Method::OscillationRange => {
             format!("with {class}, U being half the range of the solutions")
@@ -310,6 +340,14 @@ fn figure(q: &QuantityResult, unit: String) -> (String, String) {
             let rel = u
                 .relative
                 .map_or_else(|| "the value is zero".to_string(), percent);
+            // A quantity in percent carries its unit once, on the bracketed pair, and its
+            // relative U is named as such.
+            if unit.trim() == "%" {
+                return (
+                    format!("({v} ± {a}) % (relative U {rel})"),
+                    basis(q, u.method),
+                );
+            }
             (format!("{v} ± {a}{unit} ({rel})"), basis(q, u.method))
         }
         None => {
@@ -346,7 +384,7 @@ fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
             Some(nc) => format!("is {}", nc.text()),
             None => {
                 let (xv, xt) = figure(&b.x_estimate, String::new());
-                format!("lies at {x}_b = {xv}, {xt}")
+                format!("lies at {} = {xv}, {xt}", super::table::subscript_b(x))
             }
         };
         let reference = match &b.reference_estimate.not_computed {
@@ -389,15 +427,42 @@ fn sweep_sentences(a: &Assessment, s: &SweepResult) -> Vec<String> {
             }
             _ => "no relative U".to_string(),
         };
+        let not_demonstrated = band
+            .point_warnings
+            .iter()
+            .find(|w| w.code == crate::point_warnings::NOT_DEMONSTRATED)
+            .map_or(0, |w| w.points);
+        let classes = if not_demonstrated == 0 {
+            format!(
+                "{} of the points converge monotonically, {} oscillate and {} diverge",
+                percent(sm.share_monotonic),
+                percent(sm.share_oscillatory),
+                percent(sm.share_divergent),
+            )
+        } else {
+            format!(
+                "the differences between the meshes are monotonic at {}, oscillating at {} and growing at {} of the points, but convergence is not demonstrated at {} of the {} points",
+                percent(sm.share_monotonic),
+                percent(sm.share_oscillatory),
+                percent(sm.share_divergent),
+                not_demonstrated,
+                sm.points,
+            )
+        };
         out.push(format!(
-            "Along sweep {}{on}, the band of {} over {} points has {spread}; {} of the points converge monotonically, {} oscillate and {} diverge.",
-            s.name,
-            band.response,
-            sm.points,
-            percent(sm.share_monotonic),
-            percent(sm.share_oscillatory),
-            percent(sm.share_divergent),
+            "Along sweep {}{on}, the band of {} over {} points has {spread}; {classes}.",
+            s.name, band.response, sm.points,
         ));
+        if let (Some(v), false) = (sm.variation, sm.wider_than_variation.is_empty()) {
+            out.push(format!(
+                "At {} of the {} band points U exceeds the variation of {} along the band ({}): there the band cannot tell the curve's shape apart, and these meshes support no conclusion about it (warning {}).",
+                sm.wider_than_variation.len(),
+                sm.points,
+                band.response,
+                sig(v, 3),
+                crate::warning::BAND_WIDER_THAN_VARIATION,
+            ));
+        }
         out.extend(band_point_sentences(band));
     }
     out
@@ -484,6 +549,21 @@ On the finest mesh, drag is 10.100 ± 0.110 N (1.09 %), with observed order p = 
 safety factor Fs = 1.1 by the correction factor (Stern et al. 2001) and monotonic convergence. \
 On the finest mesh, lift is 10.1 N, but the solutions diverge with refinement: no \
 discretisation uncertainty can be claimed."
+        );
+    }
+
+    /// The manufactured drag of [`MANUFACTURED`] in percent: the unit is written once, on the
+    /// bracketed pair, and the relative U is named (U = 0.110 and 1.09 %, as above).
+    #[test]
+    fn a_quantity_in_percent_carries_its_unit_once() {
+        let text = MANUFACTURED.replace(
+            "unit: N\n    values: {h1: 10.1, h2: 10.4",
+            "unit: \"%\"\n    values: {h1: 10.1, h2: 10.4",
+        );
+        let p = uncertainty_paragraph(&fixture::assess(&text));
+        assert!(
+            p.contains("drag is (10.100 ± 0.110) % (relative U 1.09 %), with observed order"),
+            "{p}"
         );
     }
 
@@ -615,7 +695,7 @@ quantities:
             fit_phrase(ls.selected.kind)
         );
         let want = format!(
-            "with U raised above the figure of {fit} (orders 1 and 2) to the order-2 floor, the Richardson estimate of the two finest meshes with order 2 and safety factor Fs = 3, and monotonic convergence."
+            "with U raised above the figure of {fit} (orders 1 and 2) to the order-2 floor, the Richardson estimate of the two finest meshes with order 2 and safety factor Fs = 3, and monotonic convergence over all the meshes."
         );
         assert_eq!(ls.selected.kind, FitKind::FirstSecond);
         assert!(p.contains(&want), "{want}\n{p}");
@@ -641,7 +721,7 @@ quantities:
         assert!(ls.guard.is_none());
         let p = uncertainty_paragraph(&a);
         let want = format!(
-            "least-squares fit of observed order p = {}, safety factor Fs = 1.25 and monotonic convergence.",
+            "least-squares fit of observed order p = {}, safety factor Fs = 1.25 and monotonic convergence over all the meshes.",
             sig(ls.order.expect("an order"), 4)
         );
         assert!(p.contains(&want), "{want}\n{p}");

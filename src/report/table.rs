@@ -74,6 +74,12 @@ pub fn statement(q: &QuantityResult) -> String {
             let rel = u
                 .relative
                 .map_or_else(|| "value is zero".to_string(), percent);
+            // In percent, the relative U is named so that it is not read as the unit again.
+            let rel = if q.unit.as_deref().map(str::trim) == Some("%") {
+                format!("relative U {rel}")
+            } else {
+                rel
+            };
             let (v, a) = with_uncertainty(u.value, u.absolute);
             format!("{v} ± {a} ({rel}) · {class} · from the {how}")
         }
@@ -346,6 +352,19 @@ pub fn symbol(name: &str) -> &str {
     }
 }
 
+/// The breakdown subscript on an abscissa's symbol, before a unit in brackets when the name
+/// carries one: `σ` → `σ_b`, `NPSH [m]` → `NPSH_b [m]`.
+pub fn subscript_b(symbol: &str) -> String {
+    match symbol
+        .trim_end()
+        .strip_suffix(']')
+        .and_then(|s| s.rsplit_once(" ["))
+    {
+        Some((name, unit)) => format!("{name}_b [{unit}]"),
+        None => format!("{symbol}_b"),
+    }
+}
+
 /// Describes a breakdown rule in words (`x`: the sweep's abscissa; a breakdown read against
 /// another abscissa, NPSH, says so).
 pub fn breakdown_rule(b: &crate::assess::sweep::BreakdownResult, x: &str) -> String {
@@ -411,8 +430,8 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
     for b in &s.breakdown {
         out.push_str(&format!("\n  breakdown: {}\n", breakdown_rule(b, &s.x)));
         out.push_str(&format!(
-            "    {}_b = {}\n",
-            symbol(&b.abscissa),
+            "    {} = {}\n",
+            subscript_b(symbol(&b.abscissa)),
             statement(&b.x_estimate)
         ));
         out.push_str(&format!(
@@ -476,6 +495,16 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
             sm.max_relative_at.map_or(String::new(), |x| format!(" at {} = {}", s.x, num(x, 6))),
             orders(sm.mean_order, sm.median_order, sm.order_points as u64),
         ));
+        if let (Some(v), false) = (sm.variation, sm.wider_than_variation.is_empty()) {
+            out.push_str(&format!(
+                "  band wider than the curve at {} of {} points: U exceeds the variation of {} along the band ({}), so no conclusion about the curve's shape there (warning {})\n",
+                sm.wider_than_variation.len(),
+                sm.points,
+                band.response,
+                sig(v, 3),
+                crate::warning::BAND_WIDER_THAN_VARIATION
+            ));
+        }
         let noisy = band.points.iter().any(|p| p.iterative.is_some());
         let mut head = vec![s.x.as_str(), "value", "± U", "lower", "upper", "class"];
         if noisy {
@@ -504,7 +533,8 @@ fn sweep_block(s: &crate::assess::sweep::SweepResult, out: &mut String) {
         out.push_str(&format!("{t}\n"));
         if step > 1 {
             out.push_str(&format!(
-                "  every {step}th point shown; all {n} are in the JSON and CSV outputs\n"
+                "  every {} point shown; all {n} are in the JSON and CSV outputs\n",
+                super::format::ordinal(step)
             ));
         }
         point_warnings_block(
@@ -545,7 +575,11 @@ fn comparison_block(
     }
     if !c.points_outside_range.is_empty() {
         out.push_str(&format!(
-            "  measured points at {x} = {} lie outside the range common to all meshes: not computed there\n",
+            "  {} at {x} = {} lie outside the range common to all meshes: not computed there\n",
+            match c.origin {
+                crate::study::reference::Origin::Measurement => "measured points",
+                crate::study::reference::Origin::Benchmark => "reference points",
+            },
             c.points_outside_range
                 .iter()
                 .map(|v| num(*v, 6))
@@ -576,12 +610,24 @@ fn comparison_block(
             opt(p.u_num, 3),
             sig(p.u_measured, 3),
             opt(p.u_val, 3),
-            p.within
-                .map_or("undecided (no u_num)", |w| if w { "yes" } else { "no" })
-                .to_string(),
+            match p.within {
+                None => "undecided (no u_num)",
+                Some(false) => "no",
+                Some(true) if c.carried_by_u_num.contains(&p.x) => "yes, by u_num",
+                Some(true) => "yes",
+            }
+            .to_string(),
         ]);
     }
     out.push_str(&format!("{t}\n"));
+    if !c.carried_by_u_num.is_empty() {
+        out.push_str(&format!(
+            "  agreement carried by u_num at {} of {} points: without u_num they would not agree, so no conclusion (warning {})\n",
+            c.carried_by_u_num.len(),
+            cm.summary.points,
+            crate::warning::COMPARISON_CARRIED_BY_U_NUM
+        ));
+    }
     out.push_str(&format!(
         "  {} of {} points with |E| ≤ k·u_val; largest |E| {}{}; mean E {}\n",
         cm.summary.within,
@@ -680,7 +726,17 @@ impl Exporter for Table {
                 opt(m.ratio, 4),
             ]);
         }
-        out.push_str(&format!("meshes, finest first\n{t}\n"));
+        let basis = match a.size_basis {
+            crate::grid::SizeBasis::Relative => format!(
+                "h relative to the finest mesh, (N1/N)^(1/{}) from the cell counts",
+                a.dimension
+            ),
+            crate::grid::SizeBasis::Absolute => "h absolute, as given".to_string(),
+        };
+        out.push_str(&format!(
+            "meshes, finest first; {basis}; dimension {}\n{t}\n",
+            a.dimension
+        ));
         for q in &a.quantities {
             quantity_block(a, q, &mut out);
         }
