@@ -1137,6 +1137,70 @@ mod tests {
     }
 
     #[test]
+    fn transfer_error_comparable_to_u_is_warned() {
+        // Manufactured data of order 2 with h the meshes' own spacing (analytic): the
+        // second-order transfer error is of the size of the differences between meshes, so
+        // the rule of docs/method.md §16 (transfer error > 0.2 U) must flag points.
+        let dir = tempfile::tempdir().unwrap();
+        let ns = [24, 16, 11];
+        let sizes: Vec<f64> = ns.iter().map(|&n| 1.0 / n as f64).collect();
+        let files = write_meshes(dir.path(), &ns, &sizes);
+        let s = assess_in_memory(&spec(files, None), &sizes, &Default::default(), None).unwrap();
+        let t = s.columns[0].transfer.as_ref().unwrap();
+        assert!(t.large_error_points > 0, "{t:?}");
+        let w = s.warnings();
+        let large = w
+            .iter()
+            .find(|w| w.code == "field_transfer_error_large")
+            .expect("warned");
+        assert!(large.message.contains("0.2 × U"), "{}", large.message);
+    }
+
+    #[test]
+    fn cell_data_sit_at_cell_centres_and_weigh_by_cell_area() {
+        // Manufactured order 2 (analytic) as cell data at the cells' vertex means; h in the
+        // data much larger than the spacing, so the transfer error is small beside the
+        // differences: the median order within 0.1 of 2 (a project choice).
+        let dir = tempfile::tempdir().unwrap();
+        let sizes = [0.1, 0.15, 0.225];
+        let files: Vec<PathBuf> = [40, 27, 18]
+            .iter()
+            .zip(sizes)
+            .enumerate()
+            .map(|(k, (&n, h))| {
+                let mut m = square(n, 0.3, 11 + k as u64);
+                let v: Vec<f64> = measure::centroids(&m).iter().map(|&c| phi(c, h)).collect();
+                m.arrays.push(Array {
+                    name: "p".into(),
+                    location: Location::Cell,
+                    components: 1,
+                    values: v,
+                });
+                let path = dir.path().join(format!("c{k}.vtu"));
+                let mut f = Vec::new();
+                vtk::write_vtu(&mut f, &m, vtk::WriteOptions::default()).unwrap();
+                std::fs::write(&path, f).unwrap();
+                path
+            })
+            .collect();
+        let out = dir.path().join("o.vtu");
+        let mem = crate::sink::InMemory::new();
+        use crate::sink::Outputs;
+        let sink = mem.open(&out).unwrap();
+        let s =
+            assess_in_memory(&spec(files, Some(out)), &sizes, &Default::default(), sink).unwrap();
+        let setup = s.setup.as_ref().unwrap();
+        assert_eq!(setup.targets, "finest_cells");
+        assert_eq!(setup.weighted_by, "area");
+        assert_eq!(s.points, 2 * 40 * 40);
+        let med = s.columns[0].median_order.unwrap();
+        assert!((med - 2.0).abs() < 0.1, "median order {med}");
+        let back = vtk::read_bytes(&mem.files()[0].1, "o.vtu").unwrap();
+        assert_eq!(back.array("p_class").unwrap().location, Location::Cell);
+        assert_eq!(back.cell_count(), 2 * 40 * 40);
+    }
+
+    #[test]
     fn four_meshes_use_least_squares_with_every_mesh() {
         // Manufactured data on four meshes: least squares at every point (setup says 4).
         let dir = tempfile::tempdir().unwrap();
