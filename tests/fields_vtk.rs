@@ -354,6 +354,13 @@ fn bad_input_is_refused_with_the_file_named() {
     refused(&w, &study(3, f), "fields.section.write");
     let f = format!("  section:\n    id: probe\n    columns: [p]\n    data: {DATA3}\n");
     refused(&w, &study(3, &f), "fields.section.id");
+    let f = "  section:\n    columns: [p]\n    data: {L1: a.csv, L2: L2.csv, L3: c.csv}\n    probe_points: L2.csv\n";
+    refused(&w, &study(3, f), "fields.section.probe_points");
+    // A probe set outside the study's folder is refused (confinement, docs/study-file.md).
+    let f = format!(
+        "  section:\n    columns: [p]\n    data: {DATA3}\n    probe_points: ../elsewhere.csv\n"
+    );
+    refused(&w, &study(3, &f), "fields.section.probe_points");
 }
 
 #[test]

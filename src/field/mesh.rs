@@ -385,6 +385,9 @@ fn prepare_meshes(spec: &FieldSpec) -> Result<Prepared, FieldError> {
             }
         }
         if k == 0 {
+            // Only the points and cells are kept (for the weights and the `.vtu` output).
+            let mut mesh = mesh;
+            mesh.arrays = Vec::new();
             finest_mesh = Some(mesh);
         }
     }
@@ -615,7 +618,8 @@ enum Estimator {
 struct Extra {
     /// Weight per class: none, monotonic, oscillatory, divergent, no_change.
     weight: [f64; 5],
-    max_error: f64,
+    /// The largest stated transfer error met (`None` before the first).
+    max_error: Option<f64>,
     large: u64,
     large_at: Vec<String>,
     outside: u64,
@@ -627,7 +631,10 @@ impl Extra {
         for k in 0..5 {
             self.weight[k] += o.weight[k];
         }
-        self.max_error = self.max_error.max(o.max_error);
+        self.max_error = match (self.max_error, o.max_error) {
+            (Some(a), Some(b)) => Some(a.max(b)),
+            (a, b) => a.or(b),
+        };
         self.large += o.large;
         self.outside += o.outside;
         let room = LISTED.saturating_sub(self.large_at.len());
@@ -716,7 +723,7 @@ fn estimate_chunk(
         out.transfer_error = te;
         extra.weight[class_code(Some(f.convergence)) as usize] += w;
         if te.is_finite() {
-            extra.max_error = extra.max_error.max(te);
+            extra.max_error = Some(extra.max_error.map_or(te, |m| m.max(te)));
             if let Some(u) = f.uncertainty.filter(|u| u.is_finite()) {
                 if te > TRANSFER_SHARE * u {
                     extra.large += 1;
@@ -802,9 +809,7 @@ fn estimate(
                 });
             }
             s.transfer = Some(TransferFigures {
-                max_error: (extra.max_error > 0.0 || extra.max_error == 0.0 && p.targets > 0)
-                    .then_some(extra.max_error)
-                    .filter(|v| v.is_finite()),
+                max_error: extra.max_error,
                 large_error_points: extra.large,
                 outside_points: extra.outside,
                 large_at: extra.large_at,
