@@ -16,6 +16,7 @@ use crate::Error;
 use serde::Serialize;
 
 pub mod compare;
+pub mod duty;
 mod govern;
 pub mod partial;
 pub mod sweep;
@@ -65,6 +66,9 @@ pub struct Assessment {
     pub quantities: Vec<QuantityResult>,
     /// Sweeps (curves per mesh).
     pub sweeps: Vec<sweep::SweepResult>,
+    /// Duty curves: sweeps at several flows against the flow (absent when the study has none).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub duty_curves: Vec<duty::DutyCurveResult>,
     /// Comparisons with measurements (ASME V&V 20).
     pub comparisons: Vec<compare::ComparisonResult>,
     /// Pointwise field summaries.
@@ -598,6 +602,19 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
             &mut warnings,
         )?);
     }
+    let duty_curves = duty::assemble(
+        &study.duty_curves,
+        &study.sweeps,
+        &sweeps,
+        &crate::compare::CompareSettings {
+            divisor: study.settings.validation_divisor,
+            coverage: study.settings.coverage_factor,
+            u_input: 0.0,
+            u_input_relative: 0.0,
+            normalise: false,
+        },
+        &mut warnings,
+    );
     let mut fields = Vec::new();
     let mut written = Vec::new();
     for (spec, idx) in &study.fields {
@@ -637,6 +654,7 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
         meshes: study.meshes.clone(),
         quantities,
         sweeps,
+        duty_curves,
         comparisons,
         fields,
         warnings,

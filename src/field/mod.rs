@@ -68,6 +68,7 @@ mod align;
 mod measure;
 mod mesh;
 mod parse;
+pub mod profile;
 mod read;
 mod summary;
 mod write;

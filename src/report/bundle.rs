@@ -124,6 +124,20 @@ pub fn figures(a: &Assessment) -> Vec<Figure> {
             convergence(&b.reference_estimate, title, &mut taken, &mut out);
         }
     }
+    for c in &a.duty_curves {
+        for sr in &c.series {
+            if let Some(svg) = super::duty::plot(c, sr) {
+                out.push(Figure {
+                    title: format!("Duty curve {}: {}", c.name, super::duty::series_label(sr)),
+                    svg,
+                    file: Some(unique(
+                        format!("duty-{}-{}", file_part(&c.name), file_part(&sr.key)),
+                        &mut taken,
+                    )),
+                });
+            }
+        }
+    }
     out
 }
 

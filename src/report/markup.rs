@@ -845,6 +845,7 @@ pub fn document(a: &Assessment, figures: &[Figure]) -> Vec<Block> {
     for s in &a.sweeps {
         sweep_blocks(s, &mut out);
     }
+    out.extend(super::duty::blocks(&a.duty_curves));
     if !a.comparisons.is_empty() {
         let origins: Vec<_> = a.comparisons.iter().map(|c| c.origin).collect();
         let heading = if origins.iter().all(|o| *o == origins[0]) {

@@ -3,6 +3,8 @@
 
 pub mod bundle;
 pub mod csv;
+pub mod duty;
+pub mod field_line;
 pub mod format;
 pub mod html;
 pub mod json;

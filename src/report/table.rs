@@ -687,6 +687,7 @@ impl Exporter for Table {
         for s in &a.sweeps {
             sweep_block(s, &mut out);
         }
+        super::duty::text(&a.duty_curves, &mut out);
         for c in &a.comparisons {
             comparison_block(a, c, &mut out);
         }

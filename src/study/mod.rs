@@ -6,6 +6,7 @@
 //! [`StudyError`] naming the file, the key path and, where known, the line and column.
 
 pub mod csv_input;
+pub mod duty;
 pub mod history_input;
 pub mod keys;
 pub mod num;
@@ -153,6 +154,8 @@ pub struct Study {
     pub acceptance: Vec<raw::RawAcceptance>,
     /// Measurements to compare with.
     pub references: Vec<reference::Reference>,
+    /// Duty curves: sweeps at several flows assembled against the flow.
+    pub duty_curves: Vec<duty::DutyCurve>,
     /// Pointwise fields, with the indices of the meshes they cover (every mesh with a file,
     /// finest first).
     pub fields: Vec<(crate::field::FieldSpec, Vec<usize>)>,
@@ -827,6 +830,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         &mut files_read,
         &mut warnings,
     )?;
+    let duty_curves = duty::check(&raw.duty_curves, &sweeps, &at)?;
     let mut fields = Vec::new();
     let mut files_written = Vec::new();
     for (fname, f) in &raw.fields {
@@ -983,6 +987,7 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         },
         references,
         sweeps,
+        duty_curves,
         fields,
         files_written,
         files_read,

@@ -32,6 +32,9 @@ pub struct RawStudy {
     /// Sweeps (curves per mesh) by name.
     #[serde(default)]
     pub sweeps: IndexMap<String, super::sweep::RawSweep>,
+    /// Duty curves: sweeps recorded at several flows, assembled against the flow.
+    #[serde(default)]
+    pub duty_curves: IndexMap<String, super::duty::RawDutyCurve>,
     /// Settings of the estimators.
     #[serde(default)]
     pub settings: RawSettings,
