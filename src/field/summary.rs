@@ -765,6 +765,36 @@ mod tests {
         codes
     }
 
+    #[test]
+    fn codes_of_four_meshes_follow_the_least_squares_result() {
+        // Manufactured values (analytic): growing differences diverge; equal values do not
+        // change; φ = 1 + 0.5 h² on h = 1, 1.5, 2.25, 3.375 converges at order 2 with no
+        // warning (least squares recovers it exactly, Eça & Hoekstra 2014).
+        use crate::estimate::point::{PointEstimator, PointSettings};
+        let h = [1.0, 1.5, 2.25, 3.375];
+        let est = PointEstimator::new(&h, &PointSettings::default()).unwrap();
+        let c = checks();
+        let names = |bits: u16| -> Vec<&str> {
+            FIELD_CODES
+                .iter()
+                .enumerate()
+                .filter(|(k, _)| bits & (1 << k) != 0)
+                .map(|(_, s)| *s)
+                .collect()
+        };
+        let good: Vec<f64> = h.iter().map(|x| 1.0 + 0.5 * x * x).collect();
+        assert!(names(c.codes_many(&est.estimate(&good), &good)).is_empty());
+        let flat = [2.0; 4];
+        assert_eq!(
+            names(c.codes_many(&est.estimate(&flat), &flat)),
+            vec!["no_change"]
+        );
+        let growing = [1.0, 1.1, 1.15, 1.17];
+        let r = est.estimate(&growing);
+        assert_eq!(r.convergence, Convergence::Divergent);
+        assert!(names(c.codes_many(&r, &growing)).contains(&"divergent"));
+    }
+
     fn diff() -> impl proptest::strategy::Strategy<Value = f64> {
         use proptest::prelude::*;
         prop_oneof![
