@@ -207,6 +207,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         files,
         write: None,
         reading: Default::default(),
+        probe_points: None,
     };
 
     if mode == "full" {

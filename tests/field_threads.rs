@@ -133,6 +133,7 @@ fn every_point_of_a_random_field_equals_the_scalar_estimate() {
             files: files.clone(),
             write: Some(out.clone()),
             reading: Default::default(),
+            probe_points: None,
         };
         // Small chunks and blocks, so that the field spans many of both.
         let opts = FieldOptions {
@@ -322,6 +323,7 @@ fn manufactured_field_is_monotonic_with_the_exact_order_everywhere() {
         files,
         write: Some(out.clone()),
         reading: Default::default(),
+        probe_points: None,
     };
     let s = assess_field_with(
         &spec,

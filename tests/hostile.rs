@@ -647,6 +647,7 @@ fn inputs_found_by_fuzzing_end_quickly() {
                 files,
                 write: None,
                 reading: Default::default(),
+                probe_points: None,
             };
             let h = [1.0, 1.3, 1.69];
             let s = ThreeGridSettings::default();

@@ -66,6 +66,7 @@ fuzz_target!(|data: &[u8]| {
         files,
         write: None,
         reading: Default::default(),
+        probe_points: None,
     };
     let h = [1.0, 1.3, 1.69];
     let settings = ThreeGridSettings::default();

@@ -624,11 +624,7 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
     let mut fields = Vec::new();
     let mut written = Vec::new();
     for (spec, idx) in &study.fields {
-        let h = [
-            study.meshes[idx[0]].size,
-            study.meshes[idx[1]].size,
-            study.meshes[idx[2]].size,
-        ];
+        let h: Vec<f64> = idx.iter().map(|&i| study.meshes[i].size).collect();
         let sink = match &spec.write {
             Some(target) => outputs.open(target).map_err(|source| Error::Output {
                 what: format!("field `{}`: cannot write", spec.name),
@@ -637,21 +633,20 @@ pub fn run(study: &Study, outputs: &dyn Outputs) -> Result<Assessment, Error> {
             })?,
             None => None,
         };
-        let summary =
-            crate::field::assess_field(spec, h, &settings, sink).map_err(|e| match e {
-                crate::field::FieldError::Write { path, source } => Error::Output {
-                    what: format!("field `{}`: cannot write", spec.name),
-                    path,
-                    source,
-                },
-                e => Error::Study(crate::study::StudyError {
-                    file: study.path.clone(),
-                    key: format!("fields.{}", spec.name),
-                    line: None,
-                    column: None,
-                    message: e.to_string(),
-                }),
-            })?;
+        let summary = crate::field::assess_any(spec, &h, &settings, sink).map_err(|e| match e {
+            crate::field::FieldError::Write { path, source } => Error::Output {
+                what: format!("field `{}`: cannot write", spec.name),
+                path,
+                source,
+            },
+            e => Error::Study(crate::study::StudyError {
+                file: study.path.clone(),
+                key: format!("fields.{}", spec.name),
+                line: None,
+                column: None,
+                message: e.to_string(),
+            }),
+        })?;
         if let Some(w) = &summary.written {
             written.push(w.clone());
         }

@@ -65,6 +65,8 @@
 //! licensed engineering judgment.
 
 mod align;
+mod measure;
+mod mesh;
 mod parse;
 pub mod profile;
 mod read;
@@ -72,7 +74,11 @@ mod summary;
 mod write;
 
 pub use crate::estimate::three_grid_fast::{FastThreeGrid, PointEstimate};
-pub use summary::{ClassCounts, ColumnSummary, FieldSummary, PointChecks, FIELD_CODES};
+pub use mesh::{is_vtk, is_vtu, CLASS_CODES};
+pub use summary::{
+    ClassCounts, ClassShares, ColumnSummary, FieldSetup, FieldSummary, PointChecks,
+    TransferFigures, FIELD_CODES, TRANSFER_SHARE,
+};
 
 use crate::estimate::three_grid::ThreeGridSettings;
 use crate::sink::PointSink;
@@ -106,6 +112,9 @@ pub struct FieldSpec {
     pub write: Option<PathBuf>,
     /// How the probe files are read (separator, decimal mark, column mapping and scales).
     pub reading: FieldReading,
+    /// For VTK files: a CSV of probe points (`x`, `y`, optional `z` and `id`) to estimate at
+    /// instead of the finest mesh's points.
+    pub probe_points: Option<PathBuf>,
 }
 
 /// How the probe files of a field are read (docs/study-file.md, "Tabular files").
@@ -255,6 +264,14 @@ pub enum FieldError {
         /// The text found (shortened).
         text: String,
     },
+    /// A VTK file could not be read, or lacks what the field needs.
+    #[error("{}: {message}", path.display())]
+    Mesh {
+        /// The file.
+        path: PathBuf,
+        /// What is wrong (the place in the file first, when known).
+        message: String,
+    },
     /// A probe id differs from the finest mesh's id in the same row.
     #[error("{0}")]
     IdMismatch(Box<IdMismatch>),
@@ -374,6 +391,23 @@ fn check_spec(spec: &FieldSpec, opts: &FieldOptions) -> Result<(), FieldError> {
         return Err(bad("chunk and block sizes must be at least 1".into()));
     }
     Ok(())
+}
+
+/// Assesses a field with every mesh it has (`h`: the sizes of `spec.files`, finest first):
+/// VTK files on meshes and probe files of four meshes or more in memory (`mesh`), three probe
+/// files streamed ([`assess_field`]).
+pub(crate) fn assess_any(
+    spec: &FieldSpec,
+    h: &[f64],
+    settings: &ThreeGridSettings,
+    sink: Option<Box<dyn PointSink>>,
+) -> Result<FieldSummary, FieldError> {
+    match h {
+        [a, b, c] if !spec.files.iter().any(|f| is_vtk(f)) => {
+            assess_field(spec, [*a, *b, *c], settings, sink)
+        }
+        _ => mesh::assess_in_memory(spec, h, settings, sink),
+    }
 }
 
 /// Assesses a field with the default streaming options. See [`assess_field_with`].
@@ -505,6 +539,7 @@ pub fn assess_field_with(
             .zip(&accs)
             .map(|(name, a)| a.finish(name))
             .collect(),
+        setup: None,
     })
 }
 
@@ -671,6 +706,7 @@ mod tests {
             files,
             write,
             reading: FieldReading::default(),
+            probe_points: None,
         }
     }
 

@@ -91,7 +91,10 @@ fn carry(targets: &[[f64; 3]], values: &[f64], places: &[[f64; 3]]) -> Vec<Optio
         return vec![None; places.len()];
     }
     let z0 = pts[0][2];
-    let flat = pts.iter().chain(places).all(|p| p[2].to_bits() == z0.to_bits());
+    let flat = pts
+        .iter()
+        .chain(places)
+        .all(|p| p[2].to_bits() == z0.to_bits());
     let out: Result<Vec<Transferred>, _> = if flat {
         let src: Vec<[f64; 2]> = pts.iter().map(|p| [p[0], p[1]]).collect();
         let dst: Vec<[f64; 2]> = places.iter().map(|p| [p[0], p[1]]).collect();

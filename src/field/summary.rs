@@ -2,6 +2,7 @@
 //! contract: their serde form) and the warnings they carry.
 
 use crate::assess::{DEMONSTRATED_MAX_RATIO, DEMONSTRATED_MIN_ORDER};
+use crate::estimate::point::PointResult;
 use crate::estimate::three_grid::{
     Governing, ThreeGridSettings, FORMAL_ORDER_TOLERANCE, ROUNDOFF_ULPS, SCAN_LO,
 };
@@ -128,6 +129,144 @@ impl PointChecks {
     }
 }
 
+impl PointChecks {
+    /// Bit `1 << k` set for each code `FIELD_CODES[k]` at a point estimated with four meshes
+    /// or more (`phi` finest first, `r` the [`PointEstimator`](crate::estimate::point::PointEstimator)'s
+    /// result): round-off, `no_change`, `divergent` and `oscillatory` as in [`PointChecks::codes`]
+    /// (round-off and R on the three finest meshes); `order_not_found` when the free order of
+    /// least squares is not found; the order checks on that free order;
+    /// `convergence_not_demonstrated` by the rule of
+    /// [`crate::assess::not_demonstrated`] for least squares (R of the three finest meshes
+    /// above the limit, no free order, or an order below the limit; the per-point result does
+    /// not say whether the order sits on an end of its search, so that rule is not applied);
+    /// `value_near_zero` when |φ1| is below the finest difference or U.
+    pub fn codes_many(&self, r: &PointResult, phi: &[f64]) -> u16 {
+        let (p0, p1, p2) = match phi {
+            [a, b, c, ..] => (*a, *b, *c),
+            _ => return 0,
+        };
+        let scale = p0.abs().max(p1.abs()).max(p2.abs());
+        let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
+        let d21 = p1 - p0;
+        let d32 = p2 - p1;
+        let round21 = d21 != 0.0 && d21.abs() <= tiny;
+        let round32 = d32 != 0.0 && d32.abs() <= tiny;
+        let mut bits: u16 = if round21 || round32 {
+            1 << C_ROUND_OFF
+        } else {
+            0
+        };
+        let e21 = if round21 { 0.0 } else { d21 };
+        let e32 = if round32 { 0.0 } else { d32 };
+        match r.convergence {
+            Convergence::NoChange => return bits | 1 << C_NO_CHANGE,
+            Convergence::Divergent => bits |= 1 << C_DIV,
+            Convergence::Oscillatory => bits |= 1 << C_OSC,
+            Convergence::Monotonic | Convergence::Undetermined => {}
+        }
+        let mut nd = e32 != 0.0 && e21 / e32 > DEMONSTRATED_MAX_RATIO;
+        match r.order {
+            Some(p) => {
+                let pf = self.formal_order;
+                if p < DEMONSTRATED_MIN_ORDER {
+                    nd = true;
+                }
+                if p < 0.5 {
+                    bits |= 1 << C_LOW;
+                } else if p > pf + 1.0 {
+                    bits |= 1 << C_HIGH;
+                } else if ((p - pf) / pf).abs() > FORMAL_ORDER_TOLERANCE {
+                    bits |= 1 << C_FAR;
+                }
+            }
+            None if r.convergence != Convergence::Divergent => {
+                bits |= 1 << C_NOT_FOUND;
+                nd = true;
+            }
+            None => {}
+        }
+        if nd {
+            bits |= 1 << C_ND;
+        }
+        if let Some(u) = r.uncertainty {
+            if p0.abs() < e21.abs().max(u) {
+                bits |= 1 << C_NEAR_ZERO;
+            }
+        }
+        bits
+    }
+}
+
+/// One point's figures as the summary takes them (any estimator).
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Figures {
+    pub(super) convergence: Convergence,
+    pub(super) order: Option<f64>,
+    pub(super) uncertainty: Option<f64>,
+    /// The uncertainty fell back on the formal order (three-mesh estimate).
+    pub(super) formal: bool,
+    /// Half the oscillation's range governed (three-mesh estimate).
+    pub(super) oscillation_range: bool,
+    /// Bits of [`FIELD_CODES`].
+    pub(super) codes: u16,
+}
+
+/// The share of the domain in each convergence class, weighted by the finest mesh's area or
+/// volume around each point (fractions summing to 1; see docs/method.md §16).
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
+pub struct ClassShares {
+    /// Monotonic convergence.
+    pub monotonic: f64,
+    /// Oscillatory convergence.
+    pub oscillatory: f64,
+    /// Divergence.
+    pub divergent: f64,
+    /// No change between meshes.
+    pub no_change: f64,
+    /// No estimate (a point outside a coarser mesh, or a value marked missing).
+    pub none: f64,
+}
+
+/// The transfer between meshes in one column of a field on meshes (contract: the serde form).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TransferFigures {
+    /// The largest stated transfer error over every point and coarser mesh.
+    pub max_error: Option<f64>,
+    /// Points whose stated transfer error exceeds [`TRANSFER_SHARE`] × U (the warning
+    /// `field_transfer_error_large`).
+    pub large_error_points: u64,
+    /// Points outside some coarser mesh (no estimate there; class `none`).
+    pub outside_points: u64,
+    /// The ids of the first points with a large transfer error.
+    #[serde(skip)]
+    pub large_at: Vec<String>,
+    /// The ids of the first points outside.
+    #[serde(skip)]
+    pub outside_at: Vec<String>,
+}
+
+/// A transfer error counts as not small at a point when it exceeds this share of the
+/// discretisation uncertainty U there (common practice, no source: the transfer should not
+/// add more than about a fifth to U; docs/method.md §16).
+pub const TRANSFER_SHARE: f64 = 0.2;
+
+/// How a field on meshes was set up (contract: the serde form; absent for probe files read
+/// in lockstep).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FieldSetup {
+    /// Meshes used at every point (finest first).
+    pub meshes: u64,
+    /// `meshes` for VTK files, `probe_files` for CSV probe files.
+    pub data: &'static str,
+    /// Where the estimate is made: `finest_points`, `finest_cells` or `probe_points`.
+    pub targets: &'static str,
+    /// 2 or 3: the dimension of the transfer (absent for probe files).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dimension: Option<u8>,
+    /// What weighs the class shares: `length`, `area`, `volume` or `equal`.
+    pub weighted_by: &'static str,
+}
+
 /// Bins of the order histogram behind the median (over `(0, order_max]`).
 pub(crate) const ORDER_BINS: usize = 20_000;
 
@@ -188,6 +327,12 @@ pub struct ColumnSummary {
     /// The ids of the first probes with a value marked missing (class `none`).
     #[serde(skip)]
     pub missing_at: Vec<String>,
+    /// The share of the domain in each class (fields on meshes and fields read in memory).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub class_shares: Option<ClassShares>,
+    /// The transfer between meshes (fields on meshes only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub transfer: Option<TransferFigures>,
 }
 
 impl ColumnSummary {
@@ -211,6 +356,9 @@ pub struct FieldSummary {
     pub written: Option<String>,
     /// One summary per column, in the order of the spec.
     pub columns: Vec<ColumnSummary>,
+    /// How a field held in memory was set up (absent for three probe files streamed).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub setup: Option<FieldSetup>,
 }
 
 impl FieldSummary {
@@ -254,15 +402,54 @@ impl FieldSummary {
                     .about(&self.name),
                 );
             }
-            if c.classes.none > 0 {
-                let more = c.classes.none - c.missing_at.len() as u64;
+            let outside = c.transfer.as_ref().map_or(0, |t| t.outside_points);
+            if let Some(t) = &c.transfer {
+                if t.outside_points > 0 {
+                    let more = t.outside_points - t.outside_at.len() as u64;
+                    out.push(
+                        Warning::new(
+                            "field_points_outside",
+                            format!(
+                                "column `{}`: {} of {} points lie outside a coarser mesh ({}{}); nothing is extrapolated there: they have no estimate (class `none`, no figures in the per-point file) and are left out of every figure",
+                                c.name,
+                                t.outside_points,
+                                self.points,
+                                t.outside_at.join(", "),
+                                if more > 0 { format!(" and {more} more") } else { String::new() }
+                            ),
+                        )
+                        .about(&self.name),
+                    );
+                }
+                if t.large_error_points > 0 {
+                    let more = t.large_error_points - t.large_at.len() as u64;
+                    out.push(
+                        Warning::new(
+                            "field_transfer_error_large",
+                            format!(
+                                "column `{}`: at {} of {} points the stated error of carrying a coarser solution onto them exceeds {} × U ({}{}); the uncertainty there may leave out an interpolation error of comparable size",
+                                c.name,
+                                t.large_error_points,
+                                self.points,
+                                TRANSFER_SHARE,
+                                t.large_at.join(", "),
+                                if more > 0 { format!(" and {more} more") } else { String::new() }
+                            ),
+                        )
+                        .about(&self.name),
+                    );
+                }
+            }
+            if c.classes.none > outside {
+                let missing = c.classes.none - outside;
+                let more = missing.saturating_sub(c.missing_at.len() as u64);
                 out.push(
                     Warning::new(
                         "field_points_missing",
                         format!(
                             "column `{}`: {} of {} probes have a value marked missing (empty, `-`, `nan`, `n/a`) on one of the meshes ({}{}); they have no estimate (class `none`, empty cells in the per-point file) and are left out of every figure",
                             c.name,
-                            c.classes.none,
+                            missing,
                             self.points,
                             c.missing_at.join(", "),
                             if more > 0 { format!(" and {more} more") } else { String::new() }
@@ -271,7 +458,10 @@ impl FieldSummary {
                     .about(&self.name),
                 );
             }
-            let what = "probes ";
+            let what = match &self.setup {
+                Some(FieldSetup { data: "meshes", .. }) => "points ",
+                _ => "probes ",
+            };
             let place = |id: &String| id.clone();
             if let Some(nd) = c.point_warnings.iter().find(|w| w.code == NOT_DEMONSTRATED) {
                 out.push(
@@ -356,21 +546,38 @@ impl ColumnAcc {
         id: &[u8],
         checks: &PointChecks,
     ) {
-        let phi1 = phi[0];
-        match e.convergence {
+        let codes = checks.codes(e, phi);
+        self.add_figures(
+            Figures {
+                convergence: e.convergence,
+                order: e.observed_order,
+                uncertainty: e.uncertainty,
+                formal: e.governing == Some(Governing::FormalOrder),
+                oscillation_range: e.governing == Some(Governing::OscillationRange),
+                codes,
+            },
+            phi[0],
+            id,
+        );
+    }
+
+    /// Adds one point's figures (any estimator), `phi1` the finest mesh's value.
+    pub(super) fn add_figures(&mut self, f: Figures, phi1: f64, id: &[u8]) {
+        match f.convergence {
             Convergence::Monotonic => self.classes.monotonic += 1,
             Convergence::Oscillatory => self.classes.oscillatory += 1,
             Convergence::Divergent => self.classes.divergent += 1,
             Convergence::NoChange => self.classes.no_change += 1,
-            // Three meshes always give a class.
+            // Three meshes or more always give a class.
             Convergence::Undetermined => {}
         }
-        match e.governing {
-            Some(Governing::FormalOrder) => self.formal += 1,
-            Some(Governing::OscillationRange) => self.osc_range += 1,
-            _ => {}
+        if f.formal {
+            self.formal += 1;
         }
-        let codes = checks.codes(e, phi);
+        if f.oscillation_range {
+            self.osc_range += 1;
+        }
+        let codes = f.codes;
         let mut rest = codes;
         while rest != 0 {
             let k = rest.trailing_zeros() as usize;
@@ -381,12 +588,12 @@ impl ColumnAcc {
             }
         }
         // Orders on a bound, not found or not demonstrated are left out of mean and median.
-        if let Some(p) = e.observed_order.filter(|_| codes & (1 << C_ND) == 0) {
+        if let Some(p) = f.order.filter(|_| codes & (1 << C_ND) == 0) {
             self.order_n += 1;
             self.order_sum += p;
             self.orders.push(p);
         }
-        if let Some(u) = e.uncertainty {
+        if let Some(u) = f.uncertainty {
             if !u.is_finite() {
                 self.overflowed += 1;
             } else if phi1 != 0.0 {
@@ -503,6 +710,8 @@ impl ColumnAcc {
                 })
                 .collect(),
             missing_at: self.missing_at.clone(),
+            class_shares: None,
+            transfer: None,
         }
     }
 }
@@ -554,6 +763,36 @@ mod tests {
             .collect();
         codes.sort();
         codes
+    }
+
+    #[test]
+    fn codes_of_four_meshes_follow_the_least_squares_result() {
+        // Manufactured values (analytic): growing differences diverge; equal values do not
+        // change; φ = 1 + 0.5 h² on h = 1, 1.5, 2.25, 3.375 converges at order 2 with no
+        // warning (least squares recovers it exactly, Eça & Hoekstra 2014).
+        use crate::estimate::point::{PointEstimator, PointSettings};
+        let h = [1.0, 1.5, 2.25, 3.375];
+        let est = PointEstimator::new(&h, &PointSettings::default()).unwrap();
+        let c = checks();
+        let names = |bits: u16| -> Vec<&str> {
+            FIELD_CODES
+                .iter()
+                .enumerate()
+                .filter(|(k, _)| bits & (1 << k) != 0)
+                .map(|(_, s)| *s)
+                .collect()
+        };
+        let good: Vec<f64> = h.iter().map(|x| 1.0 + 0.5 * x * x).collect();
+        assert!(names(c.codes_many(&est.estimate(&good), &good)).is_empty());
+        let flat = [2.0; 4];
+        assert_eq!(
+            names(c.codes_many(&est.estimate(&flat), &flat)),
+            vec!["no_change"]
+        );
+        let growing = [1.0, 1.1, 1.15, 1.17];
+        let r = est.estimate(&growing);
+        assert_eq!(r.convergence, Convergence::Divergent);
+        assert!(names(c.codes_many(&r, &growing)).contains(&"divergent"));
     }
 
     fn diff() -> impl proptest::strategy::Strategy<Value = f64> {
@@ -657,6 +896,7 @@ mod tests {
             points: probes.len() as u64,
             written: None,
             columns: vec![c],
+            setup: None,
         };
         let w = s.warnings();
         let nd = w
@@ -743,6 +983,7 @@ mod tests {
             points: 3,
             written: None,
             columns: vec![c],
+            setup: None,
         };
         let w = s.warnings();
         let o = w

@@ -156,8 +156,9 @@ pub struct Study {
     pub references: Vec<reference::Reference>,
     /// Duty curves: sweeps at several flows assembled against the flow.
     pub duty_curves: Vec<duty::DutyCurve>,
-    /// Pointwise fields, with the indices of the three finest meshes they cover.
-    pub fields: Vec<(crate::field::FieldSpec, [usize; 3])>,
+    /// Pointwise fields, with the indices of the meshes they cover (every mesh with a file,
+    /// finest first).
+    pub fields: Vec<(crate::field::FieldSpec, Vec<usize>)>,
     /// Files the study makes meshbound write (field per-point results).
     pub files_written: Vec<PathBuf>,
     /// Per mesh (same order as `meshes`): mean wall y+, when given.
@@ -853,19 +854,50 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
         }
         let idx: Vec<usize> = (0..meshes.len())
             .filter(|&i| f.data.contains_key(&meshes[i].name))
-            .take(3)
             .collect();
         if idx.len() < 3 {
             return Err(err(
                 format!("{key}.data"),
                 format!(
-                    "gives probe files for {} mesh(es); three are needed",
+                    "gives files for {} mesh(es); three or more are needed",
                     idx.len()
                 ),
             ));
         }
+        let vtk: Vec<bool> = idx
+            .iter()
+            .map(|&i| crate::field::is_vtk(Path::new(&f.data[&meshes[i].name])))
+            .collect();
+        let on_meshes = vtk.iter().all(|&v| v);
+        if !on_meshes && vtk.iter().any(|&v| v) {
+            let i = idx[vtk.iter().position(|&v| v).unwrap_or(0)];
+            return Err(err(
+                format!("{key}.data.{}", meshes[i].name),
+                "is a VTK file (`.vtu`, `.vtk`) but other meshes give probe files: give every mesh the same kind of file".into(),
+            ));
+        }
+        if on_meshes {
+            for (given, what) in [
+                (f.id.is_some(), "id"),
+                (f.separator.is_some(), "separator"),
+                (f.decimal.is_some(), "decimal"),
+                (!f.mapping.is_empty(), "mapping"),
+            ] {
+                if given {
+                    return Err(err(
+                        format!("{key}.{what}"),
+                        "is for probe files; with VTK files `columns` names the arrays".into(),
+                    ));
+                }
+            }
+        } else if f.probe_points.is_some() {
+            return Err(err(
+                format!("{key}.probe_points"),
+                "is for VTK data: probe files already hold the probes".into(),
+            ));
+        }
         let base = path.parent().unwrap_or(Path::new(""));
-        let mut files: Vec<PathBuf> = Vec::with_capacity(3);
+        let mut files: Vec<PathBuf> = Vec::with_capacity(idx.len());
         for &i in &idx {
             let given = &f.data[&meshes[i].name];
             let file = base.join(given);
@@ -875,15 +907,32 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
             files.push(file);
         }
         files_read.extend(files.iter().cloned());
+        let probe_points = match &f.probe_points {
+            Some(given) => {
+                let file = base.join(given);
+                reach
+                    .read(given, &file)
+                    .map_err(|m| err(format!("{key}.probe_points"), m))?;
+                files_read.push(file.clone());
+                Some(file)
+            }
+            None => None,
+        };
         let write = f.write.as_ref().map(|w| base.join(w));
         if let (Some(w), Some(given)) = (&write, &f.write) {
             reach
                 .write(given, w)
                 .map_err(|m| err(format!("{key}.write"), m))?;
-            if files.contains(w) || w == path {
+            if files.contains(w) || w == path || probe_points.as_ref() == Some(w) {
                 return Err(err(
                     format!("{key}.write"),
                     "would overwrite an input file".into(),
+                ));
+            }
+            if crate::field::is_vtu(w) && !on_meshes {
+                return Err(err(
+                    format!("{key}.write"),
+                    "a `.vtu` output needs VTK data (`.vtu` or `.vtk` files in `data`); probe files have no mesh: write a `.csv`".into(),
                 ));
             }
             files_written.push(w.clone());
@@ -896,8 +945,9 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
                 files,
                 write,
                 reading: f.reading(&key, &at)?,
+                probe_points,
             },
-            [idx[0], idx[1], idx[2]],
+            idx,
         ));
     }
     let references = reference::check(

@@ -69,12 +69,17 @@ pub struct RawField {
     pub id: Option<String>,
     /// Quantities to estimate at every probe.
     pub columns: Vec<String>,
-    /// Per mesh: a CSV file of probes, relative to the study file. Every file holds the same
-    /// probes in the same order.
+    /// Per mesh: a CSV file of probes (every file holds the same probes in the same order),
+    /// or a VTK file (`.vtu` or `.vtk`) of the mesh and its solution, relative to the study
+    /// file. With VTK files, `columns` names arrays (`p`, `U_x`, `U_0`).
     pub data: IndexMap<String, String>,
-    /// Per-point results file, relative to the study file.
+    /// Per-point results file, relative to the study file: CSV, or `.vtu` for VTK data.
     #[serde(default)]
     pub write: Option<String>,
+    /// With VTK data: a CSV of probe points (`x`, `y`, optional `z` and `id`) to estimate at,
+    /// instead of the finest mesh's points.
+    #[serde(default)]
+    pub probe_points: Option<String>,
     /// The separator of the probe files (default: detected).
     #[serde(default)]
     pub separator: Option<crate::tabular::Separator>,
