@@ -4,13 +4,35 @@
 //! A [`PointEstimator`] is prepared once per field (the sizes are the same at every point) and
 //! then called for millions of points from many threads.
 //!
-//! Interface first: the least-squares path here still calls
-//! [`least_squares::estimate`](crate::estimate::least_squares::estimate) per point; a fast path
-//! replaces it behind the same interface.
+//! With four or more meshes the estimate is [`FastLeastSquares`]: the general estimator
+//! ([`least_squares::estimate`]) specialised to fixed sizes, the same class, free order,
+//! extrapolated value and finest-mesh U (a property test holds them together), about two
+//! orders of magnitude faster; the rare points where its search is in doubt go to the general
+//! estimator.
+//!
+//! Beside the point's own observed order, the estimate can be stated with one GIVEN order at
+//! every point ([`PointEstimator::at_order`]), the global order of a field computed by
+//! [`crate::estimate::global_order`] (the average observed order, or the order of the norms of
+//! the difference fields).
+//!
+//! # The noise floor (a project rule, docs/method.md §15)
+//!
+//! With [`PointSettings::noise_floor`] = f > 0, differences between meshes no larger than f
+//! count as round-off (iterative or arithmetic), and:
+//!
+//! * all values within f of each other (max − min ≤ f): class `no_change`, U = f (the
+//!   round-off level, not zero), no order, the finest value as the extrapolated one, basis
+//!   [`PointBasis::NoiseFloor`];
+//! * some difference between successive meshes within f, the others not: an observed order
+//!   from a ratio involving round-off cannot be trusted. A divergent class stays divergent
+//!   (no U); otherwise the class is kept, the order and extrapolated value are dropped and
+//!   U = max(f, half the range of all values, the estimate's own U), basis
+//!   [`PointBasis::NoiseFloor`]; the flag [`PointFlags::partly_within_noise_floor`] says so.
 
 use crate::estimate::least_squares::{self, LsSettings};
+use crate::estimate::ls_fast::{FastLeastSquares, FixedOrderLs, LsFlags};
 use crate::estimate::three_grid::{Governing, ThreeGridSettings};
-use crate::estimate::three_grid_fast::FastThreeGrid;
+use crate::estimate::three_grid_fast::{FastThreeGrid, PointEstimate};
 use crate::estimate::{Convergence, EstimateError};
 
 /// Settings of the per-point estimate.
@@ -61,6 +83,81 @@ pub struct PointResult {
     pub basis: Option<PointBasis>,
 }
 
+/// Warning code: every value of the point lies within the noise floor of the others.
+pub const WARN_WITHIN_NOISE_FLOOR: &str = "point_within_noise_floor";
+/// Warning code: some difference between successive meshes lies within the noise floor, the
+/// others do not; U was stated from the floor and the range of the values.
+pub const WARN_PARTLY_WITHIN_NOISE_FLOOR: &str = "point_partly_within_noise_floor";
+
+/// What the estimate at a point says beyond its figures: the conditions behind the warning
+/// codes of the least-squares estimate and of the noise floor.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct PointFlags {
+    /// Least squares: the free-order minimum lies on an end of the searched range
+    /// ([`least_squares::WARN_ORDER_AT_BOUND`]).
+    pub order_at_bound: bool,
+    /// Least squares: σ of the selected fit is not below the data range
+    /// ([`least_squares::WARN_SCATTER_EXCEEDS_RANGE`]).
+    pub scatter_exceeds_range: bool,
+    /// Least squares: the differences change sign but do not alternate
+    /// ([`least_squares::WARN_NONMONOTONIC`]).
+    pub nonmonotonic: bool,
+    /// Least squares: the free order is below 0.5 ([`least_squares::WARN_LOW_ORDER`]).
+    pub low_order: bool,
+    /// Least squares: an order floor set U ([`least_squares::WARN_ORDER_TWO_FLOOR`] or
+    /// [`least_squares::WARN_FORMAL_ORDER_FLOOR`]).
+    pub floor_governs: bool,
+    /// The floor that set U is the formal-order floor (formal order below 2).
+    pub formal_order_floor: bool,
+    /// Every value lies within the noise floor ([`WARN_WITHIN_NOISE_FLOOR`]).
+    pub within_noise_floor: bool,
+    /// Some difference lies within the noise floor ([`WARN_PARTLY_WITHIN_NOISE_FLOOR`]).
+    pub partly_within_noise_floor: bool,
+    /// The fast least-squares search was in doubt and the general estimator decided (not a
+    /// warning: counted by the benchmark).
+    pub general_path: bool,
+}
+
+impl PointFlags {
+    /// The stable warning codes these flags stand for.
+    pub fn codes(&self) -> Vec<&'static str> {
+        let floor_code = match (self.floor_governs, self.formal_order_floor) {
+            (false, _) => None,
+            (true, false) => Some(least_squares::WARN_ORDER_TWO_FLOOR),
+            (true, true) => Some(least_squares::WARN_FORMAL_ORDER_FLOOR),
+        };
+        [
+            (self.order_at_bound, least_squares::WARN_ORDER_AT_BOUND),
+            (
+                self.scatter_exceeds_range,
+                least_squares::WARN_SCATTER_EXCEEDS_RANGE,
+            ),
+            (self.nonmonotonic, least_squares::WARN_NONMONOTONIC),
+            (self.low_order, least_squares::WARN_LOW_ORDER),
+            (self.within_noise_floor, WARN_WITHIN_NOISE_FLOOR),
+            (
+                self.partly_within_noise_floor,
+                WARN_PARTLY_WITHIN_NOISE_FLOOR,
+            ),
+        ]
+        .into_iter()
+        .filter_map(|(on, code)| on.then_some(code))
+        .chain(floor_code)
+        .collect()
+    }
+
+    fn from_ls(f: LsFlags) -> Self {
+        PointFlags {
+            order_at_bound: f.order_at_bound,
+            scatter_exceeds_range: f.scatter_exceeds_range,
+            nonmonotonic: f.nonmonotonic,
+            low_order: f.low_order,
+            floor_governs: f.floor_governs,
+            ..PointFlags::default()
+        }
+    }
+}
+
 /// The per-point estimate prepared for fixed mesh sizes.
 #[derive(Debug, Clone)]
 pub struct PointEstimator {
@@ -68,6 +165,37 @@ pub struct PointEstimator {
     names: Vec<String>,
     settings: PointSettings,
     three: Option<FastThreeGrid>,
+    /// The fast least-squares path (four or more meshes, sizes it can prepare).
+    fast: Option<FastLeastSquares>,
+}
+
+/// The estimate with one given order at every point, prepared by [`PointEstimator::at_order`].
+#[derive(Debug, Clone)]
+pub struct AtOrder<'a> {
+    base: &'a PointEstimator,
+    p: f64,
+    /// The fixed-order fit (four or more meshes).
+    fit: Option<FixedOrderLs>,
+}
+
+fn none_result(convergence: Convergence) -> PointResult {
+    PointResult {
+        convergence,
+        order: None,
+        extrapolated: None,
+        uncertainty: None,
+        basis: None,
+    }
+}
+
+fn from_three(e: PointEstimate) -> PointResult {
+    PointResult {
+        convergence: e.convergence,
+        order: e.observed_order,
+        extrapolated: e.extrapolated,
+        uncertainty: e.uncertainty,
+        basis: e.governing.map(PointBasis::ThreeMesh),
+    }
 }
 
 impl PointEstimator {
@@ -90,11 +218,17 @@ impl PointEstimator {
         } else {
             None
         };
+        let fast = if h.len() >= 4 {
+            FastLeastSquares::new(h, &settings.least_squares)?
+        } else {
+            None
+        };
         Ok(PointEstimator {
             h: h.to_vec(),
             names: (1..=h.len()).map(|i| format!("m{i}")).collect(),
             settings: settings.clone(),
             three,
+            fast,
         })
     }
 
@@ -105,33 +239,234 @@ impl PointEstimator {
 
     /// The estimate at one point; `phi` finest first, one value per mesh, finite.
     pub fn estimate(&self, phi: &[f64]) -> PointResult {
-        if let Some(t) = &self.three {
-            let e = t.estimate([phi[0], phi[1], phi[2]]);
-            return PointResult {
-                convergence: e.convergence,
-                order: e.observed_order,
-                extrapolated: e.extrapolated,
-                uncertainty: e.uncertainty,
-                basis: e.governing.map(PointBasis::ThreeMesh),
-            };
+        self.estimate_flagged(phi).0
+    }
+
+    /// The estimate at one point with the conditions behind its warnings.
+    pub fn estimate_flagged(&self, phi: &[f64]) -> (PointResult, PointFlags) {
+        if phi.len() != self.h.len() || phi.iter().any(|v| !v.is_finite()) {
+            return (none_result(Convergence::Divergent), PointFlags::default());
         }
+        if let Some(r) = self.within_floor(phi) {
+            return r;
+        }
+        let own = self.own_estimate(phi);
+        self.partly_within_floor(phi, own)
+    }
+
+    /// The estimate without the noise floor.
+    fn own_estimate(&self, phi: &[f64]) -> (PointResult, PointFlags) {
+        let (r, mut flags) = self.own_unmarked(phi);
+        flags.formal_order_floor =
+            flags.floor_governs && self.settings.least_squares.formal_order < 2.0;
+        (r, flags)
+    }
+
+    fn own_unmarked(&self, phi: &[f64]) -> (PointResult, PointFlags) {
+        if let Some(t) = &self.three {
+            return (
+                from_three(t.estimate([phi[0], phi[1], phi[2]])),
+                PointFlags::default(),
+            );
+        }
+        if let Some(ls) = self.fast.as_ref().and_then(|f| f.estimate(phi)) {
+            return (
+                PointResult {
+                    convergence: ls.convergence,
+                    order: ls.order,
+                    extrapolated: Some(ls.extrapolated),
+                    uncertainty: Some(ls.uncertainty),
+                    basis: Some(PointBasis::LeastSquares),
+                },
+                PointFlags::from_ls(ls.flags),
+            );
+        }
+        let (r, mut flags) = self.general(phi);
+        flags.general_path = true;
+        (r, flags)
+    }
+
+    /// The general least-squares estimator at one point.
+    fn general(&self, phi: &[f64]) -> (PointResult, PointFlags) {
         match least_squares::estimate(&self.names, &self.h, phi, &self.settings.least_squares) {
-            Ok(ls) => PointResult {
-                convergence: ls.convergence,
-                order: ls.order,
-                extrapolated: ls.selected_fit().map(|f| f.phi0),
-                uncertainty: ls.per_mesh.first().map(|m| m.uncertainty),
-                basis: Some(PointBasis::LeastSquares),
-            },
-            Err(_) => PointResult {
-                convergence: Convergence::Divergent,
-                order: None,
-                extrapolated: None,
-                uncertainty: None,
-                basis: None,
-            },
+            Ok(ls) => {
+                let has = |code: &str| ls.warnings.iter().any(|w| w.code == code);
+                let flags = PointFlags {
+                    order_at_bound: ls.order_at_bound,
+                    scatter_exceeds_range: has(least_squares::WARN_SCATTER_EXCEEDS_RANGE),
+                    nonmonotonic: has(least_squares::WARN_NONMONOTONIC),
+                    low_order: has(least_squares::WARN_LOW_ORDER),
+                    floor_governs: ls.floor_governs(),
+                    ..PointFlags::default()
+                };
+                (
+                    PointResult {
+                        convergence: ls.convergence,
+                        order: ls.order,
+                        extrapolated: ls.selected_fit().map(|f| f.phi0),
+                        uncertainty: ls.per_mesh.first().map(|m| m.uncertainty),
+                        basis: Some(PointBasis::LeastSquares),
+                    },
+                    flags,
+                )
+            }
+            Err(_) => (none_result(Convergence::Divergent), PointFlags::default()),
         }
     }
+
+    /// The point when every value lies within the noise floor.
+    fn within_floor(&self, phi: &[f64]) -> Option<(PointResult, PointFlags)> {
+        let f = self.settings.noise_floor;
+        if f <= 0.0 {
+            return None;
+        }
+        let (lo, hi) = min_max(phi);
+        (hi - lo <= f).then(|| {
+            (
+                PointResult {
+                    convergence: Convergence::NoChange,
+                    order: None,
+                    extrapolated: Some(phi[0]),
+                    uncertainty: Some(f),
+                    basis: Some(PointBasis::NoiseFloor),
+                },
+                PointFlags {
+                    within_noise_floor: true,
+                    ..PointFlags::default()
+                },
+            )
+        })
+    }
+
+    /// The point when some difference lies within the noise floor (module documentation).
+    fn partly_within_floor(
+        &self,
+        phi: &[f64],
+        own: (PointResult, PointFlags),
+    ) -> (PointResult, PointFlags) {
+        let f = self.settings.noise_floor;
+        if f <= 0.0 || !phi.windows(2).any(|w| (w[1] - w[0]).abs() <= f) {
+            return own;
+        }
+        let (r, mut flags) = own;
+        flags.partly_within_noise_floor = true;
+        if matches!(
+            r.convergence,
+            Convergence::Divergent | Convergence::NoChange
+        ) {
+            return (r, flags);
+        }
+        let (lo, hi) = min_max(phi);
+        let u = f.max(0.5 * (hi - lo)).max(r.uncertainty.unwrap_or(0.0));
+        (
+            PointResult {
+                convergence: r.convergence,
+                order: None,
+                extrapolated: None,
+                uncertainty: Some(u),
+                basis: Some(PointBasis::NoiseFloor),
+            },
+            flags,
+        )
+    }
+
+    /// Prepares the estimate with the order `p` at every point (a global order, see
+    /// [`crate::estimate::global_order`]); `p` must be finite and > 0.
+    pub fn at_order(&self, p: f64) -> Result<AtOrder<'_>, EstimateError> {
+        if !(p.is_finite() && p > 0.0) {
+            return Err(EstimateError::InvalidInput(format!(
+                "the global order must be finite and > 0 (got {p})"
+            )));
+        }
+        let fit = if self.h.len() >= 4 {
+            Some(FixedOrderLs::new(&self.h, p, &self.settings.least_squares)?)
+        } else {
+            None
+        };
+        Ok(AtOrder { base: self, p, fit })
+    }
+
+    /// The estimate at one point with the given order `p` (see [`AtOrder::estimate`]). For
+    /// many points prepare once with [`PointEstimator::at_order`]; here an invalid `p` gives
+    /// the point's class and no figures.
+    pub fn estimate_at_order(&self, phi: &[f64], p: f64) -> PointResult {
+        match self.at_order(p) {
+            Ok(a) => a.estimate(phi),
+            Err(_) => {
+                let own = self.estimate(phi);
+                none_result(own.convergence)
+            }
+        }
+    }
+}
+
+impl AtOrder<'_> {
+    /// The order.
+    pub fn order(&self) -> f64 {
+        self.p
+    }
+
+    /// The estimate at one point with the prepared order.
+    pub fn estimate(&self, phi: &[f64]) -> PointResult {
+        self.estimate_flagged(phi).0
+    }
+
+    /// The estimate at one point with the prepared order, and its flags.
+    ///
+    /// The class is the point's own ([`PointEstimator::estimate`]); the noise floor applies
+    /// as there. Three meshes: [`FastThreeGrid::estimate_at_order`] (Richardson with order p,
+    /// U by the settings' rule). Four or more: the fit `φ0 + α h^p` ([`FixedOrderLs`]).
+    /// Points that do not change or diverge keep their own result.
+    pub fn estimate_flagged(&self, phi: &[f64]) -> (PointResult, PointFlags) {
+        let base = self.base;
+        if phi.len() != base.h.len() || phi.iter().any(|v| !v.is_finite()) {
+            return (none_result(Convergence::Divergent), PointFlags::default());
+        }
+        if let Some(r) = base.within_floor(phi) {
+            return r;
+        }
+        let (own, own_flags) = base.own_estimate(phi);
+        let stated = if !matches!(
+            own.convergence,
+            Convergence::Monotonic | Convergence::Oscillatory
+        ) {
+            (own, own_flags)
+        } else if let Some(t) = &base.three {
+            (
+                from_three(t.estimate_at_order([phi[0], phi[1], phi[2]], self.p)),
+                PointFlags::default(),
+            )
+        } else {
+            match self.fit.as_ref().and_then(|f| f.estimate(phi)) {
+                Some(e) => (
+                    PointResult {
+                        convergence: own.convergence,
+                        order: Some(self.p),
+                        extrapolated: Some(e.extrapolated),
+                        uncertainty: Some(e.uncertainty),
+                        basis: Some(PointBasis::LeastSquares),
+                    },
+                    PointFlags {
+                        scatter_exceeds_range: e.scatter_exceeds_range,
+                        floor_governs: e.floor_governs,
+                        formal_order_floor: e.floor_governs
+                            && base.settings.least_squares.formal_order < 2.0,
+                        nonmonotonic: own_flags.nonmonotonic,
+                        ..PointFlags::default()
+                    },
+                ),
+                None => (none_result(own.convergence), own_flags),
+            }
+        };
+        base.partly_within_floor(phi, stated)
+    }
+}
+
+fn min_max(phi: &[f64]) -> (f64, f64) {
+    phi.iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| {
+            (lo.min(v), hi.max(v))
+        })
 }
 
 #[cfg(test)]
