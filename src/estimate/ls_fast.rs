@@ -39,6 +39,9 @@ const SAMPLE_STEP: f64 = 0.1;
 const MIN_SAMPLES: usize = 17;
 /// Most samples on one searched interval.
 const MAX_SAMPLES: usize = 400;
+/// Samples per interval that fit the stack buffer of one point (the default range has 41
+/// and 81).
+const SMALL_SAMPLES: usize = 128;
 /// How many sampled local minima are refined.
 const REFINED_MINIMA: usize = 3;
 /// Relative distance from an interval end within which the minimum counts as on the bound.
@@ -198,7 +201,7 @@ struct Interval {
 struct Weighting {
     /// Weights normalised to sum 1.
     omega: Vec<f64>,
-    /// Per interval, per sample: `ω_i x_i^p` (n values per sample).
+    /// Per interval: `ω_i x_i^p`, mesh-major (`[i m + k]` for sample k of m).
     sample_a: Vec<Vec<f64>>,
     /// Per interval, per sample: `1/C(p)`, or 0 where the column is unusable (the sample
     /// then costs the constant fit's RSS, as in the general estimator).
@@ -237,6 +240,8 @@ pub struct FastLeastSquares {
     r21: f64,
     settings: LsSettings,
     intervals: Vec<Interval>,
+    /// Per interval, per sample: `x_i^p` (n values per sample).
+    sample_c: Vec<Vec<f64>>,
     /// Unweighted, then weighted.
     weightings: [Weighting; 2],
 }
@@ -305,6 +310,15 @@ impl FastLeastSquares {
                 Interval { lo, hi, grid }
             })
             .collect();
+        let sample_c: Vec<Vec<f64>> = intervals
+            .iter()
+            .map(|iv| {
+                iv.grid
+                    .iter()
+                    .flat_map(|&p| x.iter().map(move |v| v.powf(p)))
+                    .collect()
+            })
+            .collect();
         let inv_sum: f64 = h.iter().map(|v| 1.0 / v).sum();
         let weights = [
             vec![1.0 / n as f64; n],
@@ -335,7 +349,16 @@ impl FastLeastSquares {
                         }
                     }
                 }
-                sample_a.push(a);
+                // mesh-major (`a[i m + k]`), so that one point's sums over the samples run
+                // along contiguous memory
+                let m = iv.grid.len();
+                let mut by_mesh = vec![0.0; n * m];
+                for k in 0..m {
+                    for i in 0..n {
+                        by_mesh[i * m + k] = a[k * n + i];
+                    }
+                }
+                sample_a.push(by_mesh);
                 sample_inv_c.push(ic);
             }
             let sq: Vec<f64> = x.iter().map(|v| v * v).collect();
@@ -365,6 +388,7 @@ impl FastLeastSquares {
             r21: x[1] / x[0],
             settings: *settings,
             intervals,
+            sample_c,
             weightings,
         }))
     }
@@ -377,23 +401,21 @@ impl FastLeastSquares {
         (self.n as f64 * rss / dof).max(0.0).sqrt()
     }
 
-    /// The free-order column's statistics at `p` for weighting `wt` and centred values `yt`:
-    /// (S, C, S', C', S'', C''), derivatives with respect to p.
-    fn moments(&self, wt: &Weighting, yt: &[f64], p: f64) -> [f64; 6] {
-        let n = self.n;
+    /// The free-order column's statistics for weighting `wt` and centred values `yt`, from
+    /// the column `c_i = x_i^p`: (S, C, S', C', S'', C''), derivatives with respect to p.
+    fn moments_of(&self, wt: &Weighting, yt: &[f64], c: &[f64]) -> [f64; 6] {
+        let n = self.n.min(16);
         let om = &wt.omega;
-        let mut c = [0.0_f64; 16];
         let (mut m0, mut m1, mut m2) = (0.0, 0.0, 0.0);
-        for i in 0..n.min(16) {
+        for i in 0..n {
             let l = self.lnx[i];
-            let ci = (p * l).exp();
-            c[i] = ci;
+            let ci = c[i];
             m0 += om[i] * ci;
             m1 += om[i] * ci * l;
             m2 += om[i] * ci * l * l;
         }
         let (mut s, mut s1, mut s2, mut cc, mut c1, mut c2) = (0.0, 0.0, 0.0, 0.0, 0.0, 0.0);
-        for i in 0..n.min(16) {
+        for i in 0..n {
             let l = self.lnx[i];
             let d0 = c[i] - m0;
             let d1 = c[i] * l - m1;
@@ -409,25 +431,35 @@ impl FastLeastSquares {
         }
         [s, cc, s1, 2.0 * c1, s2, 2.0 * c2]
     }
+}
 
-    /// dRSS/dp and d²RSS/dp² at `p` (variable projection, RSS = Y − S²/C).
-    fn derivatives(&self, wt: &Weighting, yt: &[f64], p: f64) -> (f64, f64) {
-        let [s, c, s1, c1, s2, c2] = self.moments(wt, yt, p);
-        let f = 2.0 * s1 * c - s * c1;
-        let f1 = 2.0 * s2 * c + s1 * c1 - s * c2;
-        let d1 = -s * f / (c * c);
-        let d2 = -((s1 * f + s * f1) * c - 2.0 * s * f * c1) / (c * c * c);
-        (d1, d2)
-    }
+/// dRSS/dp and d²RSS/dp² from (S, C, S', C', S'', C'').
+fn derivatives_of(mo: [f64; 6]) -> (f64, f64) {
+    // RSS = Y − S²/C: RSS' = −S F/C² with F = 2 S' C − S C'
+    let [s, c, s1, c1, s2, c2] = mo;
+    let f = 2.0 * s1 * c - s * c1;
+    let f1 = 2.0 * s2 * c + s1 * c1 - s * c2;
+    let d1 = -s * f / (c * c);
+    let d2 = -((s1 * f + s * f1) * c - 2.0 * s * f * c1) / (c * c * c);
+    (d1, d2)
+}
 
+impl FastLeastSquares {
     /// The free-order fit at `p`, by its residuals.
     fn free_at(&self, wt: &Weighting, yt: &[f64], my: f64, p: f64) -> Option<Solved> {
+        let mut col = [0.0_f64; 16];
+        for (c, l) in col.iter_mut().zip(&self.lnx) {
+            *c = (p * l).exp();
+        }
+        self.free_with(wt, yt, my, &col)
+    }
+
+    /// The free-order fit from its column `c_i = x_i^p`.
+    fn free_with(&self, wt: &Weighting, yt: &[f64], my: f64, col: &[f64]) -> Option<Solved> {
         let n = self.n;
         let om = &wt.omega;
-        let mut col = [0.0_f64; 16];
         let mut m = 0.0;
         for i in 0..n {
-            col[i] = (p * self.lnx[i]).exp();
             m += om[i] * col[i];
         }
         let (mut s, mut cc) = (0.0, 0.0);
@@ -455,67 +487,90 @@ impl FastLeastSquares {
         (rss.is_finite() && phi0.is_finite() && s.err1.is_finite()).then_some(s)
     }
 
-    /// The stationary point of RSS(p) in `[a, b]` with dRSS/dp < 0 at a and > 0 at b.
-    fn stationary(&self, wt: &Weighting, yt: &[f64], a: f64, b: f64, start: f64) -> f64 {
+    /// The stationary point of RSS(p) in `[a, b]` with dRSS/dp < 0 at a and > 0 at b, and the
+    /// column `x_i^p` there.
+    fn stationary(
+        &self,
+        wt: &Weighting,
+        yt: &[f64],
+        a: f64,
+        b: f64,
+        start: f64,
+    ) -> (f64, [f64; 16]) {
         let (mut l, mut h) = (a, b);
         let mut p = start.clamp(a, b);
+        let mut c = [0.0_f64; 16];
         for _ in 0..200 {
-            let (d1, d2) = self.derivatives(wt, yt, p);
+            for (ci, li) in c.iter_mut().zip(&self.lnx) {
+                *ci = (p * li).exp();
+            }
+            let (d1, d2) = derivatives_of(self.moments_of(wt, yt, &c));
             if d1 == 0.0 {
-                return p;
+                return (p, c);
             }
             if d1 < 0.0 {
                 l = p;
             } else {
                 h = p;
             }
-            let mut next = p - d1 / d2;
-            if !(next.is_finite() && d2 > 0.0 && next > l && next < h) {
-                next = 0.5 * (l + h);
+            let newton = p - d1 / d2;
+            let newton_ok = newton.is_finite() && d2 > 0.0 && newton > l && newton < h;
+            let next = if newton_ok { newton } else { 0.5 * (l + h) };
+            let step = next - p;
+            // a Newton step this small leaves an error of about its square times a factor of
+            // order one: converged. The column moves to `next` by the series of
+            // exp(step ln x) to second order (the third-order term is below 1e-16 relative).
+            if newton_ok && step.abs() <= 1e-7 * (1.0 + p.abs()) {
+                for (ci, li) in c.iter_mut().zip(&self.lnx) {
+                    let t = step * li;
+                    *ci *= 1.0 + t + 0.5 * t * t;
+                }
+                return (next, c);
             }
-            let done = (next - p).abs() <= 2.0 * f64::EPSILON * (1.0 + p.abs())
-                || h - l <= 2.0 * f64::EPSILON * (1.0 + h.abs());
             p = next;
-            if done {
-                return p;
+            if h - l <= 4.0 * f64::EPSILON * (1.0 + h.abs()) {
+                break;
             }
         }
-        p
+        for (ci, li) in c.iter_mut().zip(&self.lnx) {
+            *ci = (p * li).exp();
+        }
+        (p, c)
     }
 
     /// The free-order search of one weighting; `None` when the fast search is in doubt.
     fn free_fit(&self, wt: &Weighting, yt: &[f64], my: f64, yy: f64) -> Option<FreeOutcome> {
         let mut best: Option<FreeOutcome> = None;
-        for (iv, (a_tab, ic_tab)) in self
+        for ((iv, c_tab), (a_tab, ic_tab)) in self
             .intervals
             .iter()
+            .zip(&self.sample_c)
             .zip(wt.sample_a.iter().zip(&wt.sample_inv_c))
         {
             let m = iv.grid.len();
-            let val = |k: usize| -> f64 {
-                let ic = ic_tab[k];
-                if ic == 0.0 {
-                    return yy;
-                }
-                let row = &a_tab[k * self.n..(k + 1) * self.n];
-                let s: f64 = row.iter().zip(yt).map(|(a, y)| a * y).sum();
-                let v = yy - s * s * ic;
-                // an unusable value costs the constant fit, as in the general estimator
-                if v.is_finite() {
-                    v
-                } else {
-                    yy
-                }
+            // S(p_k) = Σ_i ỹ_i ω_i x_i^p_k for every sample at once, then
+            // RSS(p_k) = Y − S² / C (an unusable sample has a = 0 and 1/C = 0: RSS = Y, the
+            // constant fit's, as in the general estimator)
+            // a small buffer on the stack for the usual ranges (zeroing 400 would cost more
+            // than the sums), the heap for very wide ones
+            let mut small = [0.0_f64; SMALL_SAMPLES];
+            let mut large = Vec::new();
+            let vals: &mut [f64] = if m <= SMALL_SAMPLES {
+                &mut small[..m]
+            } else {
+                large.resize(m, 0.0);
+                &mut large
             };
+            sample_residuals(a_tab, ic_tab, yt, yy, vals);
+            let vals: &[f64] = vals;
+            let val = |k: usize| vals[k];
             // the three lowest local minima of the samples, lowest first, ties by position
             let mut minima: [(f64, usize); REFINED_MINIMA] = [(f64::INFINITY, usize::MAX); 3];
             let mut count = 0usize;
-            let mut prev = f64::NAN;
-            let mut cur = val(0);
             for k in 0..m {
-                let next = if k + 1 < m { val(k + 1) } else { f64::NAN };
-                let left = k == 0 || cur <= prev;
-                let right = k + 1 == m || cur <= next;
+                let cur = vals[k];
+                let left = k == 0 || cur <= vals[k - 1];
+                let right = k + 1 == m || cur <= vals[k + 1];
                 if left && right {
                     count += 1;
                     // insert keeping (value, index) order; equal values keep index order
@@ -530,8 +585,6 @@ impl FastLeastSquares {
                         minima[j] = (cur, k);
                     }
                 }
-                prev = cur;
-                cur = next;
             }
             for &(v, k) in minima.iter().take(count.min(REFINED_MINIMA)) {
                 if !v.is_finite() {
@@ -540,21 +593,37 @@ impl FastLeastSquares {
                 let ka = k.saturating_sub(1);
                 let kb = (k + 1).min(m - 1);
                 let (pa, pb) = (iv.grid[ka], iv.grid[kb]);
-                let (da, _) = self.derivatives(wt, yt, pa);
-                let (db, _) = self.derivatives(wt, yt, pb);
+                let n = self.n;
+                let at =
+                    |j: usize| derivatives_of(self.moments_of(wt, yt, &c_tab[j * n..(j + 1) * n]));
+                let (da, _) = at(ka);
+                let (db, _) = at(kb);
                 if !(da.is_finite() && db.is_finite()) {
                     return None;
                 }
-                let p = if da < 0.0 && db > 0.0 {
-                    self.stationary(wt, yt, pa, pb, iv.grid[k])
+                let (p, solved) = if da < 0.0 && db > 0.0 {
+                    // start at the vertex of the parabola through the three samples
+                    let mut start = iv.grid[k];
+                    if ka < k && k < kb {
+                        let (va, vb) = (val(ka), val(kb));
+                        let den = va - 2.0 * v + vb;
+                        let step = 0.5 * (pb - pa);
+                        if den > 0.0 {
+                            let t = start - 0.5 * step * (vb - va) / den;
+                            if t.is_finite() {
+                                start = t.clamp(pa, pb);
+                            }
+                        }
+                    }
+                    let (p, c) = self.stationary(wt, yt, pa, pb, start);
+                    (p, self.free_with(wt, yt, my, &c)?)
                 } else if k == 0 && da >= 0.0 && db > 0.0 {
-                    iv.lo
+                    (iv.lo, self.free_at(wt, yt, my, iv.lo)?)
                 } else if k + 1 == m && db <= 0.0 && da < 0.0 {
-                    iv.hi
+                    (iv.hi, self.free_at(wt, yt, my, iv.hi)?)
                 } else {
                     return None;
                 };
-                let solved = self.free_at(wt, yt, my, p)?;
                 let better = best.is_none_or(|b| solved.rss < b.solved.rss);
                 if better {
                     let near = |edge: f64| (p - edge).abs() <= BOUND_TOL * edge.abs().max(1.0);
@@ -731,6 +800,43 @@ impl FastLeastSquares {
                 floor_governs,
             },
         })
+    }
+}
+
+/// `RSS(p_k) = Y − S(p_k)² / C(p_k)` for every sample k, with `S(p_k) = Σ_i ỹ_i a[i m + k]`;
+/// the number of meshes as a constant where it is small, so that the sums over the meshes
+/// unroll and the samples run in vector lanes.
+fn sample_residuals(a: &[f64], ic: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
+    fn fixed<const N: usize>(a: &[f64], ic: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
+        let m = out.len();
+        let mut y = [0.0_f64; N];
+        y.copy_from_slice(&yt[..N]);
+        let rows: [&[f64]; N] = std::array::from_fn(|i| &a[i * m..(i + 1) * m]);
+        for (k, (o, c)) in out.iter_mut().zip(&ic[..m]).enumerate() {
+            let mut s = 0.0;
+            for i in 0..N {
+                s += y[i] * rows[i][k];
+            }
+            *o = yy - s * s * c;
+        }
+    }
+    match yt.len() {
+        4 => fixed::<4>(a, ic, yt, yy, out),
+        5 => fixed::<5>(a, ic, yt, yy, out),
+        6 => fixed::<6>(a, ic, yt, yy, out),
+        7 => fixed::<7>(a, ic, yt, yy, out),
+        8 => fixed::<8>(a, ic, yt, yy, out),
+        _ => {
+            let m = out.len();
+            for (i, &y) in yt.iter().enumerate() {
+                for (v, x) in out.iter_mut().zip(&a[i * m..(i + 1) * m]) {
+                    *v += y * x;
+                }
+            }
+            for (v, c) in out.iter_mut().zip(ic) {
+                *v = yy - *v * *v * c;
+            }
+        }
     }
 }
 
