@@ -299,3 +299,90 @@ pub fn norm_order(h: &[f64], norms: &[f64]) -> Result<NormOrder, EstimateError> 
         misfit,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::estimate::point::{PointEstimator, PointSettings};
+
+    /// Stern et al. (2001) with equal ratios: p = ln(‖ε32‖/‖ε21‖)/ln r. Manufactured fields
+    /// φ(x, h) = f(x) + g(x) h^1.7 over points x: every difference field is g(x)(h_j^p − h_i^p),
+    /// so any norm gives the ratio r^1.7 and the order 1.7 (analytic).
+    #[test]
+    fn norm_order_of_manufactured_fields() {
+        let h = [0.01, 0.02, 0.04];
+        let mut acc = DifferenceNorms::new(3);
+        let mut other = DifferenceNorms::new(3);
+        for k in 0..1000 {
+            let x = k as f64 / 999.0;
+            let g = (3.0 * x).sin() + 0.2;
+            let phi: Vec<f64> = h.iter().map(|hh: &f64| x * x + g * hh.powf(1.7)).collect();
+            if k % 2 == 0 {
+                acc.add(&phi);
+            } else {
+                other.add(&phi);
+            }
+        }
+        acc.merge(&other);
+        assert_eq!(acc.count(), 1000);
+        for kind in [NormKind::L2, NormKind::LInf] {
+            let o = norm_order(&h, &acc.norms(kind)).unwrap();
+            assert!((o.order - 1.7).abs() < 1e-9, "{kind:?}: {}", o.order);
+            assert!(!o.at_bound);
+        }
+        // the closed form with the norms themselves (Stern et al. 2001)
+        let d = acc.norms(NormKind::L2);
+        let closed = (d[1] / d[0]).ln() / 2f64.ln();
+        assert!((norm_order(&h, &d).unwrap().order - closed).abs() < 1e-9);
+    }
+
+    /// Unequal ratios and more meshes: the exact relation (h3^p − h2^p)/(h2^p − h1^p) and
+    /// the least-squares fit recover the manufactured order (analytic).
+    #[test]
+    fn norm_order_with_unequal_ratios_and_five_meshes() {
+        let h: [f64; 5] = [1.0, 1.3, 2.0, 2.5, 4.0];
+        let p = 2.3;
+        let norms: Vec<f64> = h
+            .windows(2)
+            .map(|w| 0.7 * (w[1].powf(p) - w[0].powf(p)))
+            .collect();
+        let o = norm_order(&h, &norms).unwrap();
+        assert!((o.order - p).abs() < 1e-9);
+        assert!(o.misfit < 1e-9);
+        let o3 = norm_order(&h[..3], &norms[..2]).unwrap();
+        assert!((o3.order - p).abs() < 1e-9);
+        // norms that grow with refinement have no positive order
+        assert!(norm_order(&[1.0, 2.0, 4.0], &[2.0, 1.0]).is_err());
+        assert!(norm_order(&[1.0, 2.0, 4.0], &[0.0, 1.0]).is_err());
+        assert!(norm_order(&[1.0, 2.0], &[1.0]).is_err());
+    }
+
+    /// The average order counts the monotonic points only (the choice documented in the
+    /// module): manufactured points with orders 1, 2 and 3 on three meshes (analytic), one
+    /// oscillatory point and one that does not change.
+    #[test]
+    fn average_order_counts_monotonic_points() {
+        let h = [1.0, 2.0, 4.0];
+        let est = PointEstimator::new(&h, &PointSettings::default()).unwrap();
+        let mut results = Vec::new();
+        for p in [1.0, 2.0, 3.0] {
+            let phi = h.map(|x: f64| 5.0 + 0.1 * x.powf(p));
+            results.push(est.estimate(&phi));
+        }
+        results.push(est.estimate(&[1.0, 1.1, 1.05]));
+        results.push(est.estimate(&[1.0, 1.0, 1.0]));
+        let avg = average_order(&results);
+        assert_eq!(avg.count(), 3);
+        assert_eq!(avg.skipped(), 2);
+        assert!((avg.mean().unwrap() - 2.0).abs() < 1e-9);
+        let mut a = AverageOrder::new();
+        a.add(&results[0]);
+        let mut b = AverageOrder::new();
+        b.add(&results[1]);
+        b.add(&results[3]);
+        a.merge(&b);
+        assert_eq!((a.count(), a.skipped()), (2, 1));
+        assert!((a.mean().unwrap() - 1.5).abs() < 1e-9);
+        assert_eq!(AverageOrder::new().mean(), None);
+    }
+}

@@ -485,4 +485,143 @@ mod tests {
         assert!((r.order.unwrap() - 2.0).abs() < 1e-6);
         assert!((r.extrapolated.unwrap() - 1.0).abs() < 1e-8);
     }
+
+    /// Noise floor, all values within it (a project rule, docs/method.md §15; the values are
+    /// round-off-sized changes around 1, analytic): class no_change, U = the floor, not zero.
+    #[test]
+    fn all_values_within_the_noise_floor() {
+        let h = [1.0, 1.5, 2.25, 3.375];
+        let settings = PointSettings {
+            noise_floor: 1e-6,
+            ..PointSettings::default()
+        };
+        let est = PointEstimator::new(&h, &settings).unwrap();
+        let (r, f) = est.estimate_flagged(&[1.0, 1.0 + 3e-7, 1.0 - 2e-7, 1.0 + 6e-7]);
+        assert_eq!(r.convergence, Convergence::NoChange);
+        assert_eq!(r.uncertainty, Some(1e-6));
+        assert_eq!(r.basis, Some(PointBasis::NoiseFloor));
+        assert_eq!(r.order, None);
+        assert!(f.within_noise_floor);
+        assert_eq!(f.codes(), vec![WARN_WITHIN_NOISE_FLOOR]);
+        // the same values without the floor: an estimate with some order, not the floor
+        let plain = PointEstimator::new(&h, &PointSettings::default()).unwrap();
+        assert_ne!(
+            plain
+                .estimate(&[1.0, 1.0 + 3e-7, 1.0 - 2e-7, 1.0 + 6e-7])
+                .basis,
+            Some(PointBasis::NoiseFloor)
+        );
+    }
+
+    /// Noise floor, the finest pair within it and the rest not (project rule): U covers the
+    /// floor and half the range of all values; no order is claimed. Manufactured
+    /// φ = 1 + 0.5 h⁴ on three meshes, with the finest difference made round-off-sized.
+    #[test]
+    fn finest_pair_within_the_noise_floor() {
+        let h = [1.0, 2.0, 4.0];
+        let settings = PointSettings {
+            noise_floor: 1e-3,
+            ..PointSettings::default()
+        };
+        let est = PointEstimator::new(&h, &settings).unwrap();
+        let phi = [1.5, 1.5 + 5e-4, 1.5 + 0.5 * 255.0];
+        let (r, f) = est.estimate_flagged(&phi);
+        assert!(f.partly_within_noise_floor);
+        assert_eq!(r.basis, Some(PointBasis::NoiseFloor));
+        assert_eq!(r.order, None);
+        let half_range = 0.5 * (phi[2] - phi[0]);
+        assert!(r.uncertainty.unwrap() >= half_range);
+        // divergent data keep the divergent class and no U
+        let (d, fd) = est.estimate_flagged(&[1.0, 1.5, 1.5 + 5e-4]);
+        assert_eq!(d.convergence, Convergence::Divergent);
+        assert_eq!(d.uncertainty, None);
+        assert!(fd.partly_within_noise_floor);
+    }
+
+    /// A negative or non-finite floor is refused.
+    #[test]
+    fn bad_noise_floor_is_refused() {
+        for f in [-1.0, f64::NAN, f64::INFINITY] {
+            let s = PointSettings {
+                noise_floor: f,
+                ..PointSettings::default()
+            };
+            assert!(PointEstimator::new(&[1.0, 2.0, 4.0], &s).is_err());
+        }
+    }
+
+    /// Three meshes at a given order: Richardson with that order (Celik et al. 2008 eq. for
+    /// φ_ext and the GCI with Fs = 1.25). Manufactured φ = 2 − 0.3 h² with r = 2 at the
+    /// manufactured order p = 2: φ_ext = 2 exactly, U = 1.25 |ε21|/(r² − 1) (analytic).
+    #[test]
+    fn three_meshes_at_a_given_order() {
+        let h = [1.0, 2.0, 4.0];
+        let settings = PointSettings {
+            three: ThreeGridSettings {
+                rule: crate::estimate::rules::Rule::CelikGci,
+                ..ThreeGridSettings::default()
+            },
+            ..PointSettings::default()
+        };
+        let est = PointEstimator::new(&h, &settings).unwrap();
+        let phi = [2.0 - 0.3, 2.0 - 1.2, 2.0 - 4.8];
+        let r = est.estimate_at_order(&phi, 2.0);
+        assert_eq!(r.convergence, Convergence::Monotonic);
+        assert_eq!(r.order, Some(2.0));
+        assert!((r.extrapolated.unwrap() - 2.0).abs() < 1e-14);
+        assert!((r.uncertainty.unwrap() - 1.25 * 0.9 / 3.0).abs() < 1e-14);
+        // at order 1 the same data give φ_ext = φ1 + (φ1 − φ2)/(2 − 1) (Richardson, analytic)
+        let r1 = est.estimate_at_order(&phi, 1.0);
+        assert!((r1.extrapolated.unwrap() - (1.7 + 0.9)).abs() < 1e-14);
+        // an invalid order gives the class and nothing else
+        let bad = est.estimate_at_order(&phi, -1.0);
+        assert_eq!(bad.convergence, Convergence::Monotonic);
+        assert_eq!(bad.uncertainty, None);
+        assert!(est.at_order(f64::NAN).is_err());
+    }
+
+    /// Four meshes or more at a given order: the fit φ0 + α h^p recovers φ0 of manufactured
+    /// data φ = 1 + 0.5 h^1.5 exactly, and U is the stated form (analytic).
+    #[test]
+    fn four_meshes_at_a_given_order() {
+        let h = [1.0, 1.4, 2.0, 2.8, 4.0];
+        let phi: Vec<f64> = h.iter().map(|x: &f64| 1.0 + 0.5 * x.powf(1.5)).collect();
+        let est = PointEstimator::new(&h, &PointSettings::default()).unwrap();
+        let at = est.at_order(1.5).unwrap();
+        let r = at.estimate(&phi);
+        assert_eq!(r.convergence, Convergence::Monotonic);
+        assert_eq!(r.order, Some(1.5));
+        assert!((r.extrapolated.unwrap() - 1.0).abs() < 1e-12);
+        // σ = 0, residual 0, Fs = 1.25: U = 1.25 · 0.5
+        assert!((r.uncertainty.unwrap() - 0.625).abs() < 1e-12);
+        // at a wrong order the fit leaves residuals and U grows
+        let wrong = at.base.at_order(1.0).unwrap().estimate(&phi);
+        assert!(wrong.uncertainty.unwrap() > 0.625);
+    }
+
+    /// The per-point estimate with four or more meshes equals the general least-squares
+    /// estimator (source: `least_squares::estimate`; the property test in ls_fast.rs covers
+    /// random data) on the worked five-mesh set of the timing example and divergent data.
+    #[test]
+    fn per_point_equals_general_estimator() {
+        let h = [1.0, 1.3, 1.7, 2.2, 2.9];
+        let est = PointEstimator::new(&h, &PointSettings::default()).unwrap();
+        for phi in [
+            [0.9059958, 0.9037413, 0.9001442, 0.8946823, 0.8855637],
+            [1.0, 1.2, 1.3, 1.35, 1.37],
+            [1.0, 1.1, 0.95, 1.2, 0.9],
+        ] {
+            let (r, flags) = est.estimate_flagged(&phi);
+            let (g, _) = est.general(&phi);
+            assert_eq!(r.convergence, g.convergence, "{phi:?}");
+            let close = |a: Option<f64>, b: Option<f64>| match (a, b) {
+                (Some(x), Some(y)) => (x - y).abs() <= 1e-9 * x.abs().max(y.abs()).max(1e-3),
+                (None, None) => true,
+                _ => false,
+            };
+            assert!(close(r.order, g.order), "{phi:?}: {r:?} {g:?} {flags:?}");
+            assert!(close(r.extrapolated, g.extrapolated), "{phi:?}");
+            assert!(close(r.uncertainty, g.uncertainty), "{phi:?}");
+        }
+    }
 }
