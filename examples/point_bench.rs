@@ -146,8 +146,9 @@ fn main() {
             });
         let size = (hi - lo).max(gu);
         let du = (r.uncertainty.unwrap_or(f64::NAN) - gu).abs() / size;
-        let dp = (r.order.unwrap_or(f64::NAN) - g.order.unwrap_or(f64::NAN)).abs();
-        if r.convergence == g.convergence && du <= 1e-9 && dp <= 1e-9 * dp.max(1.0) {
+        let (pf, pg) = (r.order.unwrap_or(f64::NAN), g.order.unwrap_or(f64::NAN));
+        let dp = (pf - pg).abs();
+        if r.convergence == g.convergence && du <= 1e-9 && dp <= 1e-9 * pg.abs().max(1.0) {
             same += 1;
         } else {
             flat += 1;
