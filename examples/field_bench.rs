@@ -208,6 +208,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         write: None,
         reading: Default::default(),
         probe_points: None,
+        estimate: Default::default(),
     };
 
     if mode == "full" {

@@ -134,6 +134,7 @@ fn every_point_of_a_random_field_equals_the_scalar_estimate() {
             write: Some(out.clone()),
             reading: Default::default(),
             probe_points: None,
+            estimate: Default::default(),
         };
         // Small chunks and blocks, so that the field spans many of both.
         let opts = FieldOptions {
@@ -324,6 +325,7 @@ fn manufactured_field_is_monotonic_with_the_exact_order_everywhere() {
         write: Some(out.clone()),
         reading: Default::default(),
         probe_points: None,
+        estimate: Default::default(),
     };
     let s = assess_field_with(
         &spec,

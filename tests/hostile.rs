@@ -648,6 +648,7 @@ fn inputs_found_by_fuzzing_end_quickly() {
                 write: None,
                 reading: Default::default(),
                 probe_points: None,
+                estimate: Default::default(),
             };
             let h = [1.0, 1.3, 1.69];
             let s = ThreeGridSettings::default();

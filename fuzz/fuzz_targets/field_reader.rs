@@ -67,6 +67,7 @@ fuzz_target!(|data: &[u8]| {
         write: None,
         reading: Default::default(),
         probe_points: None,
+        estimate: Default::default(),
     };
     let h = [1.0, 1.3, 1.69];
     let settings = ThreeGridSettings::default();

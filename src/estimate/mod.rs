@@ -2,7 +2,9 @@
 //!
 //! Nothing here reads files or prints. Inputs are always ordered finest mesh first.
 
+pub mod global_order;
 pub mod least_squares;
+pub mod ls_fast;
 pub mod point;
 pub mod rules;
 pub mod three_grid;

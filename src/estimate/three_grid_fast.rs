@@ -156,6 +156,71 @@ impl FastThreeGrid {
         out
     }
 
+    /// The estimate at one point with a GIVEN order `p` (a global order for every point of a
+    /// field, e.g. the average observed order, Celik et al. 2008): the class is the point's
+    /// own (as [`FastThreeGrid::estimate`] gives it); where it is monotonic or oscillatory
+    /// and the finest pair differs, the extrapolated value is Richardson's with order p and U
+    /// is the settings' rule applied with p in place of the observed order
+    /// ([`crate::estimate::rules::core`]). Where nothing changes, the values diverge, or the
+    /// finest pair is equal (no Richardson step exists), the result is
+    /// [`FastThreeGrid::estimate`]'s. A `p` that is not finite and > 0 gives the point's class
+    /// and nothing else.
+    pub fn estimate_at_order(&self, phi: [f64; 3], p: f64) -> PointEstimate {
+        use crate::estimate::rules::{self, Branch, Rule};
+        let own = self.estimate(phi);
+        if !(p.is_finite() && p > 0.0) {
+            return PointEstimate {
+                convergence: own.convergence,
+                observed_order: None,
+                extrapolated: None,
+                uncertainty: None,
+                gci_uncertainty: None,
+                governing: None,
+            };
+        }
+        let scale = phi.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
+        let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
+        let clear = |e: f64| if e.abs() <= tiny { 0.0 } else { e };
+        let (e21, e32) = (clear(phi[1] - phi[0]), clear(phi[2] - phi[1]));
+        if !matches!(
+            own.convergence,
+            Convergence::Monotonic | Convergence::Oscillatory
+        ) || e21 == 0.0
+        {
+            return own;
+        }
+        let d = r_pow_minus_one(self.solver.a * p);
+        let half_range = 0.5
+            * (phi.iter().fold(f64::NEG_INFINITY, |m, v| m.max(*v))
+                - phi.iter().fold(f64::INFINITY, |m, v| m.min(*v)));
+        let core = rules::Core {
+            convergence: own.convergence,
+            order: Some(p),
+            ratios: [self.r21, self.r32],
+            differences: [e21, e32],
+            formal_order: self.formal_order,
+            half_range,
+            celik_fs: self.fs,
+        };
+        let (u, _, _, branch) = rules::core(self.rule, &core);
+        let (u_gci, _, _, _) = rules::core(Rule::CelikGci, &core);
+        let governing = match branch {
+            Branch::Divergent | Branch::NotApplicable => None,
+            Branch::NoChange => Some(Governing::NoChange),
+            Branch::OscillationRange => Some(Governing::OscillationRange),
+            Branch::FormalOrderFallback => Some(Governing::FormalOrder),
+            _ => Some(Governing::Gci),
+        };
+        PointEstimate {
+            convergence: own.convergence,
+            observed_order: Some(p),
+            extrapolated: Some(phi[0] - e21 / d),
+            uncertainty: u,
+            gci_uncertainty: u_gci,
+            governing,
+        }
+    }
+
     /// The Celik et al. (2008) estimate at one point.
     fn estimate_gci(&self, phi: [f64; 3]) -> PointEstimate {
         let scale = phi.iter().fold(0.0_f64, |m, v| m.max(v.abs()));

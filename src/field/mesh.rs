@@ -123,6 +123,8 @@ struct Prepared {
     setup: FieldSetup,
     /// The mesh a `.vtu` output is written on (no arrays), and the arrays' location.
     out_mesh: Option<(Mesh, Location)>,
+    /// The targets' coordinates (fields on meshes; empty for probe files).
+    coords: Vec<[f64; 3]>,
 }
 
 /// One target's figures in one column (NaN where a figure does not exist).
@@ -408,6 +410,7 @@ fn prepare_meshes(spec: &FieldSpec) -> Result<Prepared, FieldError> {
     } else {
         "equal"
     };
+    let coords = targets.clone();
     let out_mesh = if probes {
         Mesh {
             points: targets.clone(),
@@ -443,6 +446,7 @@ fn prepare_meshes(spec: &FieldSpec) -> Result<Prepared, FieldError> {
             weighted_by,
         },
         out_mesh: Some((out_mesh, if probes { Location::Point } else { location })),
+        coords,
     })
 }
 
@@ -604,13 +608,106 @@ fn prepare_probe_files(spec: &FieldSpec) -> Result<Prepared, FieldError> {
             weighted_by: "equal",
         },
         out_mesh: None,
+        coords: Vec::new(),
     })
 }
 
 /// The estimator of a field: three meshes or more.
-enum Estimator {
+enum Estimator<'a> {
     Three(FastThreeGrid),
-    Many(PointEstimator),
+    Many(&'a PointEstimator),
+    Fixed(crate::estimate::point::AtOrder<'a>),
+}
+
+impl Estimator<'_> {
+    /// The estimate with every mesh and its flags (the three-mesh path has no flags).
+    fn flagged(
+        &self,
+        phi: &[f64],
+    ) -> (
+        crate::estimate::point::PointResult,
+        crate::estimate::point::PointFlags,
+    ) {
+        match self {
+            Estimator::Many(pe) => pe.estimate_flagged(phi),
+            Estimator::Fixed(at) => at.estimate_flagged(phi),
+            Estimator::Three(fast) => {
+                let e = fast.estimate([phi[0], phi[1], phi[2]]);
+                (
+                    crate::estimate::point::PointResult {
+                        convergence: e.convergence,
+                        order: e.observed_order,
+                        extrapolated: e.extrapolated,
+                        uncertainty: e.uncertainty,
+                        basis: None,
+                    },
+                    Default::default(),
+                )
+            }
+        }
+    }
+}
+
+/// The one order of a column by `basis` over the points that have every value (`None` when
+/// none can be formed), and how many points it came from.
+fn global_order(
+    basis: super::OrderBasis,
+    col: &ColumnValues,
+    targets: usize,
+    m: usize,
+    h: &[f64],
+    pe: &PointEstimator,
+) -> (Option<f64>, u64) {
+    use crate::estimate::global_order::{AverageOrder, DifferenceNorms, NormKind};
+    let usable = |i: &usize| {
+        !col.outside.get(*i).copied().unwrap_or(false)
+            && col.values[i * m..(i + 1) * m].iter().all(|v| v.is_finite())
+    };
+    match basis {
+        super::OrderBasis::PerPoint => (None, 0),
+        super::OrderBasis::Average => {
+            let acc = (0..targets)
+                .into_par_iter()
+                .filter(usable)
+                .fold(AverageOrder::new, |mut a, i| {
+                    a.add(&pe.estimate(&col.values[i * m..(i + 1) * m]));
+                    a
+                })
+                .reduce(AverageOrder::new, |mut a, b| {
+                    a.merge(&b);
+                    a
+                });
+            (acc.mean(), acc.count())
+        }
+        super::OrderBasis::NormL2 | super::OrderBasis::NormMax => {
+            let acc = (0..targets)
+                .into_par_iter()
+                .filter(usable)
+                .fold(
+                    || DifferenceNorms::new(m),
+                    |mut a, i| {
+                        a.add(&col.values[i * m..(i + 1) * m]);
+                        a
+                    },
+                )
+                .reduce(
+                    || DifferenceNorms::new(m),
+                    |mut a, b| {
+                        a.merge(&b);
+                        a
+                    },
+                );
+            let kind = if basis == super::OrderBasis::NormL2 {
+                NormKind::L2
+            } else {
+                NormKind::LInf
+            };
+            let order = crate::estimate::global_order::norm_order(h, &acc.norms(kind))
+                .ok()
+                .map(|o| o.order);
+            (order, acc.count())
+        }
+    }
 }
 
 /// Accumulated over a chunk of targets in one column.
@@ -624,6 +721,8 @@ struct Extra {
     large_at: Vec<String>,
     outside: u64,
     outside_at: Vec<String>,
+    within_floor: u64,
+    partly_within_floor: u64,
 }
 
 impl Extra {
@@ -637,6 +736,8 @@ impl Extra {
         };
         self.large += o.large;
         self.outside += o.outside;
+        self.within_floor += o.within_floor;
+        self.partly_within_floor += o.partly_within_floor;
         let room = LISTED.saturating_sub(self.large_at.len());
         self.large_at.extend(o.large_at.iter().take(room).cloned());
         let room = LISTED.saturating_sub(self.outside_at.len());
@@ -650,7 +751,7 @@ fn estimate_chunk(
     col: &ColumnValues,
     range: std::ops::Range<usize>,
     m: usize,
-    est: &Estimator,
+    est: &Estimator<'_>,
     checks: &PointChecks,
 ) -> (ColumnAcc, Extra, Vec<PointOut>) {
     let mut acc = ColumnAcc::default();
@@ -703,8 +804,10 @@ fn estimate_chunk(
                 }
                 .with_extrapolated(e.extrapolated, &mut out)
             }
-            Estimator::Many(pe) => {
-                let r = pe.estimate(phi);
+            Estimator::Many(_) | Estimator::Fixed(_) => {
+                let (r, flags) = est.flagged(phi);
+                extra.within_floor += u64::from(flags.within_noise_floor);
+                extra.partly_within_floor += u64::from(flags.partly_within_noise_floor);
                 Figures {
                     convergence: r.convergence,
                     order: r.order,
@@ -757,22 +860,32 @@ fn estimate(
         message,
     };
     let m = h.len();
-    let (est, cap) = if m == 3 {
-        let fast = FastThreeGrid::new([h[0], h[1], h[2]], settings)
-            .map_err(|e| spec_err(e.to_string()))?;
-        let cap = fast.order_cap();
-        (Estimator::Three(fast), cap)
+    let opts = &spec.estimate;
+    let custom = opts.order != super::OrderBasis::PerPoint || opts.noise_floor > 0.0;
+    let ps = PointSettings {
+        three: settings.clone(),
+        least_squares: LsSettings {
+            formal_order: settings.formal_order,
+            ..LsSettings::default()
+        },
+        noise_floor: opts.noise_floor,
+    };
+    let pe = if m > 3 || custom {
+        Some(PointEstimator::new(h, &ps).map_err(|e| spec_err(e.to_string()))?)
     } else {
-        let ps = PointSettings {
-            three: settings.clone(),
-            least_squares: LsSettings {
-                formal_order: settings.formal_order,
-                ..LsSettings::default()
-            },
-            ..PointSettings::default()
-        };
-        let pe = PointEstimator::new(h, &ps).map_err(|e| spec_err(e.to_string()))?;
-        (Estimator::Many(pe), ps.least_squares.order_max)
+        None
+    };
+    let (base, cap) = match &pe {
+        Some(pe) if m > 3 => (Estimator::Many(pe), ps.least_squares.order_max),
+        _ => {
+            let fast = FastThreeGrid::new([h[0], h[1], h[2]], settings)
+                .map_err(|e| spec_err(e.to_string()))?;
+            let cap = fast.order_cap();
+            match &pe {
+                Some(pe) => (Estimator::Many(pe), cap),
+                None => (Estimator::Three(fast), cap),
+            }
+        }
     };
     let checks = PointChecks::new(settings);
     let bin_scale = ORDER_BINS as f64 / cap;
@@ -783,9 +896,26 @@ fn estimate(
             .step_by(CHUNK)
             .map(|s| s..(s + CHUNK).min(p.targets))
             .collect();
+        // A global order: formed over the column first, then put in at every point.
+        let mut used = None;
+        let fixed = match &pe {
+            Some(pe) if opts.order != super::OrderBasis::PerPoint => {
+                let (order, from) = global_order(opts.order, col, p.targets, m, h, pe);
+                used = Some(super::summary::GlobalOrderUsed {
+                    basis: opts.order,
+                    order,
+                    from_points: from,
+                });
+                order
+                    .and_then(|o| pe.at_order(o).ok())
+                    .map(Estimator::Fixed)
+            }
+            _ => None,
+        };
+        let est = fixed.as_ref().unwrap_or(&base);
         let parts: Vec<_> = ranges
             .into_par_iter()
-            .map(|r| estimate_chunk(p, col, r, m, &est, &checks))
+            .map(|r| estimate_chunk(p, col, r, m, est, &checks))
             .collect();
         let mut acc = ColumnAcc::default();
         let mut extra = Extra::default();
@@ -796,6 +926,14 @@ fn estimate(
             outs.extend(o);
         }
         let mut s = acc.finish(name);
+        s.global_order = used;
+        if opts.noise_floor > 0.0 {
+            s.noise_floor = Some(super::summary::NoiseFloorFigures {
+                floor: opts.noise_floor,
+                within: extra.within_floor,
+                partly_within: extra.partly_within_floor,
+            });
+        }
         if p.setup.data == "meshes" {
             let total: f64 = extra.weight.iter().sum();
             if total > 0.0 {
@@ -976,12 +1114,54 @@ pub(crate) fn assess_in_memory(
         }
         _ => None,
     };
+    // The line and the reference points read the per-point figures at the targets.
+    let figures = |column: &str| {
+        let c = spec.columns.iter().position(|x| x == column)?;
+        let pts = points.get(c)?;
+        Some((
+            pts.iter().map(|o| o.phi1).collect::<Vec<_>>(),
+            pts.iter().map(|o| o.extrapolated).collect::<Vec<_>>(),
+            pts.iter().map(|o| o.uncertainty).collect::<Vec<_>>(),
+        ))
+    };
+    let line = match (&spec.estimate.line, p.coords.is_empty()) {
+        (Some(l), false) => match figures(&l.column) {
+            Some((v, e, u)) => {
+                Some(super::profile::sample_line(l, &p.coords, &v, &e, &u).map_err(spec_err)?)
+            }
+            None => None,
+        },
+        _ => None,
+    };
+    let comparison = match (&spec.estimate.reference, p.coords.is_empty()) {
+        (Some(r), false) => figures(&r.column).map(|(v, _, u)| {
+            super::profile::compare_at_points(
+                &r.column,
+                r.benchmark,
+                &p.coords,
+                &v,
+                &u,
+                &r.points,
+                r.divisor,
+                &crate::compare::CompareSettings {
+                    divisor: None,
+                    coverage: r.coverage,
+                    u_input: 0.0,
+                    u_input_relative: 0.0,
+                    normalise: false,
+                },
+            )
+        }),
+        _ => None,
+    };
     Ok(FieldSummary {
         name: spec.name.clone(),
         points: p.targets as u64,
         written,
         columns,
         setup: Some(p.setup),
+        line,
+        comparison,
     })
 }
 
@@ -1089,6 +1269,7 @@ mod tests {
             write,
             reading: Default::default(),
             probe_points: None,
+            estimate: Default::default(),
         }
     }
 

@@ -115,6 +115,54 @@ pub struct FieldSpec {
     /// For VTK files: a CSV of probe points (`x`, `y`, optional `z` and `id`) to estimate at
     /// instead of the finest mesh's points.
     pub probe_points: Option<PathBuf>,
+    /// How the per-point estimate is made (global order, noise floor, a line, reference
+    /// points); the default is the per-point order without a floor.
+    pub estimate: FieldEstimate,
+}
+
+/// Which order the per-point estimates use (the study's `order` key of a field).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum OrderBasis {
+    /// Each point's own observed order (default).
+    #[default]
+    PerPoint,
+    /// One order for every point: the mean of the points' observed orders over the points
+    /// that converge monotonically (Celik et al. 2008; Phillips & Roy 2014, from memory).
+    Average,
+    /// One order from the L2 norms of the differences between meshes (Stern et al. 2001).
+    NormL2,
+    /// One order from the L∞ norms of the differences between meshes (Stern et al. 2001).
+    NormMax,
+}
+
+/// How a field's per-point estimate is made beyond the study's settings.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct FieldEstimate {
+    /// Which order the points use.
+    pub order: OrderBasis,
+    /// Absolute noise floor: differences no larger count as round-off (0 = off).
+    pub noise_floor: f64,
+    /// A line to sample the results along (fields on meshes or probe sets).
+    pub line: Option<profile::LineSpec>,
+    /// Reference data at points, compared after ASME V&V 20.
+    pub reference: Option<FieldReference>,
+}
+
+/// Reference data of a field at points.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldReference {
+    /// The column compared.
+    pub column: String,
+    /// Whether the data are a published benchmark solution (else measurements).
+    pub benchmark: bool,
+    /// The points.
+    pub points: Vec<profile::ReferencePoint>,
+    /// u_num = U / divisor: the study's `validation_divisor`, else 2 (U read as an expanded
+    /// uncertainty at about 95 %, the default rule's reading; GUM k = 2, from memory).
+    pub divisor: f64,
+    /// Coverage factor k (the study's `coverage_factor`).
+    pub coverage: f64,
 }
 
 /// How the probe files of a field are read (docs/study-file.md, "Tabular files").
@@ -540,6 +588,8 @@ pub fn assess_field_with(
             .map(|(name, a)| a.finish(name))
             .collect(),
         setup: None,
+        line: None,
+        comparison: None,
     })
 }
 
@@ -707,6 +757,7 @@ mod tests {
             write,
             reading: FieldReading::default(),
             probe_points: None,
+            estimate: Default::default(),
         }
     }
 

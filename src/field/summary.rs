@@ -291,6 +291,29 @@ fn is_zero(n: &u64) -> bool {
     *n == 0
 }
 
+/// The global order of a field column (part of the JSON result).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct GlobalOrderUsed {
+    /// How it was formed: `average`, `norm_l2`, `norm_max`.
+    pub basis: crate::field::OrderBasis,
+    /// The order put in at every point (`null` when none could be formed: the points then
+    /// kept their own orders).
+    pub order: Option<f64>,
+    /// The points it was formed from.
+    pub from_points: u64,
+}
+
+/// The noise floor of a field column and the points it touched (part of the JSON result).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct NoiseFloorFigures {
+    /// The floor, absolute.
+    pub floor: f64,
+    /// Points whose values all lie within it (class `no_change`, U = the floor).
+    pub within: u64,
+    /// Points with some difference within it.
+    pub partly_within: u64,
+}
+
 /// Summary of one column of a field (contract: the serde form).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ColumnSummary {
@@ -333,6 +356,12 @@ pub struct ColumnSummary {
     /// The transfer between meshes (fields on meshes only).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub transfer: Option<TransferFigures>,
+    /// The one order every point used, when the field asks for a global order.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub global_order: Option<GlobalOrderUsed>,
+    /// The noise floor and the points it touched, when the field sets one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub noise_floor: Option<NoiseFloorFigures>,
 }
 
 impl ColumnSummary {
@@ -359,6 +388,12 @@ pub struct FieldSummary {
     /// How a field held in memory was set up (absent for three probe files streamed).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub setup: Option<FieldSetup>,
+    /// A column's results along a sampled line, when the field asks for one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub line: Option<crate::field::profile::LineProfile>,
+    /// The comparison with reference data at points, when the field gives some.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub comparison: Option<crate::field::profile::FieldComparison>,
 }
 
 impl FieldSummary {
@@ -712,6 +747,8 @@ impl ColumnAcc {
             missing_at: self.missing_at.clone(),
             class_shares: None,
             transfer: None,
+            global_order: None,
+            noise_floor: None,
         }
     }
 }
@@ -897,6 +934,8 @@ mod tests {
             written: None,
             columns: vec![c],
             setup: None,
+            line: None,
+            comparison: None,
         };
         let w = s.warnings();
         let nd = w
@@ -984,6 +1023,8 @@ mod tests {
             written: None,
             columns: vec![c],
             setup: None,
+            line: None,
+            comparison: None,
         };
         let w = s.warnings();
         let o = w

@@ -946,6 +946,13 @@ pub fn parse_with(text: &str, path: &Path, options: &LoadOptions) -> Result<Stud
                 write,
                 reading: f.reading(&key, &at)?,
                 probe_points,
+                estimate: f.estimate(
+                    &key,
+                    &at,
+                    on_meshes,
+                    raw.settings.validation_divisor.map(|v| v.0),
+                    raw.settings.coverage_factor.map_or(2.0, |v| v.0),
+                )?,
             },
             idx,
         ));

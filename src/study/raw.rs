@@ -89,9 +89,211 @@ pub struct RawField {
     /// Where each of `columns` is read from, and its scale.
     #[serde(default)]
     pub mapping: IndexMap<String, RawColumn>,
+    /// Which order the per-point estimates use: `per_point` (default), `average`, `norm_l2`,
+    /// `norm_max`.
+    #[serde(default)]
+    pub order: Option<RawOrderBasis>,
+    /// Absolute noise floor: differences between meshes no larger than this count as
+    /// round-off (default 0: off).
+    #[serde(default)]
+    pub noise_floor: Option<super::num::Finite>,
+    /// A line to sample the results along (VTK data): `{column, from, to, samples}`.
+    #[serde(default)]
+    pub line: Option<RawFieldLine>,
+    /// Reference data at points, compared after ASME V&V 20 (VTK data).
+    #[serde(default)]
+    pub reference: Option<RawFieldReference>,
+}
+
+/// Which order a field's per-point estimates use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, schemars::JsonSchema)]
+#[serde(rename_all = "snake_case")]
+pub enum RawOrderBasis {
+    /// Each point's own observed order.
+    PerPoint,
+    /// The mean observed order of the monotonically converging points, at every point.
+    Average,
+    /// The order of the L2 norms of the differences between meshes, at every point.
+    NormL2,
+    /// The order of the L∞ norms of the differences between meshes, at every point.
+    NormMax,
+}
+
+/// A line to sample a field's results along.
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawFieldLine {
+    /// The column (one of `columns`; default the first).
+    #[serde(default)]
+    pub column: Option<String>,
+    /// Start point `[x, y]` or `[x, y, z]`.
+    pub from: Vec<super::num::Finite>,
+    /// End point `[x, y]` or `[x, y, z]`.
+    pub to: Vec<super::num::Finite>,
+    /// Number of samples, both ends included (default 200, at least 2, at most 100000).
+    #[serde(default)]
+    pub samples: Option<usize>,
+}
+
+/// Reference data of a field at points.
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawFieldReference {
+    /// The column compared (one of `columns`; default the first).
+    #[serde(default)]
+    pub column: Option<String>,
+    /// `measurement` (default) or `benchmark` (a published reference solution).
+    #[serde(default)]
+    pub origin: Option<super::reference::Origin>,
+    /// Standard uncertainty of every reference value, absolute, unless a point gives its own.
+    #[serde(default)]
+    pub u: Option<super::num::Finite>,
+    /// The points.
+    pub points: Vec<RawFieldPoint>,
+}
+
+/// One reference point of a field.
+#[derive(Debug, Deserialize, schemars::JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct RawFieldPoint {
+    /// x.
+    pub x: super::num::Finite,
+    /// y.
+    pub y: super::num::Finite,
+    /// z (default 0).
+    #[serde(default)]
+    pub z: Option<super::num::Finite>,
+    /// Reference value.
+    pub value: super::num::Finite,
+    /// Standard uncertainty, absolute (default the reference's `u`, else 0).
+    #[serde(default)]
+    pub u: Option<super::num::Finite>,
 }
 
 impl RawField {
+    /// The estimate options of a field: global order, noise floor, line, reference points.
+    pub fn estimate(
+        &self,
+        key: &str,
+        at: &super::At,
+        meshes_data: bool,
+        divisor: Option<f64>,
+        coverage: f64,
+    ) -> Result<crate::field::FieldEstimate, super::StudyError> {
+        use crate::field::{profile, FieldEstimate, FieldReference, OrderBasis};
+        let column = |given: &Option<String>, k: &str| -> Result<String, super::StudyError> {
+            match given {
+                None => Ok(self.columns.first().cloned().unwrap_or_default()),
+                Some(c) if self.columns.contains(c) => Ok(c.clone()),
+                Some(c) => Err(at.err(
+                    format!("{key}.{k}.column"),
+                    format!(
+                        "`{c}` is not one of the field's columns ({})",
+                        self.columns.join(", ")
+                    ),
+                )),
+            }
+        };
+        let point = |v: &[super::num::Finite], k: &str| -> Result<[f64; 3], super::StudyError> {
+            match v {
+                [x, y] => Ok([x.0, y.0, 0.0]),
+                [x, y, z] => Ok([x.0, y.0, z.0]),
+                _ => Err(at.err(
+                    format!("{key}.{k}"),
+                    format!(
+                        "gives {} coordinates; expected [x, y] or [x, y, z]",
+                        v.len()
+                    ),
+                )),
+            }
+        };
+        let noise_floor = self.noise_floor.map_or(0.0, |v| v.0);
+        if noise_floor < 0.0 {
+            return Err(at.err(
+                format!("{key}.noise_floor"),
+                format!("is {noise_floor}; expected a number ≥ 0"),
+            ));
+        }
+        for (given, k) in [
+            (self.line.is_some(), "line"),
+            (self.reference.is_some(), "reference"),
+        ] {
+            if given && !meshes_data {
+                return Err(at.err(
+                    format!("{key}.{k}"),
+                    "needs the points' coordinates: VTK files in `data` (probe files have none)"
+                        .into(),
+                ));
+            }
+        }
+        let line = match &self.line {
+            None => None,
+            Some(l) => {
+                let samples = l.samples.unwrap_or(200);
+                if !(2..=100_000).contains(&samples) {
+                    return Err(at.err(
+                        format!("{key}.line.samples"),
+                        format!("is {samples}; expected 2 to 100000"),
+                    ));
+                }
+                Some(profile::LineSpec {
+                    column: column(&l.column, "line")?,
+                    from: point(&l.from, "line.from")?,
+                    to: point(&l.to, "line.to")?,
+                    samples,
+                })
+            }
+        };
+        let reference = match &self.reference {
+            None => None,
+            Some(r) => {
+                if r.points.is_empty() {
+                    return Err(at.err(format!("{key}.reference.points"), "lists no point".into()));
+                }
+                let u0 = r.u.map_or(0.0, |u| u.0);
+                let mut points = Vec::with_capacity(r.points.len());
+                for (i, p) in r.points.iter().enumerate() {
+                    let u = p.u.map_or(u0, |u| u.0);
+                    if u < 0.0 {
+                        return Err(at.err(
+                            format!("{key}.reference.points[{i}].u"),
+                            format!("is {u}; expected a standard uncertainty ≥ 0"),
+                        ));
+                    }
+                    points.push(profile::ReferencePoint {
+                        at: [p.x.0, p.y.0, p.z.map_or(0.0, |z| z.0)],
+                        value: p.value.0,
+                        u,
+                    });
+                }
+                if u0 < 0.0 {
+                    return Err(at.err(
+                        format!("{key}.reference.u"),
+                        format!("is {u0}; expected a standard uncertainty ≥ 0"),
+                    ));
+                }
+                Some(FieldReference {
+                    column: column(&r.column, "reference")?,
+                    benchmark: r.origin == Some(super::reference::Origin::Benchmark),
+                    points,
+                    divisor: divisor.unwrap_or(2.0),
+                    coverage,
+                })
+            }
+        };
+        Ok(FieldEstimate {
+            order: match self.order {
+                None | Some(RawOrderBasis::PerPoint) => OrderBasis::PerPoint,
+                Some(RawOrderBasis::Average) => OrderBasis::Average,
+                Some(RawOrderBasis::NormL2) => OrderBasis::NormL2,
+                Some(RawOrderBasis::NormMax) => OrderBasis::NormMax,
+            },
+            noise_floor,
+            line,
+            reference,
+        })
+    }
+
     /// How its probe files are read; refuses a `mapping` key that is not one of `columns`.
     pub fn reading(
         &self,
