@@ -796,14 +796,11 @@ struct Drawn {
 }
 
 /// Draws a scene's groups with the given layout. With `view`, the axes span exactly that
-/// window (x range, y range; round ticks inside it) and the layers are clipped to the plotting
-/// area (the clip path named `clip_id`); without it they enclose every item on round ticks.
-fn draw_scene(
-    s: &Scene,
-    layout: &Layout,
-    view: Option<((f64, f64), (f64, f64))>,
-    clip_id: &str,
-) -> Option<Drawn> {
+/// window (x range, y range; round ticks inside it) and the scene must hold only what lies in
+/// it (plotters presses points outside onto the frame; [`clip_polyline`] and [`inside`] cut
+/// them away; the page carrying the SVG allows no `url(…)`, so no clip path is used); without
+/// it the axes enclose every item on round ticks.
+fn draw_scene(s: &Scene, layout: &Layout, view: Option<((f64, f64), (f64, f64))>) -> Option<Drawn> {
     let (x, y) = match view {
         Some((x, y)) => (axis_within(x, TICKS_X)?, axis_within(y, TICKS)?),
         None => {
@@ -814,18 +811,6 @@ fn draw_scene(
     let (frame, area) = draw_part(s, &x, &y, Part::Frame, layout).ok()?;
     let (_, inner) = split_svg(&frame)?;
     let mut out = String::new();
-    let clip = match view {
-        Some(_) => {
-            let (l, t, r, b) = area;
-            out.push_str(&format!(
-                "<defs><clipPath id=\"{clip_id}\"><rect x=\"{l}\" y=\"{t}\" width=\"{}\" height=\"{}\"/></clipPath></defs>\n",
-                r - l,
-                b - t
-            ));
-            format!(" clip-path=\"url(#{clip_id})\"")
-        }
-        None => String::new(),
-    };
     out.push_str(&format!("<g class=\"frame\">\n{inner}</g>\n"));
     for (i, l) in s.layers.iter().enumerate() {
         let (doc, _) = draw_part(s, &x, &y, Part::Layer(i), layout).ok()?;
@@ -833,10 +818,7 @@ fn draw_scene(
         let mesh = l.mesh.as_deref().map_or(String::new(), |m| {
             format!(" data-mesh=\"{}\"", escape_xml(m))
         });
-        out.push_str(&format!(
-            "<g class=\"{}\"{mesh}{clip}>\n{inner}</g>\n",
-            l.class
-        ));
+        out.push_str(&format!("<g class=\"{}\"{mesh}>\n{inner}</g>\n", l.class));
     }
     let (doc, _) = draw_part(s, &x, &y, Part::Legend, layout).ok()?;
     let (_, inner) = split_svg(&doc)?;
@@ -863,7 +845,7 @@ fn svg_head(s: &Scene) -> String {
 
 /// Draws a scene as one SVG document, or `None` when there is nothing finite to draw.
 pub fn render(s: &Scene) -> Option<String> {
-    let drawn = draw_scene(s, &STANDARD, None, "")?;
+    let drawn = draw_scene(s, &STANDARD, None)?;
     Some(format!(
         "{}{}{}</svg>\n",
         svg_open(WIDTH, HEIGHT),
@@ -880,7 +862,7 @@ pub struct Panel<'a> {
     pub layout: Layout,
     /// The window it shows (x range, y range), or `None` for every item on round ticks.
     pub view: Option<((f64, f64), (f64, f64))>,
-    /// Its name (`data-panel`), also naming its clip path.
+    /// Its name (`data-panel`).
     pub name: &'static str,
 }
 
@@ -893,18 +875,9 @@ pub fn render_panels(panels: &[Panel<'_>]) -> Option<String> {
     let width = first.layout.width;
     let height: u32 = panels.iter().map(|p| p.layout.height).sum();
     let mut out = format!("{}{}", svg_open(width, height), svg_head(first.scene));
-    // Clip paths are named after the figure too: several figures inline on one page must not
-    // share an id.
-    let stem: String = first
-        .scene
-        .title
-        .chars()
-        .map(|c| if c.is_ascii_alphanumeric() { c } else { '-' })
-        .collect();
     let mut top = 0u32;
     for p in panels {
-        let clip_id = format!("clip-{}-{stem}", p.name);
-        let drawn = draw_scene(p.scene, &p.layout, p.view, &clip_id)?;
+        let drawn = draw_scene(p.scene, &p.layout, p.view)?;
         let (l, t, r, b) = drawn.area;
         let shift = top as i32;
         let transform = if top == 0 {
@@ -1532,6 +1505,82 @@ fn breakdown_window(
     ok.then_some(((x0, x1), (y0, y1)))
 }
 
+/// The parts of a polyline inside a window (x range, y range), each segment cut where it
+/// leaves the window (Liang & Barsky 1984): drawing geometry only, so that a zoomed panel
+/// shows no line running along its edge where plotters would press points outside onto it.
+fn clip_polyline(
+    pts: &[(f64, f64)],
+    (x0, x1): (f64, f64),
+    (y0, y1): (f64, f64),
+) -> Vec<Vec<(f64, f64)>> {
+    let mut runs: Vec<Vec<(f64, f64)>> = Vec::new();
+    let mut run: Vec<(f64, f64)> = Vec::new();
+    for w in pts.windows(2) {
+        let ((ax, ay), (bx, by)) = (w[0], w[1]);
+        let (dx, dy) = (bx - ax, by - ay);
+        let (mut t0, mut t1) = (0.0_f64, 1.0_f64);
+        let mut keep = true;
+        for (p, q) in [(-dx, ax - x0), (dx, x1 - ax), (-dy, ay - y0), (dy, y1 - ay)] {
+            if p == 0.0 {
+                if q < 0.0 {
+                    keep = false;
+                }
+            } else {
+                let r = q / p;
+                if p < 0.0 {
+                    t0 = t0.max(r);
+                } else {
+                    t1 = t1.min(r);
+                }
+            }
+        }
+        if !keep || t0 > t1 || !(t0.is_finite() && t1.is_finite()) {
+            if run.len() >= 2 {
+                runs.push(std::mem::take(&mut run));
+            }
+            run.clear();
+            continue;
+        }
+        // The ends exactly where the segment is not cut, so that runs join.
+        let a = if t0 == 0.0 {
+            (ax, ay)
+        } else {
+            (ax + t0 * dx, ay + t0 * dy)
+        };
+        let b = if t1 == 1.0 {
+            (bx, by)
+        } else {
+            (ax + t1 * dx, ay + t1 * dy)
+        };
+        if run.last() != Some(&a) {
+            if run.len() >= 2 {
+                runs.push(std::mem::take(&mut run));
+            }
+            run.clear();
+            run.push(a);
+        }
+        run.push(b);
+        if t1 < 1.0 {
+            if run.len() >= 2 {
+                runs.push(std::mem::take(&mut run));
+            }
+            run.clear();
+        }
+    }
+    if run.len() >= 2 {
+        runs.push(run);
+    }
+    runs
+}
+
+/// The points inside a window.
+fn inside(pts: &[(f64, f64)], (x0, x1): (f64, f64), (y0, y1): (f64, f64)) -> Vec<(f64, f64)> {
+    pts.iter()
+        .copied()
+        .filter(|p| p.0 >= x0 && p.0 <= x1 && p.1 >= y0 && p.1 <= y1)
+        .collect()
+}
+
 fn hline(y: f64, (x0, x1): (f64, f64), pen: Pen) -> Item {
     Item::Line(vec![(x0, y), (x1, y)], pen)
 }
@@ -1657,13 +1706,21 @@ pub fn breakdown_scenes(
     for (i, c, p) in &curves {
         let (colour, marker, pen) = mesh_style(*i);
         let thin = Pen { width: 2, ..pen };
+        let mut items: Vec<Item> =
+            clip_polyline(&drawn_curve(p, s.interpolation, x0, x1), (x0, x1), (y0, y1))
+                .into_iter()
+                .map(|run| Item::Line(run, thin))
+                .collect();
+        items.push(Item::Markers(
+            inside(p, (x0, x1), (y0, y1)),
+            marker,
+            colour,
+            4,
+        ));
         mesh_zoom.push(Layer {
             class: "mesh",
             mesh: Some(c.mesh.clone()),
-            items: vec![
-                Item::Line(drawn_curve(p, s.interpolation, x0, x1), thin),
-                Item::Markers(p.clone(), marker, colour, 4),
-            ],
+            items,
         });
         mesh_whole.push(Layer {
             class: "mesh",
@@ -1704,10 +1761,29 @@ pub fn breakdown_scenes(
         for p in measured.iter().filter(|p| p.u.is_finite() && p.u > 0.0) {
             items.push(Item::BarY(p.x, p.y - p.u, p.y + p.u, INK));
         }
+        // In the zoomed panel only the points inside it, with their bars when whole inside.
+        let within = |x: f64, y: f64| x >= x0 && x <= x1 && y >= y0 && y <= y1;
+        let mut zoomed = vec![Item::Markers(
+            measured
+                .iter()
+                .map(|p| (p.x, p.y))
+                .filter(|(x, y)| within(*x, *y))
+                .collect(),
+            Marker::Plus,
+            INK,
+            6,
+        )];
+        for p in measured
+            .iter()
+            .filter(|p| p.u.is_finite() && p.u > 0.0)
+            .filter(|p| within(p.x, p.y - p.u) && within(p.x, p.y + p.u))
+        {
+            zoomed.push(Item::BarY(p.x, p.y - p.u, p.y + p.u, INK));
+        }
         zoom_layers.push(Layer {
             class: "measured",
             mesh: None,
-            items: items.clone(),
+            items: zoomed,
         });
         whole_layers.push(Layer {
             class: "measured",
@@ -1731,7 +1807,7 @@ pub fn breakdown_scenes(
             )],
         });
         legend.push((
-            format!("extrapolated breakdown: {}{x_unit}", sig(e, 6)),
+            format!("extrapolated breakdown: {}{x_unit}", num(e, 6)),
             Sample::Line(
                 Pen {
                     colour: INK,
@@ -1803,10 +1879,14 @@ pub fn breakdown_scenes(
     } else {
         format!(" against {sym}")
     };
+    // The trade's name of a 3 % head drop read against NPSH (IEC 60193 / ISO 9906; from memory).
+    let npsh3 =
+        b.abscissa == "npsh" && b.response == "head" && b.relative && (b.drop - 0.03).abs() < 1e-12;
     let zoom = Scene {
         title: format!(
-            "{}: breakdown of {}{against}, {}",
+            "{}: {}breakdown of {}{against}, {}",
             s.name,
+            if npsh3 { "NPSH3, " } else { "" },
             b.response,
             if b.relative {
                 format!("{} drop", super::format::percent(b.drop))
@@ -1815,7 +1895,11 @@ pub fn breakdown_scenes(
             }
         ),
         subtitle: vec![
-            format!("Breakdown {sym}: {}", statement(&b.x_estimate)),
+            format!(
+                "Breakdown {sym}{}: {}",
+                sweep_unit(s, &b.abscissa).map_or(String::new(), |u| format!(" [{u}]")),
+                statement(&b.x_estimate)
+            ),
             format!(
                 "{}; zoomed on the breakdown region, the whole sweep below",
                 breakdown_rule(b, &s.x)
@@ -2093,7 +2177,25 @@ mod tests {
             HEIGHT + WHOLE_HEIGHT
         )));
         assert_eq!(svg.matches("<g class=\"panel\"").count(), 2);
-        assert!(svg.contains("clip-path=\"url(#clip-zoom-"));
+        assert!(!svg.contains("url("), "nothing a page would fetch");
+    }
+
+    #[test]
+    fn polylines_are_cut_at_the_window() {
+        // A line from inside to outside and back: two runs, cut exactly at y = 1 (analytic).
+        let pts = [(0.0, 0.0), (1.0, 2.0), (2.0, 0.0)];
+        let runs = clip_polyline(&pts, (0.0, 2.0), (-1.0, 1.0));
+        assert_eq!(
+            runs,
+            vec![vec![(0.0, 0.0), (0.5, 1.0)], vec![(1.5, 1.0), (2.0, 0.0)]]
+        );
+        // Wholly inside: unchanged, one run; wholly outside: nothing.
+        assert_eq!(
+            clip_polyline(&pts, (-1.0, 3.0), (-1.0, 3.0)),
+            vec![pts.to_vec()]
+        );
+        assert!(clip_polyline(&pts, (5.0, 6.0), (-1.0, 3.0)).is_empty());
+        assert_eq!(inside(&pts, (0.5, 2.0), (-1.0, 1.0)), vec![(2.0, 0.0)]);
     }
 
     #[test]

@@ -2,7 +2,9 @@
 //! usvg, rasterised by resvg (PNG) or converted by svg2pdf (PDF, vector, fonts embedded as
 //! subsets). Text is set with the DejaVu Sans faces shipped in `src/report/fonts/` (their
 //! licence beside them): no system font or library is looked up, so a figure renders the same
-//! on every machine and the same SVG always gives the same bytes.
+//! on every machine. The same SVG gives the same PNG bytes on every run, and a PDF that differs
+//! at most in the order of the entries of its page's resource dictionaries (svg2pdf keeps them
+//! in hash maps).
 //!
 //! Only formatting: bytes in, bytes out, no file is touched.
 
@@ -24,11 +26,14 @@ const BOLD: &[u8] = include_bytes!("fonts/DejaVuSans-Bold.ttf");
 #[error("figure not rendered: {0}")]
 pub struct RenderError(pub String);
 
-/// The parsing options: the shipped faces only, and every generic family mapped to them.
-fn options() -> usvg::Options<'static> {
+/// The parsing options: the shipped faces only (`bold` says whether the bold face is among
+/// them), and every generic family mapped to them.
+fn options(bold: bool) -> usvg::Options<'static> {
     let mut db = usvg::fontdb::Database::new();
     db.load_font_data(REGULAR.to_vec());
-    db.load_font_data(BOLD.to_vec());
+    if bold {
+        db.load_font_data(BOLD.to_vec());
+    }
     db.set_sans_serif_family(FAMILY);
     db.set_serif_family(FAMILY);
     db.set_monospace_family(FAMILY);
@@ -41,8 +46,8 @@ fn options() -> usvg::Options<'static> {
     }
 }
 
-fn tree(svg: &str) -> Result<usvg::Tree, RenderError> {
-    usvg::Tree::from_str(svg, &options()).map_err(|e| RenderError(e.to_string()))
+fn tree(svg: &str, bold: bool) -> Result<usvg::Tree, RenderError> {
+    usvg::Tree::from_str(svg, &options(bold)).map_err(|e| RenderError(e.to_string()))
 }
 
 /// The pixel size of the PNG of an SVG of `width` × `height` (its own units).
@@ -56,7 +61,7 @@ pub fn png_size(width: f32, height: f32) -> (u32, u32) {
 /// The figure as a PNG (8-bit RGBA) at [`PNG_SCALE`] pixels per SVG pixel, on the figure's own
 /// background (transparent where the SVG draws nothing).
 pub fn png(svg: &str) -> Result<Vec<u8>, RenderError> {
-    let tree = tree(svg)?;
+    let tree = tree(svg, true)?;
     let size = tree.size();
     let (w, h) = png_size(size.width(), size.height());
     if w == 0 || h == 0 || w > 16_384 || h > 16_384 {
@@ -75,9 +80,11 @@ pub fn png(svg: &str) -> Result<Vec<u8>, RenderError> {
 }
 
 /// The figure as a one-page PDF whose page is the SVG's size, one SVG pixel to one point
-/// (880 × 540 pixels: a page of 880 × 540 pt).
+/// (880 × 540 pixels: a page of 880 × 540 pt). Its text is set in the regular face only
+/// (bold titles read regular): with two faces svg2pdf writes them in the order of a hash
+/// map, and the same figure would not give the same bytes on every run.
 pub fn pdf(svg: &str) -> Result<Vec<u8>, RenderError> {
-    let tree = tree(svg)?;
+    let tree = tree(svg, false)?;
     svg2pdf::to_pdf(
         &tree,
         svg2pdf::ConversionOptions::default(),
