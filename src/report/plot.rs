@@ -1410,7 +1410,7 @@ fn breakdown_points(
         .filter(finite)
         .collect();
     pts.sort_by(|p, q| p.0.total_cmp(&q.0));
-    pts.dedup_by(|p, q| p.0 == q.0);
+    pts.dedup_by(|p, q| p.0.total_cmp(&q.0).is_eq());
     pts
 }
 
@@ -1547,7 +1547,7 @@ fn clip_polyline(
         } else {
             (ax + t0 * dx, ay + t0 * dy)
         };
-        let b = if t1 == 1.0 {
+        let b = if t1.total_cmp(&1.0).is_eq() {
             (bx, by)
         } else {
             (ax + t1 * dx, ay + t1 * dy)
@@ -1585,6 +1585,9 @@ fn hline(y: f64, (x0, x1): (f64, f64), pen: Pen) -> Item {
     Item::Line(vec![(x0, y), (x1, y)], pen)
 }
 
+/// A mesh's index in the sweep, its curve, and its points against the breakdown's abscissa.
+type MeshCurve<'a> = (usize, &'a CurveResult, Vec<(f64, f64)>);
+
 /// The scenes of [`breakdown_plot`]; `None` when no mesh has a breakdown of this definition
 /// or no curve can be drawn against its abscissa.
 pub fn breakdown_scenes(
@@ -1596,7 +1599,7 @@ pub fn breakdown_scenes(
     let ri = s.responses.iter().position(|x| *x == b.response)?;
     let finest = b.per_mesh.first()?;
     let mesh_index = |name: &str| s.meshes.iter().position(|m| m == name).unwrap_or(0);
-    let curves: Vec<(usize, &CurveResult, Vec<(f64, f64)>)> = s
+    let curves: Vec<MeshCurve<'_>> = s
         .curves
         .iter()
         .enumerate()
