@@ -348,3 +348,30 @@ fn every_figure_is_also_a_png_and_a_pdf_of_its_size_the_same_on_every_run() {
     }
     assert!(svgs >= 6, "{svgs} figures");
 }
+
+#[test]
+fn svg_only_leaves_out_the_png_and_pdf() {
+    let w = Workdir::new();
+    let out = w.path().join("out");
+    let o = run(&[
+        "report",
+        root().join(STUDIES[0]).to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--svg-only",
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    let names: Vec<String> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(names
+        .iter()
+        .any(|n| n.starts_with("breakdown-") && n.ends_with(".svg")));
+    assert!(
+        !names
+            .iter()
+            .any(|n| n.ends_with(".png") || n.ends_with(".pdf")),
+        "{names:?}"
+    );
+}

@@ -181,6 +181,12 @@ pub fn figures(a: &Assessment) -> Vec<Figure> {
 /// PDF, `report.html`. A figure that cannot be rasterised or converted (none of ours should
 /// fail) keeps its SVG alone.
 pub fn files(a: &Assessment) -> Vec<(String, Vec<u8>)> {
+    files_with(a, true)
+}
+
+/// [`files`], with the PNG and PDF of each figure only when `raster` is `true` (rendering is
+/// the slow part of a report with hundreds of figures).
+pub fn files_with(a: &Assessment, raster: bool) -> Vec<(String, Vec<u8>)> {
     let figs = figures(a);
     let mut out = vec![(
         MARKDOWN.to_string(),
@@ -195,6 +201,9 @@ pub fn files(a: &Assessment) -> Vec<(String, Vec<u8>)> {
             };
             let mut v = vec![(name.clone(), f.svg.clone().into_bytes())];
             let stem = name.strip_suffix(".svg").unwrap_or(name);
+            if !raster {
+                return v;
+            }
             if let Ok(png) = raster::png(&f.svg) {
                 v.push((format!("{stem}.png"), png));
             }

@@ -914,8 +914,14 @@ fn quantity_meshes<'a>(a: &'a Assessment, q: &QuantityResult) -> Option<Vec<&'a 
 fn quantity_label(a: &Assessment, q: &QuantityResult) -> Option<String> {
     match &q.role {
         Role::Breakdown { sweep, response } => {
-            let x = a.sweep_x(sweep);
-            Some(format!("breakdown {x} of {response} ({}_b)", symbol(x)))
+            // The abscissa breakdown was read against (the sweep's x, or NPSH), with its unit.
+            let s = a.sweeps.iter().find(|s| &s.name == sweep)?;
+            let x = s
+                .breakdown
+                .iter()
+                .find(|b| b.x_estimate.name == q.name)
+                .map_or(s.x.as_str(), |b| b.abscissa.as_str());
+            Some(format!("breakdown {} of {response}", sweep_label(s, x)))
         }
         Role::Reference { response, .. } => Some(format!("reference {}", axis_name(response))),
         _ => None,
@@ -1247,7 +1253,7 @@ pub fn response_scene(
             });
         }
         notes.push(format!(
-            "Breakdown: {}. {}_b = {}.",
+            "Breakdown: {}. Breakdown {}: {}.",
             breakdown_rule(b, &s.x),
             symbol(&b.abscissa),
             statement(&b.x_estimate)
