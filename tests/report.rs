@@ -88,6 +88,32 @@ fn report_writes_the_pages_and_one_svg_per_figure() {
     }
     for s in v["sweeps"].as_array().unwrap() {
         want.insert(format!("sweep-{}.svg", s["name"].as_str().unwrap()));
+        // A breakdown figure per breakdown definition read on some mesh (tests/figures.rs).
+        for b in s["breakdown"].as_array().unwrap() {
+            if !b["per_mesh"].as_array().unwrap().is_empty() {
+                let against = if b["abscissa"] == s["x"] {
+                    String::new()
+                } else {
+                    format!("-{}", b["abscissa"].as_str().unwrap())
+                };
+                want.insert(format!(
+                    "breakdown-{}-{}{against}.svg",
+                    s["name"].as_str().unwrap(),
+                    b["response"].as_str().unwrap()
+                ));
+            }
+        }
+    }
+    // Every figure also as PNG and PDF, same stem.
+    let figures: Vec<String> = want
+        .iter()
+        .filter(|n| n.ends_with(".svg"))
+        .cloned()
+        .collect();
+    for f in figures {
+        let stem = f.strip_suffix(".svg").unwrap();
+        want.insert(format!("{stem}.png"));
+        want.insert(format!("{stem}.pdf"));
     }
     let got = names(&out);
     assert_eq!(got, want);

@@ -1,5 +1,6 @@
 //! `meshbound report STUDY --out DIR`: the whole report as a folder — `report.md` with the
-//! figures linked, one SVG file per figure, and `report.html` with the figures inline.
+//! figures linked, one SVG file per figure with its PNG and PDF beside (`--svg-only` leaves
+//! those out), and `report.html` with the figures inline.
 //!
 //! The folder appears whole or not at all: everything is written into a temporary folder
 //! beside DIR (hidden, same parent, so the last step is a rename on one file system, named
@@ -31,6 +32,10 @@ pub struct Args {
     /// Replace DIR when it exists (the old folder is deleted only once the new one is in place).
     #[arg(long)]
     pub replace: bool,
+    /// Write each figure as SVG only, without the PNG and PDF beside it (rendering them is the
+    /// slow part of a report with hundreds of figures).
+    #[arg(long)]
+    pub svg_only: bool,
     /// Folders the study may read and write besides its own.
     #[command(flatten)]
     pub reach: crate::reach::Reach,
@@ -203,7 +208,7 @@ pub fn run(args: Args) -> Result<(), Failure> {
         refuse_replacing_inputs(&args.out, &study)?;
     }
     let (a, outputs) = super::assess::assess_study(&study)?;
-    let files = meshbound::report::bundle::files(&a);
+    let files = meshbound::report::bundle::files_with(&a, !args.svg_only);
     if let Some(old) = install(&files, &args.out, args.replace)? {
         eprintln!(
             "warning: the replaced report was moved to {} and could not be deleted",

@@ -41,6 +41,11 @@ pub struct CurveResult {
     /// statistical uncertainty of the point's mean with its drift), aligned with `x`.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub noise: Vec<Vec<Option<f64>>>,
+    /// The NPSH of every point, m, aligned with `x`, when a breakdown is read against NPSH
+    /// (derived from raw monitors, an `npsh` column, or σ·H): the abscissa its curve is drawn
+    /// against.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub npsh: Option<Vec<f64>>,
 }
 
 /// One mesh's breakdown.
@@ -531,6 +536,7 @@ pub fn assess_sweep(
                 responses: c.responses.clone(),
                 derived: c.derived.clone(),
                 noise: c.noise.clone(),
+                npsh: c.npsh.clone(),
             })
             .collect(),
         breakdown,

@@ -13,6 +13,7 @@ pub mod markdown;
 pub mod markup;
 pub mod paragraph;
 pub mod plot;
+pub mod raster;
 pub mod table;
 
 use crate::assess::Assessment;

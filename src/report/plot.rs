@@ -14,7 +14,7 @@
 
 use super::format::{governing_label, governing_order, num, sig};
 use super::table::{breakdown_rule, statement, symbol};
-use crate::assess::sweep::SweepResult;
+use crate::assess::sweep::{BreakdownResult, CurveResult, SweepResult};
 use crate::assess::{Assessment, Method, QuantityResult, Role};
 use crate::grid::Mesh;
 use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged};
@@ -332,6 +332,50 @@ fn axis((lo, hi): (f64, f64), max: usize) -> Option<Axis> {
     None
 }
 
+/// Round ticks inside a fixed range: the axis spans exactly `lo..hi` (a zoomed window), with
+/// a step of 1, 2 or 5 × 10^k giving 3 to `max` ticks inside it.
+fn axis_within((lo, hi): (f64, f64), max: usize) -> Option<Axis> {
+    if !(lo.is_finite() && hi.is_finite() && hi > lo) || max < 3 {
+        return None;
+    }
+    let raw = (hi - lo) / (max - 1) as f64;
+    let mag0 = 10f64.powf(raw.log10().floor() - 1.0);
+    let mut best: Option<(Vec<f64>, f64, usize)> = None;
+    for mag in [mag0, 10.0 * mag0, 100.0 * mag0] {
+        for (m, sub) in [(1.0, 5), (2.0, 4), (5.0, 5)] {
+            let step = m * mag;
+            let (k0, k1) = ((lo / step).ceil(), (hi / step).floor());
+            if !(step > 0.0 && k0.is_finite() && k1.is_finite()) {
+                continue;
+            }
+            let n = k1 - k0 + 1.0;
+            if n > max as f64 || n < 3.0 {
+                continue;
+            }
+            if best.is_none() {
+                let ticks = (0..n as usize).map(|i| (k0 + i as f64) * step).collect();
+                best = Some((ticks, step, sub));
+            }
+        }
+    }
+    let (ticks, step, sub) = best?;
+    let fine = step / sub as f64;
+    let (j0, j1) = ((lo / fine).ceil(), (hi / fine).floor());
+    let light = if (j1 - j0) < 200.0 {
+        (0..=(j1 - j0) as usize)
+            .map(|i| (j0 + i as f64) * fine)
+            .collect()
+    } else {
+        Vec::new()
+    };
+    Some(Axis {
+        lo,
+        hi,
+        ticks,
+        light,
+    })
+}
+
 fn err<E: std::fmt::Display>(e: E) -> String {
     e.to_string()
 }
@@ -586,14 +630,18 @@ fn draw_sample(
     }
 }
 
-fn draw_legend(area: &DrawingArea<SVGBackend<'_>, Shift>, s: &Scene) -> Result<(), String> {
+fn draw_legend(
+    area: &DrawingArea<SVGBackend<'_>, Shift>,
+    s: &Scene,
+    layout: &Layout,
+) -> Result<(), String> {
     let label = TextStyle::from((FONT, 14).into_font())
         .color(&INK)
         .pos(Pos::new(HPos::Left, VPos::Center));
     let note = TextStyle::from((FONT, 12).into_font())
         .color(&GREY_TEXT)
         .pos(Pos::new(HPos::Left, VPos::Center));
-    let mut y = TOP as i32 + 8;
+    let mut y = layout.top as i32 + 8;
     for (text, sample) in &s.legend {
         draw_sample(area, y, sample)?;
         for (k, line) in wrap(text, 27).iter().enumerate() {
@@ -633,14 +681,46 @@ enum Part {
     Legend,
 }
 
-/// Draws one part of a scene into its own SVG document.
-fn draw_part(s: &Scene, x: &Axis, y: &Axis, part: Part) -> Result<String, String> {
+/// The sizes of a figure (or of one panel of it), in pixels.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Layout {
+    /// Width.
+    pub width: u32,
+    /// Height.
+    pub height: u32,
+    /// Width of the legend column at the right.
+    pub legend: u32,
+    /// Height of the title block above the chart.
+    pub top: u32,
+}
+
+/// The layout of every one-panel figure: [`WIDTH`] × [`HEIGHT`].
+pub const STANDARD: Layout = Layout {
+    width: WIDTH,
+    height: HEIGHT,
+    legend: LEGEND,
+    top: TOP,
+};
+
+/// The plotting area of a drawn chart, in pixels of its panel: left, top, right, bottom.
+pub type PlotArea = (i32, i32, i32, i32);
+
+/// Draws one part of a scene into its own SVG document; with it, the chart's plotting area.
+fn draw_part(
+    s: &Scene,
+    x: &Axis,
+    y: &Axis,
+    part: Part,
+    layout: &Layout,
+) -> Result<(String, PlotArea), String> {
     let mut buf = String::new();
+    let area;
     {
-        let root = SVGBackend::with_string(&mut buf, (WIDTH, HEIGHT)).into_drawing_area();
-        let (plot, legend) = root.split_horizontally(WIDTH - LEGEND);
+        let root =
+            SVGBackend::with_string(&mut buf, (layout.width, layout.height)).into_drawing_area();
+        let (plot, legend) = root.split_horizontally(layout.width.saturating_sub(layout.legend));
         let mut chart = ChartBuilder::on(&plot)
-            .margin_top(TOP)
+            .margin_top(layout.top)
             .margin_left(14)
             .margin_right(18)
             .margin_bottom(12)
@@ -648,6 +728,8 @@ fn draw_part(s: &Scene, x: &Axis, y: &Axis, part: Part) -> Result<String, String
             .y_label_area_size(86)
             .build_cartesian_2d(x.coord(), y.coord())
             .map_err(err)?;
+        let (px, py) = chart.plotting_area().get_pixel_range();
+        area = (px.start, py.start, px.end, py.end);
         match part {
             Part::Frame => {
                 root.fill(&WHITE).map_err(err)?;
@@ -691,11 +773,11 @@ fn draw_part(s: &Scene, x: &Axis, y: &Axis, part: Part) -> Result<String, String
                     }
                 }
             }
-            Part::Legend => draw_legend(&legend, s)?,
+            Part::Legend => draw_legend(&legend, s, layout)?,
         }
         root.present().map_err(err)?;
     }
-    Ok(buf)
+    Ok((buf, area))
 }
 
 /// Splits plotters' SVG document into its opening `<svg …>` tag and its content.
@@ -706,31 +788,113 @@ fn split_svg(doc: &str) -> Option<(&str, &str)> {
     (close >= open_end).then(|| (&doc[start..open_end], doc[open_end..close].trim_start()))
 }
 
-/// Draws a scene as one SVG document, or `None` when there is nothing finite to draw.
-pub fn render(s: &Scene) -> Option<String> {
-    let (x, y) = scene_ranges(s)?;
-    let (x, y) = (&axis(x, TICKS_X)?, &axis(y, TICKS)?);
-    let frame = draw_part(s, x, y, Part::Frame).ok()?;
-    let (open, inner) = split_svg(&frame)?;
-    let mut out = format!("{open}\n<title>{}</title>\n", escape_xml(&s.title));
-    if !s.subtitle.is_empty() {
-        out.push_str(&format!(
-            "<desc>{}</desc>\n",
-            escape_xml(&s.subtitle.join("; "))
-        ));
-    }
+/// The drawn content of a scene: the groups (frame, layers, legend) without the enclosing
+/// `<svg>` element, and the plotting area in pixels of the panel.
+struct Drawn {
+    body: String,
+    area: PlotArea,
+}
+
+/// Draws a scene's groups with the given layout. With `view`, the axes span exactly that
+/// window (x range, y range; round ticks inside it) and the scene must hold only what lies in
+/// it (plotters presses points outside onto the frame; [`clip_polyline`] and [`inside`] cut
+/// them away; the page carrying the SVG allows no `url(…)`, so no clip path is used); without
+/// it the axes enclose every item on round ticks.
+fn draw_scene(s: &Scene, layout: &Layout, view: Option<((f64, f64), (f64, f64))>) -> Option<Drawn> {
+    let (x, y) = match view {
+        Some((x, y)) => (axis_within(x, TICKS_X)?, axis_within(y, TICKS)?),
+        None => {
+            let (x, y) = scene_ranges(s)?;
+            (axis(x, TICKS_X)?, axis(y, TICKS)?)
+        }
+    };
+    let (frame, area) = draw_part(s, &x, &y, Part::Frame, layout).ok()?;
+    let (_, inner) = split_svg(&frame)?;
+    let mut out = String::new();
     out.push_str(&format!("<g class=\"frame\">\n{inner}</g>\n"));
     for (i, l) in s.layers.iter().enumerate() {
-        let doc = draw_part(s, x, y, Part::Layer(i)).ok()?;
+        let (doc, _) = draw_part(s, &x, &y, Part::Layer(i), layout).ok()?;
         let (_, inner) = split_svg(&doc)?;
         let mesh = l.mesh.as_deref().map_or(String::new(), |m| {
             format!(" data-mesh=\"{}\"", escape_xml(m))
         });
         out.push_str(&format!("<g class=\"{}\"{mesh}>\n{inner}</g>\n", l.class));
     }
-    let doc = draw_part(s, x, y, Part::Legend).ok()?;
+    let (doc, _) = draw_part(s, &x, &y, Part::Legend, layout).ok()?;
     let (_, inner) = split_svg(&doc)?;
-    out.push_str(&format!("<g class=\"legend\">\n{inner}</g>\n</svg>\n"));
+    out.push_str(&format!("<g class=\"legend\">\n{inner}</g>\n"));
+    Some(Drawn { body: out, area })
+}
+
+fn svg_open(width: u32, height: u32) -> String {
+    format!(
+        "<svg width=\"{width}\" height=\"{height}\" viewBox=\"0 0 {width} {height}\" xmlns=\"http://www.w3.org/2000/svg\">"
+    )
+}
+
+fn svg_head(s: &Scene) -> String {
+    let mut out = format!("\n<title>{}</title>\n", escape_xml(&s.title));
+    if !s.subtitle.is_empty() {
+        out.push_str(&format!(
+            "<desc>{}</desc>\n",
+            escape_xml(&s.subtitle.join("; "))
+        ));
+    }
+    out
+}
+
+/// Draws a scene as one SVG document, or `None` when there is nothing finite to draw.
+pub fn render(s: &Scene) -> Option<String> {
+    let drawn = draw_scene(s, &STANDARD, None)?;
+    Some(format!(
+        "{}{}{}</svg>\n",
+        svg_open(WIDTH, HEIGHT),
+        svg_head(s),
+        drawn.body
+    ))
+}
+
+/// A panel of a figure of several panels stacked from the top.
+pub struct Panel<'a> {
+    /// What it draws.
+    pub scene: &'a Scene,
+    /// Its sizes (all panels of a figure share the width).
+    pub layout: Layout,
+    /// The window it shows (x range, y range), or `None` for every item on round ticks.
+    pub view: Option<((f64, f64), (f64, f64))>,
+    /// Its name (`data-panel`).
+    pub name: &'static str,
+}
+
+/// Draws panels stacked from the top into one SVG document, each in a
+/// `<g class="panel" data-panel="…" data-plot="left top right bottom">` group (the plotting
+/// area in the figure's pixels), the title and description those of the first panel. `None`
+/// when a panel has nothing finite to draw.
+pub fn render_panels(panels: &[Panel<'_>]) -> Option<String> {
+    let first = panels.first()?;
+    let width = first.layout.width;
+    let height: u32 = panels.iter().map(|p| p.layout.height).sum();
+    let mut out = format!("{}{}", svg_open(width, height), svg_head(first.scene));
+    let mut top = 0u32;
+    for p in panels {
+        let drawn = draw_scene(p.scene, &p.layout, p.view)?;
+        let (l, t, r, b) = drawn.area;
+        let shift = top as i32;
+        let transform = if top == 0 {
+            String::new()
+        } else {
+            format!(" transform=\"translate(0,{top})\"")
+        };
+        out.push_str(&format!(
+            "<g class=\"panel\" data-panel=\"{}\" data-plot=\"{l} {} {r} {}\"{transform}>\n{}</g>\n",
+            p.name,
+            t + shift,
+            b + shift,
+            drawn.body
+        ));
+        top += p.layout.height;
+    }
+    out.push_str("</svg>\n");
     Some(out)
 }
 
@@ -750,8 +914,14 @@ fn quantity_meshes<'a>(a: &'a Assessment, q: &QuantityResult) -> Option<Vec<&'a 
 fn quantity_label(a: &Assessment, q: &QuantityResult) -> Option<String> {
     match &q.role {
         Role::Breakdown { sweep, response } => {
-            let x = a.sweep_x(sweep);
-            Some(format!("breakdown {x} of {response} ({}_b)", symbol(x)))
+            // The abscissa breakdown was read against (the sweep's x, or NPSH), with its unit.
+            let s = a.sweeps.iter().find(|s| &s.name == sweep)?;
+            let x = s
+                .breakdown
+                .iter()
+                .find(|b| b.x_estimate.name == q.name)
+                .map_or(s.x.as_str(), |b| b.abscissa.as_str());
+            Some(format!("breakdown {} of {response}", sweep_label(s, x)))
         }
         Role::Reference { response, .. } => Some(format!("reference {}", axis_name(response))),
         _ => None,
@@ -1083,7 +1253,7 @@ pub fn response_scene(
             });
         }
         notes.push(format!(
-            "Breakdown: {}. {}_b = {}.",
+            "Breakdown: {}. Breakdown {}: {}.",
             breakdown_rule(b, &s.x),
             symbol(&b.abscissa),
             statement(&b.x_estimate)
@@ -1155,6 +1325,654 @@ pub fn sweep_plot(a: &Assessment, s: &SweepResult, measured: &[MeasuredPoint]) -
         .map(|b| b.response.as_str())
         .or(s.responses.first().map(String::as_str))?;
     response_plot(a, s, response, measured)
+}
+
+// ---------------------------------------------------------------------------------------------
+// Breakdown figure.
+
+/// Height of the whole-sweep panel under the zoomed one.
+pub const WHOLE_HEIGHT: u32 = 330;
+/// The layout of the whole-sweep panel.
+const WHOLE: Layout = Layout {
+    width: WIDTH,
+    height: WHOLE_HEIGHT,
+    legend: LEGEND,
+    top: 44,
+};
+const THRESHOLD_DASH: Dash = Dash::Dashed(9, 5);
+const REFERENCE_DASH: Dash = Dash::Dashed(2, 4);
+const WINDOW_EDGE: RGBColor = RGBColor(0x70, 0x70, 0x70);
+const INTERVAL: RGBAColor = RGBAColor(0x8F, 0xA9, 0xBF, 0.40);
+/// Points at which a curve's interpolant is drawn across the window shown.
+const CURVE_SAMPLES: usize = 240;
+
+/// The caution under every breakdown figure.
+pub const BREAKDOWN_CAUTION: &str = "Numerical uncertainty of a computed breakdown only: it is \
+not a model-test acceptance of cavitation performance. NPSH margins and cavitation limits \
+follow the applicable test codes, local regulations and licensed engineering judgment.";
+
+/// The unit of a sweep column where the assessment knows it: NPSH is in metres (the study's
+/// contract), and so is the head of a sweep derived from raw monitors (SI by contract).
+fn sweep_unit(s: &SweepResult, name: &str) -> Option<&'static str> {
+    match name {
+        "npsh" => Some("m"),
+        "head" if s.mode.is_some() => Some("m"),
+        _ => None,
+    }
+}
+
+/// An axis label of a sweep column: `NPSH [m]`, `head (H) [m]`, `sigma (σ)`.
+fn sweep_label(s: &SweepResult, name: &str) -> String {
+    let base = if name == "npsh" {
+        "NPSH".to_string()
+    } else {
+        axis_name(name)
+    };
+    match sweep_unit(s, name) {
+        Some(u) => format!("{base} [{u}]"),
+        None => base,
+    }
+}
+
+/// One curve's points of response `ri` against the abscissa breakdown `b` is read against
+/// (the sweep's x, or each point's NPSH), in increasing abscissa.
+fn breakdown_points(
+    s: &SweepResult,
+    c: &CurveResult,
+    ri: usize,
+    b: &BreakdownResult,
+) -> Vec<(f64, f64)> {
+    let ys = match c.responses.get(ri) {
+        Some(y) => y,
+        None => return Vec::new(),
+    };
+    let npsh_response = s
+        .responses
+        .iter()
+        .position(|r| r == "npsh")
+        .and_then(|i| c.responses.get(i));
+    let derived: Option<Vec<f64>> = c
+        .derived
+        .as_ref()
+        .map(|d| d.iter().map(|p| p.npsh).collect());
+    let xs: &[f64] = if b.abscissa == s.x {
+        &c.x
+    } else if let Some(n) = c.npsh.as_ref() {
+        n
+    } else if let Some(n) = npsh_response {
+        n
+    } else if let Some(n) = derived.as_ref() {
+        n
+    } else {
+        return Vec::new();
+    };
+    if xs.len() != ys.len() {
+        return Vec::new();
+    }
+    let mut pts: Vec<(f64, f64)> = xs
+        .iter()
+        .copied()
+        .zip(ys.iter().copied())
+        .filter(finite)
+        .collect();
+    pts.sort_by(|p, q| p.0.total_cmp(&q.0));
+    pts.dedup_by(|p, q| p.0.total_cmp(&q.0).is_eq());
+    pts
+}
+
+/// The sweep's interpolant through `pts`, sampled across `lo..hi` (within the points' range),
+/// to draw the curve breakdown was read on; the points themselves when it cannot be formed.
+fn drawn_curve(
+    pts: &[(f64, f64)],
+    kind: crate::sweep::Interpolation,
+    lo: f64,
+    hi: f64,
+) -> Vec<(f64, f64)> {
+    let (xs, ys): (Vec<f64>, Vec<f64>) = pts.iter().copied().unzip();
+    let Ok(f) = crate::sweep::Interpolant::new(&xs, &ys, kind) else {
+        return pts.to_vec();
+    };
+    let (a, b) = f.x_range();
+    let (lo, hi) = (lo.max(a), hi.min(b));
+    if hi.is_nan() || lo.is_nan() || hi <= lo {
+        return Vec::new();
+    }
+    let mut x: Vec<f64> = (0..=CURVE_SAMPLES)
+        .map(|k| lo + (hi - lo) * k as f64 / CURVE_SAMPLES as f64)
+        .collect();
+    // The knots inside the window, so that the line passes through every point.
+    x.extend(xs.iter().copied().filter(|v| *v > lo && *v < hi));
+    x.sort_by(f64::total_cmp);
+    x.iter()
+        .zip(f.eval_sorted(&x))
+        .filter_map(|(x, y)| y.map(|y| (*x, y)))
+        .filter(finite)
+        .collect()
+}
+
+/// A breakdown figure as plain data: the zoomed panel, the whole-sweep panel, and the window
+/// (x range, y range) the zoomed panel shows.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BreakdownScenes {
+    /// The region around breakdown.
+    pub zoom: Scene,
+    /// The whole sweep, the zoomed window outlined.
+    pub whole: Scene,
+    /// The zoomed window: x range, y range.
+    pub window: ((f64, f64), (f64, f64)),
+}
+
+/// The window around breakdown: in x, every mesh's breakdown and the sweep points either
+/// side of it, the stated interval and the extrapolated value, with a margin; in y, the curves
+/// inside that x range, kept within the breakdown region (lowest threshold to highest
+/// reference, Δ apart) widened by 0.6 Δ below and 0.3 Δ above, so that the region fills more
+/// than half the height (1 / 1.9 at the least).
+fn breakdown_window(
+    b: &BreakdownResult,
+    curves: &[Vec<(f64, f64)>],
+) -> Option<((f64, f64), (f64, f64))> {
+    let mut xs: Vec<f64> = Vec::new();
+    for m in &b.per_mesh {
+        xs.extend([m.x, m.bracket[0], m.bracket[1]]);
+    }
+    if let Some(u) = &b.x_estimate.uncertainty {
+        xs.extend([u.lower, u.upper]);
+    }
+    if let Some(e) = b.x_estimate.governing.as_ref().and_then(|g| g.extrapolated) {
+        xs.push(e);
+    }
+    let (lo, hi) = range(xs.into_iter())?;
+    let full = range(curves.iter().flatten().map(|p| p.0));
+    let pad = 0.12 * (hi - lo);
+    let (mut x0, mut x1) = (lo - pad, hi + pad);
+    if let Some((f0, f1)) = full {
+        let least = 0.05 * (f1 - f0);
+        if x1 - x0 < least {
+            let mid = 0.5 * (x0 + x1);
+            (x0, x1) = (mid - 0.5 * least, mid + 0.5 * least);
+        }
+    }
+    let thr = range(b.per_mesh.iter().map(|m| m.threshold))?;
+    let refs = range(b.per_mesh.iter().map(|m| m.reference))?;
+    let (r0, r1) = (thr.0.min(refs.0), refs.1.max(thr.1));
+    let mut delta = r1 - r0;
+    if !(delta.is_finite() && delta > 0.0) {
+        delta = if r1 != 0.0 { 0.01 * r1.abs() } else { 1.0 };
+    }
+    let inside = curves
+        .iter()
+        .flatten()
+        .filter(|p| p.0 >= x0 && p.0 <= x1)
+        .map(|p| p.1);
+    let (c0, c1) = range(inside).unwrap_or((r0, r1));
+    let y0 = c0.min(r0 - 0.15 * delta).max(r0 - 0.6 * delta);
+    let y1 = c1.max(r1 + 0.15 * delta).min(r1 + 0.3 * delta);
+    let ok = [x0, x1, y0, y1].iter().all(|v| v.is_finite()) && x1 > x0 && y1 > y0;
+    ok.then_some(((x0, x1), (y0, y1)))
+}
+
+/// The parts of a polyline inside a window (x range, y range), each segment cut where it
+/// leaves the window (Liang & Barsky 1984): drawing geometry only, so that a zoomed panel
+/// shows no line running along its edge where plotters would press points outside onto it.
+fn clip_polyline(
+    pts: &[(f64, f64)],
+    (x0, x1): (f64, f64),
+    (y0, y1): (f64, f64),
+) -> Vec<Vec<(f64, f64)>> {
+    let mut runs: Vec<Vec<(f64, f64)>> = Vec::new();
+    let mut run: Vec<(f64, f64)> = Vec::new();
+    for w in pts.windows(2) {
+        let ((ax, ay), (bx, by)) = (w[0], w[1]);
+        let (dx, dy) = (bx - ax, by - ay);
+        let (mut t0, mut t1) = (0.0_f64, 1.0_f64);
+        let mut keep = true;
+        for (p, q) in [(-dx, ax - x0), (dx, x1 - ax), (-dy, ay - y0), (dy, y1 - ay)] {
+            if p == 0.0 {
+                if q < 0.0 {
+                    keep = false;
+                }
+            } else {
+                let r = q / p;
+                if p < 0.0 {
+                    t0 = t0.max(r);
+                } else {
+                    t1 = t1.min(r);
+                }
+            }
+        }
+        if !keep || t0 > t1 || !(t0.is_finite() && t1.is_finite()) {
+            if run.len() >= 2 {
+                runs.push(std::mem::take(&mut run));
+            }
+            run.clear();
+            continue;
+        }
+        // The ends exactly where the segment is not cut, so that runs join.
+        let a = if t0 == 0.0 {
+            (ax, ay)
+        } else {
+            (ax + t0 * dx, ay + t0 * dy)
+        };
+        let b = if t1.total_cmp(&1.0).is_eq() {
+            (bx, by)
+        } else {
+            (ax + t1 * dx, ay + t1 * dy)
+        };
+        if run.last() != Some(&a) {
+            if run.len() >= 2 {
+                runs.push(std::mem::take(&mut run));
+            }
+            run.clear();
+            run.push(a);
+        }
+        run.push(b);
+        if t1 < 1.0 {
+            if run.len() >= 2 {
+                runs.push(std::mem::take(&mut run));
+            }
+            run.clear();
+        }
+    }
+    if run.len() >= 2 {
+        runs.push(run);
+    }
+    runs
+}
+
+/// The points inside a window.
+fn inside(pts: &[(f64, f64)], (x0, x1): (f64, f64), (y0, y1): (f64, f64)) -> Vec<(f64, f64)> {
+    pts.iter()
+        .copied()
+        .filter(|p| p.0 >= x0 && p.0 <= x1 && p.1 >= y0 && p.1 <= y1)
+        .collect()
+}
+
+fn hline(y: f64, (x0, x1): (f64, f64), pen: Pen) -> Item {
+    Item::Line(vec![(x0, y), (x1, y)], pen)
+}
+
+/// A mesh's index in the sweep, its curve, and its points against the breakdown's abscissa.
+type MeshCurve<'a> = (usize, &'a CurveResult, Vec<(f64, f64)>);
+
+/// The scenes of [`breakdown_plot`]; `None` when no mesh has a breakdown of this definition
+/// or no curve can be drawn against its abscissa.
+pub fn breakdown_scenes(
+    a: &Assessment,
+    s: &SweepResult,
+    b: &BreakdownResult,
+    measured: &[MeasuredPoint],
+) -> Option<BreakdownScenes> {
+    let ri = s.responses.iter().position(|x| *x == b.response)?;
+    let finest = b.per_mesh.first()?;
+    let mesh_index = |name: &str| s.meshes.iter().position(|m| m == name).unwrap_or(0);
+    let curves: Vec<MeshCurve<'_>> = s
+        .curves
+        .iter()
+        .enumerate()
+        .map(|(i, c)| (i, c, breakdown_points(s, c, ri, b)))
+        .filter(|(_, _, p)| !p.is_empty())
+        .collect();
+    if curves.is_empty() {
+        return None;
+    }
+    let pts: Vec<Vec<(f64, f64)>> = curves.iter().map(|(_, _, p)| p.clone()).collect();
+    let ((x0, x1), (y0, y1)) = breakdown_window(b, &pts)?;
+    let full_x = range(pts.iter().flatten().map(|p| p.0))?;
+    let sym = if b.abscissa == "npsh" {
+        "NPSH".to_string()
+    } else {
+        symbol(&b.abscissa).to_string()
+    };
+    let x_unit = sweep_unit(s, &b.abscissa).map_or(String::new(), |u| format!(" {u}"));
+    let u = b.x_estimate.uncertainty.as_ref();
+    let extrapolated = b
+        .x_estimate
+        .governing
+        .as_ref()
+        .and_then(|g| g.extrapolated)
+        .filter(|e| e.is_finite());
+
+    let mut zoom_layers = Vec::new();
+    let mut whole_layers = Vec::new();
+    let mut legend = Vec::new();
+    // The stated interval (finest mesh's breakdown ± U), shaded across the window.
+    if let Some(u) = u.filter(|u| u.absolute > 0.0 && u.absolute.is_finite()) {
+        zoom_layers.push(Layer {
+            class: "breakdown-interval",
+            mesh: Some(finest.mesh.clone()),
+            items: vec![Item::Band(
+                vec![(u.lower, y1), (u.upper, y1)],
+                vec![(u.lower, y0), (u.upper, y0)],
+                INTERVAL,
+            )],
+        });
+        legend.push((
+            format!("{} ± U: {}{x_unit}", finest.mesh, statement_interval(u)),
+            Sample::Swatch(INTERVAL),
+        ));
+    }
+    // Reference and threshold of every mesh.
+    let mut references = Vec::new();
+    for m in &b.per_mesh {
+        let (colour, _, _) = mesh_style(mesh_index(&m.mesh));
+        let thin = Pen {
+            colour,
+            width: 1,
+            dash: REFERENCE_DASH,
+        };
+        let bold = Pen {
+            colour,
+            width: 2,
+            dash: THRESHOLD_DASH,
+        };
+        references.push(Layer {
+            class: "reference-level",
+            mesh: Some(m.mesh.clone()),
+            items: vec![hline(m.reference, (x0, x1), thin)],
+        });
+        zoom_layers.push(Layer {
+            class: "threshold",
+            mesh: Some(m.mesh.clone()),
+            items: vec![hline(m.threshold, (x0, x1), bold)],
+        });
+        whole_layers.push(Layer {
+            class: "threshold",
+            mesh: Some(m.mesh.clone()),
+            items: vec![hline(m.threshold, full_x, bold)],
+        });
+    }
+    zoom_layers.extend(references);
+    let drop = if b.relative {
+        format!("{} below", super::format::percent(b.drop))
+    } else {
+        format!("{} below", num(b.drop, 6))
+    };
+    legend.push((
+        format!("threshold of each mesh, {drop} its reference (dashed)"),
+        Sample::Line(
+            Pen {
+                colour: GREY_TEXT,
+                width: 2,
+                dash: THRESHOLD_DASH,
+            },
+            None,
+        ),
+    ));
+    legend.push((
+        "reference of each mesh (dotted)".into(),
+        Sample::Line(
+            Pen {
+                colour: GREY_TEXT,
+                width: 1,
+                dash: REFERENCE_DASH,
+            },
+            None,
+        ),
+    ));
+    // The curves, coarsest first so that the finest is drawn on top.
+    let mut mesh_zoom = Vec::new();
+    let mut mesh_whole = Vec::new();
+    for (i, c, p) in &curves {
+        let (colour, marker, pen) = mesh_style(*i);
+        let thin = Pen { width: 2, ..pen };
+        let mut items: Vec<Item> =
+            clip_polyline(&drawn_curve(p, s.interpolation, x0, x1), (x0, x1), (y0, y1))
+                .into_iter()
+                .map(|run| Item::Line(run, thin))
+                .collect();
+        items.push(Item::Markers(
+            inside(p, (x0, x1), (y0, y1)),
+            marker,
+            colour,
+            4,
+        ));
+        mesh_zoom.push(Layer {
+            class: "mesh",
+            mesh: Some(c.mesh.clone()),
+            items,
+        });
+        mesh_whole.push(Layer {
+            class: "mesh",
+            mesh: Some(c.mesh.clone()),
+            items: vec![
+                Item::Line(drawn_curve(p, s.interpolation, full_x.0, full_x.1), thin),
+                Item::Markers(p.clone(), marker, colour, 3),
+            ],
+        });
+        let cells = a
+            .meshes
+            .iter()
+            .find(|m| m.name == c.mesh)
+            .and_then(|m| m.cells)
+            .map_or(String::new(), |n| format!(" ({} cells)", num(n, 8)));
+        legend.insert(
+            legend.len().min(mesh_zoom.len() - 1),
+            (
+                format!("{}{cells}", c.mesh),
+                Sample::Line(thin, Some((marker, colour, 4))),
+            ),
+        );
+    }
+    zoom_layers.extend(mesh_zoom.into_iter().rev());
+    whole_layers.extend(mesh_whole.into_iter().rev());
+    // Measured points (against the sweep's own abscissa only).
+    let measured: Vec<&MeasuredPoint> = measured
+        .iter()
+        .filter(|p| finite(&(p.x, p.y)) && b.abscissa == s.x)
+        .collect();
+    if !measured.is_empty() {
+        let mut items = vec![Item::Markers(
+            measured.iter().map(|p| (p.x, p.y)).collect(),
+            Marker::Plus,
+            INK,
+            6,
+        )];
+        for p in measured.iter().filter(|p| p.u.is_finite() && p.u > 0.0) {
+            items.push(Item::BarY(p.x, p.y - p.u, p.y + p.u, INK));
+        }
+        // In the zoomed panel only the points inside it, with their bars when whole inside.
+        let within = |x: f64, y: f64| x >= x0 && x <= x1 && y >= y0 && y <= y1;
+        let mut zoomed = vec![Item::Markers(
+            measured
+                .iter()
+                .map(|p| (p.x, p.y))
+                .filter(|(x, y)| within(*x, *y))
+                .collect(),
+            Marker::Plus,
+            INK,
+            6,
+        )];
+        for p in measured
+            .iter()
+            .filter(|p| p.u.is_finite() && p.u > 0.0)
+            .filter(|p| within(p.x, p.y - p.u) && within(p.x, p.y + p.u))
+        {
+            zoomed.push(Item::BarY(p.x, p.y - p.u, p.y + p.u, INK));
+        }
+        zoom_layers.push(Layer {
+            class: "measured",
+            mesh: None,
+            items: zoomed,
+        });
+        whole_layers.push(Layer {
+            class: "measured",
+            mesh: None,
+            items,
+        });
+        legend.push(("measured ± u".into(), Sample::Marker(Marker::Plus, INK, 6)));
+    }
+    // The extrapolated breakdown.
+    if let Some(e) = extrapolated {
+        zoom_layers.push(Layer {
+            class: "extrapolated",
+            mesh: None,
+            items: vec![Item::Line(
+                vec![(e, y0), (e, y1)],
+                Pen {
+                    colour: INK,
+                    width: 2,
+                    dash: Dash::Dashed(12, 6),
+                },
+            )],
+        });
+        legend.push((
+            format!("extrapolated breakdown: {}{x_unit}", num(e, 6)),
+            Sample::Line(
+                Pen {
+                    colour: INK,
+                    width: 2,
+                    dash: Dash::Dashed(12, 6),
+                },
+                None,
+            ),
+        ));
+    }
+    // Every mesh's breakdown, the finest one's ± U as a horizontal bar.
+    for m in &b.per_mesh {
+        let (colour, marker, _) = mesh_style(mesh_index(&m.mesh));
+        zoom_layers.push(Layer {
+            class: "breakdown",
+            mesh: Some(m.mesh.clone()),
+            items: vec![Item::Markers(vec![(m.x, m.threshold)], marker, colour, 8)],
+        });
+        whole_layers.push(Layer {
+            class: "breakdown",
+            mesh: Some(m.mesh.clone()),
+            items: vec![Item::Markers(vec![(m.x, m.threshold)], marker, colour, 6)],
+        });
+    }
+    legend.push((
+        "breakdown of each mesh (large markers)".into(),
+        Sample::Marker(Marker::Ring, GREY_TEXT, 8),
+    ));
+    if let Some(u) = u.filter(|u| u.absolute > 0.0 && u.absolute.is_finite()) {
+        zoom_layers.push(Layer {
+            class: "breakdown-uncertainty",
+            mesh: Some(finest.mesh.clone()),
+            items: vec![Item::BarX(finest.threshold, u.lower, u.upper, INK)],
+        });
+        legend.push((
+            format!(
+                "breakdown of {} ± U ({})",
+                finest.mesh,
+                governing_label(&b.x_estimate)
+            ),
+            Sample::BarX(INK),
+        ));
+    }
+    // The zoomed window, outlined on the whole sweep.
+    whole_layers.push(Layer {
+        class: "zoom-window",
+        mesh: None,
+        items: vec![Item::Line(
+            vec![(x0, y0), (x1, y0), (x1, y1), (x0, y1), (x0, y0)],
+            Pen {
+                colour: WINDOW_EDGE,
+                width: 2,
+                dash: Dash::Solid,
+            },
+        )],
+    });
+    let mut notes = Vec::new();
+    for m in &b.per_mesh_not_computed {
+        notes.push(format!("No breakdown on mesh {}: {}.", m.mesh, m.reason));
+    }
+    for m in b.per_mesh.iter().filter(|m| !m.confirmed) {
+        notes.push(format!(
+            "Mesh {}: unconfirmed (the sweep ends before the persistence rule is met).",
+            m.mesh
+        ));
+    }
+    let against = if b.abscissa == s.x {
+        String::new()
+    } else {
+        format!(" against {sym}")
+    };
+    // The trade's name of a 3 % head drop read against NPSH (IEC 60193 / ISO 9906; from memory).
+    let npsh3 =
+        b.abscissa == "npsh" && b.response == "head" && b.relative && (b.drop - 0.03).abs() < 1e-12;
+    let zoom = Scene {
+        title: format!(
+            "{}: {}breakdown of {}{against}, {}",
+            s.name,
+            if npsh3 { "NPSH3, " } else { "" },
+            b.response,
+            if b.relative {
+                format!("{} drop", super::format::percent(b.drop))
+            } else {
+                format!("drop of {}", num(b.drop, 6))
+            }
+        ),
+        subtitle: vec![
+            format!(
+                "Breakdown {sym}{}: {}",
+                sweep_unit(s, &b.abscissa).map_or(String::new(), |u| format!(" [{u}]")),
+                statement(&b.x_estimate)
+            ),
+            format!(
+                "{}; zoomed on the breakdown region, the whole sweep below",
+                breakdown_rule(b, &s.x)
+            ),
+        ],
+        x_desc: sweep_label(s, &b.abscissa),
+        y_desc: sweep_label(s, &b.response),
+        include_x: Vec::new(),
+        layers: zoom_layers,
+        legend,
+        notes,
+    };
+    let whole = Scene {
+        title: format!("Whole sweep of {}{against}", b.response),
+        subtitle: Vec::new(),
+        x_desc: sweep_label(s, &b.abscissa),
+        y_desc: sweep_label(s, &b.response),
+        include_x: Vec::new(),
+        layers: whole_layers,
+        legend: Vec::new(),
+        notes: vec![
+            "The grey box is the window drawn above.".to_string(),
+            BREAKDOWN_CAUTION.to_string(),
+        ],
+    };
+    Some(BreakdownScenes {
+        zoom,
+        whole,
+        window: ((x0, x1), (y0, y1)),
+    })
+}
+
+/// `lower … upper` of a stated interval.
+fn statement_interval(u: &crate::assess::Uncertainty) -> String {
+    format!("{} to {}", sig(u.lower, 5), sig(u.upper, 5))
+}
+
+/// The breakdown figure of one breakdown definition of a sweep: above, the region around
+/// breakdown zoomed so that it fills most of the height — every mesh's curve (its
+/// interpolant and its points), threshold (dashed) and reference (dotted), every mesh's
+/// breakdown point, the finest mesh's breakdown ± U as a bar and a shaded interval, the
+/// extrapolated breakdown, measured points; below, the whole sweep with that window outlined.
+/// `None` when no mesh has a breakdown of this definition.
+pub fn breakdown_plot(
+    a: &Assessment,
+    s: &SweepResult,
+    b: &BreakdownResult,
+    measured: &[MeasuredPoint],
+) -> Option<String> {
+    let sc = breakdown_scenes(a, s, b, measured)?;
+    render_panels(&[
+        Panel {
+            scene: &sc.zoom,
+            layout: STANDARD,
+            view: Some(sc.window),
+            name: "zoom",
+        },
+        Panel {
+            scene: &sc.whole,
+            layout: WHOLE,
+            view: None,
+            name: "whole",
+        },
+    ])
 }
 
 #[cfg(test)]
@@ -1329,6 +2147,76 @@ mod tests {
         assert!(a.ticks.len() <= TICKS);
         assert!(axis((1.0, 1.0), TICKS).is_none());
         assert!(axis((f64::NAN, 1.0), TICKS).is_none());
+    }
+
+    #[test]
+    fn breakdown_figure_zooms_on_the_breakdown_region() {
+        let a = fixture::assess(fixture::DEMO);
+        let s = &a.sweeps[0];
+        let b = &s.breakdown[0];
+        let sc = breakdown_scenes(&a, s, b, &[]).expect("scenes");
+        let ((x0, x1), (y0, y1)) = sc.window;
+        // Every mesh's breakdown and threshold inside the window.
+        for m in &b.per_mesh {
+            assert!(m.x > x0 && m.x < x1, "{} at {}", m.mesh, m.x);
+            assert!(m.threshold > y0 && m.threshold < y1);
+        }
+        // Lowest threshold to highest reference: at least 1 / 1.9 of the height.
+        let lo = b
+            .per_mesh
+            .iter()
+            .map(|m| m.threshold)
+            .fold(f64::INFINITY, f64::min);
+        let hi = b
+            .per_mesh
+            .iter()
+            .map(|m| m.reference)
+            .fold(f64::NEG_INFINITY, f64::max);
+        assert!((hi - lo) / (y1 - y0) >= 1.0 / 1.9 - 1e-12);
+        let count = |sc: &Scene, class: &str| sc.layers.iter().filter(|l| l.class == class).count();
+        assert_eq!(count(&sc.zoom, "threshold"), 3);
+        assert_eq!(count(&sc.zoom, "reference-level"), 3);
+        assert_eq!(count(&sc.zoom, "breakdown"), 3);
+        assert_eq!(count(&sc.zoom, "breakdown-uncertainty"), 1);
+        assert_eq!(count(&sc.whole, "zoom-window"), 1);
+        let svg = breakdown_plot(&a, s, b, &[]).expect("a figure");
+        check_svg(&svg);
+        assert!(svg.starts_with(&format!(
+            "<svg width=\"{WIDTH}\" height=\"{}\"",
+            HEIGHT + WHOLE_HEIGHT
+        )));
+        assert_eq!(svg.matches("<g class=\"panel\"").count(), 2);
+        assert!(!svg.contains("url("), "nothing a page would fetch");
+    }
+
+    #[test]
+    fn polylines_are_cut_at_the_window() {
+        // A line from inside to outside and back: two runs, cut exactly at y = 1 (analytic).
+        let pts = [(0.0, 0.0), (1.0, 2.0), (2.0, 0.0)];
+        let runs = clip_polyline(&pts, (0.0, 2.0), (-1.0, 1.0));
+        assert_eq!(
+            runs,
+            vec![vec![(0.0, 0.0), (0.5, 1.0)], vec![(1.5, 1.0), (2.0, 0.0)]]
+        );
+        // Wholly inside: unchanged, one run; wholly outside: nothing.
+        assert_eq!(
+            clip_polyline(&pts, (-1.0, 3.0), (-1.0, 3.0)),
+            vec![pts.to_vec()]
+        );
+        assert!(clip_polyline(&pts, (5.0, 6.0), (-1.0, 3.0)).is_empty());
+        assert_eq!(inside(&pts, (0.5, 2.0), (-1.0, 1.0)), vec![(2.0, 0.0)]);
+    }
+
+    #[test]
+    fn fixed_axes_keep_their_range_and_put_round_ticks_inside() {
+        let a = axis_within((0.8912, 0.9134), TICKS).unwrap();
+        assert_eq!((a.lo, a.hi), (0.8912, 0.9134));
+        assert!(a.ticks.len() >= 3 && a.ticks.len() <= TICKS);
+        assert!(a.ticks.iter().all(|t| *t >= a.lo && *t <= a.hi));
+        let labels: Vec<String> = a.ticks.iter().map(|t| tick(*t, 1e-12)).collect();
+        assert_eq!(labels, ["0.895", "0.9", "0.905", "0.91"]);
+        assert!(axis_within((1.0, 1.0), TICKS).is_none());
+        assert!(axis_within((f64::NAN, 1.0), TICKS).is_none());
     }
 
     #[test]
