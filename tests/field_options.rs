@@ -3,9 +3,9 @@
 //! results along a sampled line and the comparison with reference data at points.
 //!
 //! Data: tests/data/fields_vtk/L1–L4 (see tests/fields_vtk.rs): four jittered triangulations
-//! of the unit square holding the manufactured solution φ(x, y; h) = sin x cos y
-//! + 30 (1 + x y) h², h = 1/n (n = 32, 24, 18, 13), so the order is 2 at every point and the
-//! limit is sin x cos y (analytic).
+//! of the unit square holding the manufactured solution
+//! φ(x, y; h) = sin x cos y + 30 (1 + x y) h², h = 1/n (n = 32, 24, 18, 13), so the order is 2
+//! at every point and the limit is sin x cos y (analytic).
 
 mod common;
 

@@ -97,3 +97,100 @@ pub fn scene(field: &str, prof: &LineProfile) -> Option<Scene> {
 pub fn plot(field: &str, prof: &LineProfile) -> Option<String> {
     super::plot::render(&scene(field, prof)?)
 }
+
+/// Sentences on a field's options and its shares, transfer and comparison, for every format:
+/// one line each (empty when the field has none of them).
+pub fn extra_lines(f: &crate::field::FieldSummary) -> Vec<String> {
+    use super::format::{num, percent, sig};
+    let mut out = Vec::new();
+    if let Some(s) = &f.setup {
+        out.push(format!(
+            "{} meshes, {}, estimated at {}; transfer in {}-D; shares weighted by {}.",
+            s.meshes,
+            if s.data == "meshes" {
+                "VTK meshes".to_string()
+            } else {
+                s.data.replace('_', " ")
+            },
+            s.targets.replace('_', " "),
+            s.dimension.map_or("–".to_string(), |d| d.to_string()),
+            s.weighted_by
+        ));
+    }
+    for c in &f.columns {
+        if let Some(sh) = &c.class_shares {
+            out.push(format!(
+                "{}: share of the domain monotonic {}, oscillatory {}, divergent {}, no change {}, no estimate {}.",
+                c.name,
+                percent(sh.monotonic),
+                percent(sh.oscillatory),
+                percent(sh.divergent),
+                percent(sh.no_change),
+                percent(sh.none)
+            ));
+        }
+        if let Some(t) = &c.transfer {
+            out.push(format!(
+                "{}: largest stated transfer error {}; {} points with a transfer error above 0.2 × U; {} points outside a coarser mesh.",
+                c.name,
+                t.max_error.map_or("–".to_string(), |e| sig(e, 3)),
+                t.large_error_points,
+                t.outside_points
+            ));
+        }
+        if let Some(g) = &c.global_order {
+            out.push(match g.order {
+                Some(p) => format!(
+                    "{}: one order at every point, p = {} ({:?} over {} points).",
+                    c.name,
+                    sig(p, 4),
+                    g.basis,
+                    g.from_points
+                ),
+                None => format!(
+                    "{}: no global order could be formed ({:?}); the points keep their own.",
+                    c.name, g.basis
+                ),
+            });
+        }
+        if let Some(n) = &c.noise_floor {
+            out.push(format!(
+                "{}: noise floor {}: {} points within it (U = the floor), {} partly.",
+                c.name,
+                num(n.floor, 6),
+                n.within,
+                n.partly_within
+            ));
+        }
+    }
+    if let Some(l) = &f.line {
+        out.push(format!(
+            "{} sampled along a line at {} points ({} outside the field); see the figure.",
+            l.column,
+            l.samples.len(),
+            l.outside
+        ));
+    }
+    if let Some(c) = &f.comparison {
+        let what = if c.benchmark {
+            "the published benchmark solution"
+        } else {
+            "measurements"
+        };
+        match &c.comparison {
+            Some(cmp) => out.push(format!(
+                "{} compared with {what} at {} points (ASME V&V 20): {} within k·u_val, largest |E| {}; {} points outside the field.",
+                c.column,
+                cmp.summary.points,
+                cmp.summary.within,
+                sig(cmp.summary.max_abs_error, 3),
+                c.outside.len()
+            )),
+            None => out.push(format!(
+                "{} not compared with {what}: every reference point lies outside the field.",
+                c.column
+            )),
+        }
+    }
+    out
+}

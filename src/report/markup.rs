@@ -1094,6 +1094,12 @@ fn field_blocks(f: &crate::field::FieldSummary, layout: Layout, out: &mut Vec<Bl
     out.push(Block::Paragraph(vec![text(
         "Mean and median orders are over the probes whose convergence is demonstrated (orders on a search bound, not found or not demonstrated left out).",
     )]));
+    let extra = super::field_line::extra_lines(f);
+    if !extra.is_empty() {
+        out.push(Block::List(
+            extra.into_iter().map(|l| vec![text(l)]).collect(),
+        ));
+    }
     for c in &f.columns {
         out.extend(point_warnings_table(
             format!("Warnings at the probes of {}.{}", f.name, c.name),

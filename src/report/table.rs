@@ -693,6 +693,9 @@ fn field_block(f: &crate::field::FieldSummary, out: &mut String) {
         "  orders: over the points whose convergence is demonstrated (orders on a search bound, \
          not found or not demonstrated left out)\n",
     );
+    for l in super::field_line::extra_lines(f) {
+        out.push_str(&format!("  {l}\n"));
+    }
     for c in &f.columns {
         if !c.point_warnings.is_empty() {
             out.push_str(&format!("  column {}\n", c.name));
