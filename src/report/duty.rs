@@ -332,7 +332,12 @@ pub fn scene(c: &DutyCurveResult, s: &DutySeriesResult) -> Option<Scene> {
             Sample::Marker(Marker::Plus, meas_colour, 6),
         ));
     }
-    let mut notes = Vec::new();
+    let mut notes = vec![
+        "Numerical uncertainty of computed values only: not a model-test acceptance of the \
+         machine's performance. Duty limits follow the applicable test codes, local regulations \
+         and licensed engineering judgment."
+            .to_string(),
+    ];
     let undemonstrated = s.points.iter().filter(|p| !p.demonstrated).count();
     if undemonstrated > 0 {
         notes.push(format!(
