@@ -6,8 +6,7 @@
 
 mod common;
 
-use common::{root, run, show, Workdir};
-use std::path::PathBuf;
+use common::{example_studies, run, show, Workdir};
 use std::process::{Command, Stdio};
 
 fn pdflatex() -> bool {
@@ -74,13 +73,7 @@ fn latex_tables_of_every_example_study_fit_one_column_of_a_two_column_page() {
         println!("skipped: no pdflatex on PATH (CI installs texlive-latex-base and texlive-latex-recommended)");
         return;
     }
-    let mut studies: Vec<PathBuf> = std::fs::read_dir(root().join("studies"))
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().and_then(|e| e.to_str()) == Some("yaml"))
-        .collect();
-    studies.sort();
-    assert!(!studies.is_empty());
+    let studies = example_studies();
     let mut widest = (0.0_f64, String::new());
     for study in studies {
         let o = run(&["assess", study.to_str().unwrap(), "--format", "latex"]);

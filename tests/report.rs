@@ -335,13 +335,7 @@ fn latex_fragments_of_every_example_study_compile() {
         println!("skipped: no TeX engine (pdflatex or lualatex) on PATH");
         return;
     };
-    let mut studies: Vec<PathBuf> = std::fs::read_dir(root().join("studies"))
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().and_then(|e| e.to_str()) == Some("yaml"))
-        .collect();
-    studies.sort();
-    assert!(!studies.is_empty());
+    let studies = example_studies();
     for study in studies {
         let o = run(&["assess", study.to_str().unwrap(), "--format", "latex"]);
         assert_eq!(o.status.code(), Some(0), "{}", show(&o));

@@ -914,7 +914,7 @@ fn validate(
 }
 
 /// Searched intervals: the settings' range without the band `|p| < EXCLUDED_ORDER_HALF_WIDTH`.
-fn intervals_of(settings: &LsSettings) -> Result<Vec<(f64, f64)>, EstimateError> {
+pub(crate) fn intervals_of(settings: &LsSettings) -> Result<Vec<(f64, f64)>, EstimateError> {
     let g = EXCLUDED_ORDER_HALF_WIDTH;
     let (lo, hi) = (settings.order_min, settings.order_max);
     let mut out = Vec::with_capacity(2);

@@ -27,7 +27,7 @@
 //! kind (the benchmark counts it).
 
 use crate::estimate::least_squares::{
-    LsSettings, EXCLUDED_ORDER_HALF_WIDTH, FLOOR_FROM_ORDER, FLOOR_ORDER, FORMAL_FLOOR_FROM_ORDER,
+    LsSettings, FLOOR_FROM_ORDER, FLOOR_ORDER, FORMAL_FLOOR_FROM_ORDER,
 };
 use crate::estimate::{Convergence, EstimateError};
 
@@ -247,8 +247,9 @@ pub struct FastLeastSquares {
 }
 
 /// The searched intervals, as the general estimator forms them.
+/// The searched order intervals of the general estimator, after the finite-range check it
+/// makes in its own validation.
 fn intervals_of(settings: &LsSettings) -> Result<Vec<(f64, f64)>, EstimateError> {
-    let g = EXCLUDED_ORDER_HALF_WIDTH;
     let (lo, hi) = (settings.order_min, settings.order_max);
     if !lo.is_finite() || !hi.is_finite() || lo >= hi {
         return Err(EstimateError::InvalidInput(format!(
@@ -256,26 +257,7 @@ fn intervals_of(settings: &LsSettings) -> Result<Vec<(f64, f64)>, EstimateError>
              order_min < order_max"
         )));
     }
-    let mut out = Vec::with_capacity(2);
-    if lo < -g {
-        let b = hi.min(-g);
-        if b - lo > 1e-9 {
-            out.push((lo, b));
-        }
-    }
-    if hi > g {
-        let a = lo.max(g);
-        if hi - a > 1e-9 {
-            out.push((a, hi));
-        }
-    }
-    if out.is_empty() {
-        return Err(EstimateError::InvalidInput(format!(
-            "least-squares estimate: the order range [{lo}, {hi}] lies inside the excluded \
-             band |p| < {g}"
-        )));
-    }
-    Ok(out)
+    super::least_squares::intervals_of(settings)
 }
 
 impl FastLeastSquares {

@@ -83,3 +83,15 @@ pub fn warning_codes(v: &serde_json::Value) -> Vec<&str> {
         .map(|a| a.iter().filter_map(|w| w["code"].as_str()).collect())
         .unwrap_or_default()
 }
+
+/// The example studies (`studies/*.yaml`), sorted.
+pub fn example_studies() -> Vec<PathBuf> {
+    let mut studies: Vec<PathBuf> = std::fs::read_dir(root().join("studies"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().and_then(|e| e.to_str()) == Some("yaml"))
+        .collect();
+    studies.sort();
+    assert!(!studies.is_empty());
+    studies
+}
