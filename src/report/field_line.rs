@@ -194,3 +194,12 @@ pub fn extra_lines(f: &crate::field::FieldSummary) -> Vec<String> {
     }
     out
 }
+
+/// What a field's targets are called: `points` for the points of a mesh, `probes` for probe
+/// files and probe sets.
+pub fn place_word(f: &crate::field::FieldSummary) -> &'static str {
+    match &f.setup {
+        Some(s) if s.data == "meshes" && s.targets != "probe_points" => "points",
+        _ => "probes",
+    }
+}

@@ -1045,8 +1045,9 @@ fn field_blocks(f: &crate::field::FieldSummary, layout: Layout, out: &mut Vec<Bl
     out.push(Block::Heading(2, format!("Field {}", f.name)));
     let mut t = TableBlock::new(
         format!(
-            "Pointwise estimate over {} probes{}",
+            "Pointwise estimate over {} {}{}",
             f.points,
+            super::field_line::place_word(f),
             f.written
                 .as_ref()
                 .map_or(String::new(), |w| format!("; per-point results in {w}"))

@@ -657,9 +657,10 @@ fn comparison_block(
 
 fn field_block(f: &crate::field::FieldSummary, out: &mut String) {
     out.push_str(&format!(
-        "\nfield {} — {} probes{}\n",
+        "\nfield {} — {} {}{}\n",
         f.name,
         f.points,
+        super::field_line::place_word(f),
         f.written.as_ref().map_or(String::new(), |w| format!(
             "; per-point results written to {w}"
         ))
@@ -700,7 +701,13 @@ fn field_block(f: &crate::field::FieldSummary, out: &mut String) {
         if !c.point_warnings.is_empty() {
             out.push_str(&format!("  column {}\n", c.name));
         }
-        point_warnings_block(&c.point_warnings, f.points, "at probes", String::clone, out);
+        point_warnings_block(
+            &c.point_warnings,
+            f.points,
+            &format!("at {}", super::field_line::place_word(f)),
+            String::clone,
+            out,
+        );
     }
 }
 
