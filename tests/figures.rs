@@ -8,7 +8,6 @@ mod common;
 
 use common::*;
 use std::collections::BTreeSet;
-use std::path::{Path, PathBuf};
 
 /// The demo studies with sweeps: breakdown read against σ (efficiency, 1 % drop; head, 3 %
 /// drop) and against NPSH derived from raw monitors.
@@ -16,23 +15,6 @@ const STUDIES: [&str; 2] = [
     "studies/pump-turbine-cavitation.yaml",
     "studies/pump-turbine-raw-sweep.yaml",
 ];
-
-fn report_of(study: &str) -> (Workdir, PathBuf) {
-    let w = Workdir::new();
-    let out = w.path().join("out");
-    let o = run(&[
-        "report",
-        root().join(study).to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
-    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
-    (w, out)
-}
-
-fn read(p: &Path) -> String {
-    std::fs::read_to_string(p).unwrap_or_else(|e| panic!("{}: {e}", p.display()))
-}
 
 fn nums(text: &str) -> Vec<f64> {
     text.split(|c: char| !(c.is_ascii_digit() || c == '.' || c == '-' || c == 'e'))

@@ -7,30 +7,11 @@ mod common;
 
 use common::*;
 use std::collections::BTreeSet;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
 const STUDY: &str = "studies/pump-turbine-cavitation.yaml";
-
-/// Runs `report STUDY --out <workdir>/out` and returns the work directory and the folder.
-fn report_of(study: &str) -> (Workdir, PathBuf) {
-    let w = Workdir::new();
-    let out = w.path().join("out");
-    let study = root().join(study);
-    let o = run(&[
-        "report",
-        study.to_str().unwrap(),
-        "--out",
-        out.to_str().unwrap(),
-    ]);
-    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
-    (w, out)
-}
-
-fn read(p: &Path) -> String {
-    std::fs::read_to_string(p).unwrap_or_else(|e| panic!("{}: {e}", p.display()))
-}
 
 fn names(dir: &Path) -> BTreeSet<String> {
     std::fs::read_dir(dir)

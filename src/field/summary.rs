@@ -65,19 +65,7 @@ impl PointChecks {
     #[inline]
     pub fn codes(&self, e: &PointEstimate, phi: [f64; 3]) -> u16 {
         // Round-off exactly as the estimators decide it.
-        let scale = phi[0].abs().max(phi[1].abs()).max(phi[2].abs());
-        let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
-        let d21 = phi[1] - phi[0];
-        let d32 = phi[2] - phi[1];
-        let round21 = d21 != 0.0 && d21.abs() <= tiny;
-        let round32 = d32 != 0.0 && d32.abs() <= tiny;
-        let mut bits: u16 = if round21 || round32 {
-            1 << C_ROUND_OFF
-        } else {
-            0
-        };
-        let e21 = if round21 { 0.0 } else { d21 };
-        let e32 = if round32 { 0.0 } else { d32 };
+        let (mut bits, e21, e32) = round_off(phi[0], phi[1], phi[2]);
         match e.convergence {
             Convergence::NoChange => return bits | 1 << C_NO_CHANGE,
             Convergence::Divergent => bits |= 1 << C_DIV,
@@ -95,16 +83,9 @@ impl PointChecks {
                     bits |= 1 << C_BOUND;
                     nd = true;
                 }
-                let pf = self.formal_order;
+                bits |= self.order_bits(p);
                 if p < DEMONSTRATED_MIN_ORDER {
                     nd = true;
-                }
-                if p < 0.5 {
-                    bits |= 1 << C_LOW;
-                } else if p > pf + 1.0 {
-                    bits |= 1 << C_HIGH;
-                } else if ((p - pf) / pf).abs() > FORMAL_ORDER_TOLERANCE {
-                    bits |= 1 << C_FAR;
                 }
             }
             None if e.convergence != Convergence::Divergent => {
@@ -129,6 +110,44 @@ impl PointChecks {
     }
 }
 
+/// The round-off bit of a point's three finest values, and its differences ε21, ε32 with
+/// round-off set to 0 (exactly as the estimators decide it).
+#[inline]
+fn round_off(p0: f64, p1: f64, p2: f64) -> (u16, f64, f64) {
+    let scale = p0.abs().max(p1.abs()).max(p2.abs());
+    let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
+    let d21 = p1 - p0;
+    let d32 = p2 - p1;
+    let round21 = d21 != 0.0 && d21.abs() <= tiny;
+    let round32 = d32 != 0.0 && d32.abs() <= tiny;
+    let bits: u16 = if round21 || round32 {
+        1 << C_ROUND_OFF
+    } else {
+        0
+    };
+    let e21 = if round21 { 0.0 } else { d21 };
+    let e32 = if round32 { 0.0 } else { d32 };
+    (bits, e21, e32)
+}
+
+impl PointChecks {
+    /// The bits of the order checks on an observed order `p`: `order_low`, `order_high`,
+    /// `order_far_from_formal`.
+    #[inline]
+    fn order_bits(&self, p: f64) -> u16 {
+        let pf = self.formal_order;
+        if p < 0.5 {
+            1 << C_LOW
+        } else if p > pf + 1.0 {
+            1 << C_HIGH
+        } else if ((p - pf) / pf).abs() > FORMAL_ORDER_TOLERANCE {
+            1 << C_FAR
+        } else {
+            0
+        }
+    }
+}
+
 impl PointChecks {
     /// Bit `1 << k` set for each code `FIELD_CODES[k]` at a point estimated with four meshes
     /// or more (`phi` finest first, `r` the [`PointEstimator`](crate::estimate::point::PointEstimator)'s
@@ -145,19 +164,7 @@ impl PointChecks {
             [a, b, c, ..] => (*a, *b, *c),
             _ => return 0,
         };
-        let scale = p0.abs().max(p1.abs()).max(p2.abs());
-        let tiny = ROUNDOFF_ULPS * f64::EPSILON * scale;
-        let d21 = p1 - p0;
-        let d32 = p2 - p1;
-        let round21 = d21 != 0.0 && d21.abs() <= tiny;
-        let round32 = d32 != 0.0 && d32.abs() <= tiny;
-        let mut bits: u16 = if round21 || round32 {
-            1 << C_ROUND_OFF
-        } else {
-            0
-        };
-        let e21 = if round21 { 0.0 } else { d21 };
-        let e32 = if round32 { 0.0 } else { d32 };
+        let (mut bits, e21, e32) = round_off(p0, p1, p2);
         match r.convergence {
             Convergence::NoChange => return bits | 1 << C_NO_CHANGE,
             Convergence::Divergent => bits |= 1 << C_DIV,
@@ -167,16 +174,9 @@ impl PointChecks {
         let mut nd = e32 != 0.0 && e21 / e32 > DEMONSTRATED_MAX_RATIO;
         match r.order {
             Some(p) => {
-                let pf = self.formal_order;
+                bits |= self.order_bits(p);
                 if p < DEMONSTRATED_MIN_ORDER {
                     nd = true;
-                }
-                if p < 0.5 {
-                    bits |= 1 << C_LOW;
-                } else if p > pf + 1.0 {
-                    bits |= 1 << C_HIGH;
-                } else if ((p - pf) / pf).abs() > FORMAL_ORDER_TOLERANCE {
-                    bits |= 1 << C_FAR;
                 }
             }
             None if r.convergence != Convergence::Divergent => {

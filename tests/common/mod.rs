@@ -95,3 +95,23 @@ pub fn example_studies() -> Vec<PathBuf> {
     assert!(!studies.is_empty());
     studies
 }
+
+/// Runs `report STUDY --out <workdir>/out` and returns the work directory and the folder.
+pub fn report_of(study: &str) -> (Workdir, PathBuf) {
+    let w = Workdir::new();
+    let out = w.path().join("out");
+    let study = root().join(study);
+    let o = run(&[
+        "report",
+        study.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", show(&o));
+    (w, out)
+}
+
+/// A file's text, or a panic naming it.
+pub fn read(p: &Path) -> String {
+    std::fs::read_to_string(p).unwrap_or_else(|e| panic!("{}: {e}", p.display()))
+}
