@@ -201,14 +201,68 @@ struct Interval {
 struct Weighting {
     /// Weights normalised to sum 1.
     omega: Vec<f64>,
-    /// Per interval: `ω_i x_i^p`, mesh-major (`[i m + k]` for sample k of m).
-    sample_a: Vec<Vec<f64>>,
-    /// Per interval, per sample: `1/C(p)`, or 0 where the column is unusable (the sample
-    /// then costs the constant fit's RSS, as in the general estimator).
-    sample_inv_c: Vec<Vec<f64>>,
+    /// Per interval: `ω_i x_i^p / √C(p)`, mesh-major (`[i m + k]` for sample k of m), or 0
+    /// for every mesh where the column is unusable (the sample then costs the constant fit's
+    /// RSS, as in the general estimator).
+    sample_b: Vec<Vec<f64>>,
+    /// Per interval, per sample: what dRSS/dp at the sample needs beyond the point's values
+    /// ([`Slope`]).
+    sample_slope: Vec<Vec<Slope>>,
     first: TwoCol,
     second: TwoCol,
     first_second: ThreeCol,
+}
+
+/// The point-independent part of dRSS/dp at one sample order p (for 16 meshes at most):
+/// `g0_i = ω_i (x_i^p − m0)`, `g1_i = ω_i (x_i^p ln x_i − m1)` with `m0 = Σ ω x^p`,
+/// `m1 = Σ ω x^p ln x`, and `C = Σ ω (x^p − m0)²`, `C1 = Σ ω (x^p − m0)(x^p ln x − m1)`:
+/// then `S = Σ g0 ỹ`, `S' = Σ g1 ỹ` and dRSS/dp = `−S (2 S' C − S · 2 C1) / C²`, the same
+/// operations in the same order as [`FastLeastSquares::moments_of`] makes them.
+#[derive(Debug, Clone, Copy)]
+struct Slope {
+    g0: [f64; 16],
+    g1: [f64; 16],
+    c: f64,
+    c1: f64,
+}
+
+impl Slope {
+    fn new(col: &[f64], lnx: &[f64], omega: &[f64]) -> Self {
+        let n = col.len().min(16);
+        let (mut m0, mut m1) = (0.0, 0.0);
+        for i in 0..n {
+            m0 += omega[i] * col[i];
+            m1 += omega[i] * col[i] * lnx[i];
+        }
+        let mut out = Slope {
+            g0: [0.0; 16],
+            g1: [0.0; 16],
+            c: 0.0,
+            c1: 0.0,
+        };
+        for i in 0..n {
+            let d0 = col[i] - m0;
+            let d1 = col[i] * lnx[i] - m1;
+            let w = omega[i];
+            out.g0[i] = w * d0;
+            out.g1[i] = w * d1;
+            out.c += w * d0 * d0;
+            out.c1 += w * d0 * d1;
+        }
+        out
+    }
+
+    /// dRSS/dp for centred values `yt`.
+    fn at(&self, yt: &[f64]) -> f64 {
+        let (mut s, mut s1) = (0.0, 0.0);
+        for ((g0, g1), y) in self.g0.iter().zip(&self.g1).zip(yt) {
+            s += g0 * y;
+            s1 += g1 * y;
+        }
+        let (cc, c1) = (self.c, self.c1);
+        let f = 2.0 * s1 * cc - s * (2.0 * c1);
+        -s * f / (cc * cc)
+    }
 }
 
 /// A fit's numbers in normalised units.
@@ -240,8 +294,6 @@ pub struct FastLeastSquares {
     r21: f64,
     settings: LsSettings,
     intervals: Vec<Interval>,
-    /// Per interval, per sample: `x_i^p` (n values per sample).
-    sample_c: Vec<Vec<f64>>,
     /// Unweighted, then weighted.
     weightings: [Weighting; 2],
 }
@@ -311,24 +363,26 @@ impl FastLeastSquares {
             if omega.iter().any(|w| !w.is_finite()) {
                 return Ok(None);
             }
-            let mut sample_a = Vec::with_capacity(intervals.len());
-            let mut sample_inv_c = Vec::with_capacity(intervals.len());
-            for iv in &intervals {
+            let mut sample_b = Vec::with_capacity(intervals.len());
+            let mut sample_slope = Vec::with_capacity(intervals.len());
+            for (iv, c_tab) in intervals.iter().zip(&sample_c) {
+                sample_slope.push(
+                    c_tab
+                        .chunks_exact(n)
+                        .map(|col| Slope::new(col, &lnx, &omega))
+                        .collect::<Vec<_>>(),
+                );
                 let mut a = Vec::with_capacity(iv.grid.len() * n);
-                let mut ic = Vec::with_capacity(iv.grid.len());
                 for &p in &iv.grid {
                     let col: Vec<f64> = x.iter().map(|v| v.powf(p)).collect();
                     match TwoCol::new(&col, &omega) {
                         Some(t) => {
                             let cc: f64 =
                                 t.dc.iter().zip(&omega).map(|(d, w)| w * d * d).sum::<f64>();
-                            a.extend(col.iter().zip(&omega).map(|(c, w)| w * c));
-                            ic.push(1.0 / cc);
+                            let root = cc.sqrt();
+                            a.extend(col.iter().zip(&omega).map(|(c, w)| w * c / root));
                         }
-                        None => {
-                            a.extend(std::iter::repeat_n(0.0, n));
-                            ic.push(0.0);
-                        }
+                        None => a.extend(std::iter::repeat_n(0.0, n)),
                     }
                 }
                 // mesh-major (`a[i m + k]`), so that one point's sums over the samples run
@@ -340,8 +394,7 @@ impl FastLeastSquares {
                         by_mesh[i * m + k] = a[k * n + i];
                     }
                 }
-                sample_a.push(by_mesh);
-                sample_inv_c.push(ic);
+                sample_b.push(by_mesh);
             }
             let sq: Vec<f64> = x.iter().map(|v| v * v).collect();
             let (Some(first), Some(second), Some(first_second)) = (
@@ -353,8 +406,8 @@ impl FastLeastSquares {
             };
             prepared.push(Weighting {
                 omega,
-                sample_a,
-                sample_inv_c,
+                sample_b,
+                sample_slope,
                 first,
                 second,
                 first_second,
@@ -370,7 +423,6 @@ impl FastLeastSquares {
             r21: x[1] / x[0],
             settings: *settings,
             intervals,
-            sample_c,
             weightings,
         }))
     }
@@ -523,18 +575,17 @@ impl FastLeastSquares {
     /// The free-order search of one weighting; `None` when the fast search is in doubt.
     fn free_fit(&self, wt: &Weighting, yt: &[f64], my: f64, yy: f64) -> Option<FreeOutcome> {
         let mut best: Option<FreeOutcome> = None;
-        for ((iv, c_tab), (a_tab, ic_tab)) in self
+        for ((iv, b_tab), slopes) in self
             .intervals
             .iter()
-            .zip(&self.sample_c)
-            .zip(wt.sample_a.iter().zip(&wt.sample_inv_c))
+            .zip(&wt.sample_b)
+            .zip(&wt.sample_slope)
         {
             let m = iv.grid.len();
-            // S(p_k) = Σ_i ỹ_i ω_i x_i^p_k for every sample at once, then
-            // RSS(p_k) = Y − S² / C (an unusable sample has a = 0 and 1/C = 0: RSS = Y, the
-            // constant fit's, as in the general estimator)
-            // a small buffer on the stack for the usual ranges (zeroing 400 would cost more
-            // than the sums), the heap for very wide ones
+            // RSS(p_k) = Y − S(p_k)² / C(p_k) = Y − T_k² with T_k = Σ_i ỹ_i b[i m + k] for
+            // every sample at once (an unusable sample has b = 0: RSS = Y, the constant fit's,
+            // as in the general estimator); a small buffer on the stack for the usual ranges
+            // (zeroing 400 would cost more than the sums), the heap for very wide ones
             let mut small = [0.0_f64; SMALL_SAMPLES];
             let mut large = Vec::new();
             let vals: &mut [f64] = if m <= SMALL_SAMPLES {
@@ -543,29 +594,46 @@ impl FastLeastSquares {
                 large.resize(m, 0.0);
                 &mut large
             };
-            sample_residuals(a_tab, ic_tab, yt, yy, vals);
+            sample_residuals(b_tab, yt, yy, vals);
             let vals: &[f64] = vals;
             let val = |k: usize| vals[k];
             // the three lowest local minima of the samples, lowest first, ties by position
             let mut minima: [(f64, usize); REFINED_MINIMA] = [(f64::INFINITY, usize::MAX); 3];
             let mut count = 0usize;
-            for k in 0..m {
-                let cur = vals[k];
-                let left = k == 0 || cur <= vals[k - 1];
-                let right = k + 1 == m || cur <= vals[k + 1];
-                if left && right {
-                    count += 1;
-                    // insert keeping (value, index) order; equal values keep index order
-                    let mut j = REFINED_MINIMA;
-                    while j > 0 && cur < minima[j - 1].0 {
-                        j -= 1;
+            let mut insert = |cur: f64, k: usize| {
+                count += 1;
+                // insert keeping (value, index) order; equal values keep index order
+                let mut j = REFINED_MINIMA;
+                while j > 0 && cur < minima[j - 1].0 {
+                    j -= 1;
+                }
+                if j < REFINED_MINIMA {
+                    for t in (j + 1..REFINED_MINIMA).rev() {
+                        minima[t] = minima[t - 1];
                     }
-                    if j < REFINED_MINIMA {
-                        for t in (j + 1..REFINED_MINIMA).rev() {
-                            minima[t] = minima[t - 1];
-                        }
-                        minima[j] = (cur, k);
-                    }
+                    minima[j] = (cur, k);
+                }
+            };
+            // a sample is a local minimum when no neighbour is lower: the tests of every
+            // sample first, without a branch (they run in vector lanes), then the few minima
+            // read from the flags eight at a time
+            let mut small_flags = [0u8; SMALL_SAMPLES];
+            let mut large_flags = Vec::new();
+            let flags: &mut [u8] = if m <= SMALL_SAMPLES {
+                &mut small_flags[..m]
+            } else {
+                large_flags.resize(m, 0);
+                &mut large_flags
+            };
+            local_minima(vals, flags);
+            for (c, chunk) in flags.chunks(8).enumerate() {
+                let mut word = [0u8; 8];
+                word[..chunk.len()].copy_from_slice(chunk);
+                let mut bits = u64::from_le_bytes(word);
+                while bits != 0 {
+                    let k = c * 8 + (bits.trailing_zeros() / 8) as usize;
+                    insert(vals[k], k);
+                    bits &= bits - 1;
                 }
             }
             for &(v, k) in minima.iter().take(count.min(REFINED_MINIMA)) {
@@ -575,11 +643,8 @@ impl FastLeastSquares {
                 let ka = k.saturating_sub(1);
                 let kb = (k + 1).min(m - 1);
                 let (pa, pb) = (iv.grid[ka], iv.grid[kb]);
-                let n = self.n;
-                let at =
-                    |j: usize| derivatives_of(self.moments_of(wt, yt, &c_tab[j * n..(j + 1) * n]));
-                let (da, _) = at(ka);
-                let (db, _) = at(kb);
+                let at = |j: usize| slopes[j].at(yt);
+                let (da, db) = (at(ka), at(kb));
                 if !(da.is_finite() && db.is_finite()) {
                     return None;
                 }
@@ -785,38 +850,51 @@ impl FastLeastSquares {
     }
 }
 
-/// `RSS(p_k) = Y − S(p_k)² / C(p_k)` for every sample k, with `S(p_k) = Σ_i ỹ_i a[i m + k]`;
-/// the number of meshes as a constant where it is small, so that the sums over the meshes
-/// unroll and the samples run in vector lanes.
-fn sample_residuals(a: &[f64], ic: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
-    fn fixed<const N: usize>(a: &[f64], ic: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
+/// `flags[k] = 1` where sample k is a local minimum of `vals` (no neighbour lower; the ends
+/// compared with their one neighbour), else 0; `vals` has at least two samples.
+fn local_minima(vals: &[f64], flags: &mut [u8]) {
+    let m = vals.len();
+    flags[0] = u8::from(vals[0] <= vals[1]);
+    let (left, mid, right) = (&vals[..m - 2], &vals[1..m - 1], &vals[2..]);
+    let inner = &mut flags[1..m - 1];
+    for k in 0..inner.len().min(left.len()).min(mid.len()).min(right.len()) {
+        inner[k] = u8::from(mid[k] <= left[k]) & u8::from(mid[k] <= right[k]);
+    }
+    flags[m - 1] = u8::from(vals[m - 1] <= vals[m - 2]);
+}
+
+/// `RSS(p_k) = Y − T_k²` for every sample k, with `T_k = Σ_i ỹ_i b[i m + k]` (`b` holds
+/// `ω x^p / √C`); the number of meshes as a constant where it is small, so that the sums over
+/// the meshes unroll and the samples run in vector lanes.
+fn sample_residuals(b: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
+    fn fixed<const N: usize>(b: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
         let m = out.len();
         let mut y = [0.0_f64; N];
         y.copy_from_slice(&yt[..N]);
-        let rows: [&[f64]; N] = std::array::from_fn(|i| &a[i * m..(i + 1) * m]);
-        for (k, (o, c)) in out.iter_mut().zip(&ic[..m]).enumerate() {
-            let mut s = 0.0;
+        let rows: [&[f64]; N] = std::array::from_fn(|i| &b[i * m..(i + 1) * m]);
+        for (k, o) in out.iter_mut().enumerate() {
+            let mut t = 0.0;
             for i in 0..N {
-                s += y[i] * rows[i][k];
+                t += y[i] * rows[i][k];
             }
-            *o = yy - s * s * c;
+            *o = yy - t * t;
         }
     }
     match yt.len() {
-        4 => fixed::<4>(a, ic, yt, yy, out),
-        5 => fixed::<5>(a, ic, yt, yy, out),
-        6 => fixed::<6>(a, ic, yt, yy, out),
-        7 => fixed::<7>(a, ic, yt, yy, out),
-        8 => fixed::<8>(a, ic, yt, yy, out),
+        4 => fixed::<4>(b, yt, yy, out),
+        5 => fixed::<5>(b, yt, yy, out),
+        6 => fixed::<6>(b, yt, yy, out),
+        7 => fixed::<7>(b, yt, yy, out),
+        8 => fixed::<8>(b, yt, yy, out),
         _ => {
             let m = out.len();
             for (i, &y) in yt.iter().enumerate() {
-                for (v, x) in out.iter_mut().zip(&a[i * m..(i + 1) * m]) {
+                for (v, x) in out.iter_mut().zip(&b[i * m..(i + 1) * m]) {
                     *v += y * x;
                 }
             }
-            for (v, c) in out.iter_mut().zip(ic) {
-                *v = yy - *v * *v * c;
+            for v in out.iter_mut() {
+                *v = yy - *v * *v;
             }
         }
     }
