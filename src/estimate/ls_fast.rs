@@ -194,6 +194,9 @@ struct Interval {
     hi: f64,
     /// The sample orders, as the general estimator computes them.
     grid: Vec<f64>,
+    /// The columns `x_i^p` at `lo` and at `hi`, as [`FastLeastSquares::free_at`] forms them
+    /// (a minimum on an end of the interval is fitted there).
+    ends: [[f64; 16]; 2],
 }
 
 /// One weighting (unweighted or `w_i ∝ 1/h_i`) with its prepared fits.
@@ -263,6 +266,14 @@ impl Slope {
         let f = 2.0 * s1 * cc - s * (2.0 * c1);
         -s * f / (cc * cc)
     }
+}
+
+/// Buffers of one point's free-order search, reused by every weighting and interval.
+struct Scratch<'a> {
+    /// The samples' residual sums (at least as long as the longest interval's grid).
+    vals: &'a mut [f64],
+    /// Local-minimum flags, one byte per sample, with room to round up to a multiple of 8.
+    flags: &'a mut [u8],
 }
 
 /// A fit's numbers in normalised units.
@@ -341,7 +352,19 @@ impl FastLeastSquares {
                 let grid = (0..m)
                     .map(|k| lo + (hi - lo) * (k as f64) / ((m - 1) as f64))
                     .collect();
-                Interval { lo, hi, grid }
+                let column = |p: f64| {
+                    let mut c = [0.0_f64; 16];
+                    for (ci, li) in c.iter_mut().zip(&lnx) {
+                        *ci = (p * li).exp();
+                    }
+                    c
+                };
+                Interval {
+                    lo,
+                    hi,
+                    grid,
+                    ends: [column(lo), column(hi)],
+                }
             })
             .collect();
         let sample_c: Vec<Vec<f64>> = intervals
@@ -480,6 +503,7 @@ fn derivatives_of(mo: [f64; 6]) -> (f64, f64) {
 
 impl FastLeastSquares {
     /// The free-order fit at `p`, by its residuals.
+    #[cfg(test)]
     fn free_at(&self, wt: &Weighting, yt: &[f64], my: f64, p: f64) -> Option<Solved> {
         let mut col = [0.0_f64; 16];
         for (c, l) in col.iter_mut().zip(&self.lnx) {
@@ -573,7 +597,15 @@ impl FastLeastSquares {
     }
 
     /// The free-order search of one weighting; `None` when the fast search is in doubt.
-    fn free_fit(&self, wt: &Weighting, yt: &[f64], my: f64, yy: f64) -> Option<FreeOutcome> {
+    /// `scratch` holds the samples' residuals and local-minimum flags.
+    fn free_fit(
+        &self,
+        wt: &Weighting,
+        yt: &[f64],
+        my: f64,
+        yy: f64,
+        scratch: &mut Scratch<'_>,
+    ) -> Option<FreeOutcome> {
         let mut best: Option<FreeOutcome> = None;
         for ((iv, b_tab), slopes) in self
             .intervals
@@ -584,16 +616,8 @@ impl FastLeastSquares {
             let m = iv.grid.len();
             // RSS(p_k) = Y − S(p_k)² / C(p_k) = Y − T_k² with T_k = Σ_i ỹ_i b[i m + k] for
             // every sample at once (an unusable sample has b = 0: RSS = Y, the constant fit's,
-            // as in the general estimator); a small buffer on the stack for the usual ranges
-            // (zeroing 400 would cost more than the sums), the heap for very wide ones
-            let mut small = [0.0_f64; SMALL_SAMPLES];
-            let mut large = Vec::new();
-            let vals: &mut [f64] = if m <= SMALL_SAMPLES {
-                &mut small[..m]
-            } else {
-                large.resize(m, 0.0);
-                &mut large
-            };
+            // as in the general estimator)
+            let vals = &mut scratch.vals[..m];
             sample_residuals(b_tab, yt, yy, vals);
             let vals: &[f64] = vals;
             let val = |k: usize| vals[k];
@@ -616,20 +640,13 @@ impl FastLeastSquares {
             };
             // a sample is a local minimum when no neighbour is lower: the tests of every
             // sample first, without a branch (they run in vector lanes), then the few minima
-            // read from the flags eight at a time
-            let mut small_flags = [0u8; SMALL_SAMPLES];
-            let mut large_flags = Vec::new();
-            let flags: &mut [u8] = if m <= SMALL_SAMPLES {
-                &mut small_flags[..m]
-            } else {
-                large_flags.resize(m, 0);
-                &mut large_flags
-            };
-            local_minima(vals, flags);
-            for (c, chunk) in flags.chunks(8).enumerate() {
-                let mut word = [0u8; 8];
-                word[..chunk.len()].copy_from_slice(chunk);
-                let mut bits = u64::from_le_bytes(word);
+            // read from the flags eight at a time (the flags past m cleared)
+            let padded = m.div_ceil(8) * 8;
+            let flags = &mut scratch.flags[..padded];
+            local_minima(vals, &mut flags[..m]);
+            flags[m..].fill(0);
+            for (c, chunk) in flags.chunks_exact(8).enumerate() {
+                let mut bits = u64::from_le_bytes(chunk.try_into().unwrap_or([0; 8]));
                 while bits != 0 {
                     let k = c * 8 + (bits.trailing_zeros() / 8) as usize;
                     insert(vals[k], k);
@@ -665,9 +682,9 @@ impl FastLeastSquares {
                     let (p, c) = self.stationary(wt, yt, pa, pb, start);
                     (p, self.free_with(wt, yt, my, &c)?)
                 } else if k == 0 && da >= 0.0 && db > 0.0 {
-                    (iv.lo, self.free_at(wt, yt, my, iv.lo)?)
+                    (iv.lo, self.free_with(wt, yt, my, &iv.ends[0])?)
                 } else if k + 1 == m && db <= 0.0 && da < 0.0 {
-                    (iv.hi, self.free_at(wt, yt, my, iv.hi)?)
+                    (iv.hi, self.free_with(wt, yt, my, &iv.ends[1])?)
                 } else {
                     return None;
                 };
@@ -724,6 +741,30 @@ impl FastLeastSquares {
         }
         let y = &y[..n];
 
+        // The search's buffers: on the stack for the usual ranges (the default has 41 and
+        // 81 samples), on the heap for very wide ones.
+        let longest = self
+            .intervals
+            .iter()
+            .map(|iv| iv.grid.len())
+            .max()
+            .unwrap_or(0);
+        let mut small_vals = [0.0_f64; SMALL_SAMPLES];
+        let mut small_flags = [0u8; SMALL_SAMPLES + 8];
+        let (mut large_vals, mut large_flags) = (Vec::new(), Vec::new());
+        let mut scratch = if longest <= SMALL_SAMPLES {
+            Scratch {
+                vals: &mut small_vals,
+                flags: &mut small_flags,
+            }
+        } else {
+            large_vals.resize(longest, 0.0);
+            large_flags.resize(longest + 8, 0);
+            Scratch {
+                vals: &mut large_vals,
+                flags: &mut large_flags,
+            }
+        };
         // Per weighting: centred values, the free search, the fixed fits.
         #[derive(Clone, Copy)]
         struct Kept {
@@ -740,7 +781,7 @@ impl FastLeastSquares {
             }
             let yt = &yt[..n];
             let yy: f64 = wt.omega.iter().zip(yt).map(|(w, v)| w * v * v).sum();
-            let out = self.free_fit(wt, yt, my, yy)?;
+            let out = self.free_fit(wt, yt, my, yy, &mut scratch)?;
             free[wi] = Some((
                 Kept {
                     sigma: scale * self.sigma(out.solved.rss, 3),
@@ -850,6 +891,7 @@ impl FastLeastSquares {
     }
 }
 
+#[multiversion::multiversion(targets("x86_64+avx2", "x86_64+avx"))]
 /// `flags[k] = 1` where sample k is a local minimum of `vals` (no neighbour lower; the ends
 /// compared with their one neighbour), else 0; `vals` has at least two samples.
 fn local_minima(vals: &[f64], flags: &mut [u8]) {
@@ -866,6 +908,7 @@ fn local_minima(vals: &[f64], flags: &mut [u8]) {
 /// `RSS(p_k) = Y − T_k²` for every sample k, with `T_k = Σ_i ỹ_i b[i m + k]` (`b` holds
 /// `ω x^p / √C`); the number of meshes as a constant where it is small, so that the sums over
 /// the meshes unroll and the samples run in vector lanes.
+#[multiversion::multiversion(targets("x86_64+avx2", "x86_64+avx"))]
 fn sample_residuals(b: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
     fn fixed<const N: usize>(b: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
         let m = out.len();
