@@ -423,3 +423,138 @@ fn probe_files_take_comment_lines() {
     assert_eq!(c["classes"]["monotonic"], 50);
     assert!((c["mean_order"].as_f64().unwrap() - 1.5).abs() < 1e-9);
 }
+
+/// A legacy ASCII unstructured grid with point array `p` (any numbers, written as Rust prints
+/// them: `NaN`, `inf` included).
+fn legacy_grid(points: &[[f64; 3]], cells: &[(u8, Vec<u64>)], p: &[f64]) -> String {
+    let mut s =
+        String::from("# vtk DataFile Version 4.2\nhostile\nASCII\nDATASET UNSTRUCTURED_GRID\n");
+    s.push_str(&format!("POINTS {} double\n", points.len()));
+    for q in points {
+        s.push_str(&format!("{} {} {}\n", q[0], q[1], q[2]));
+    }
+    let size: usize = cells.iter().map(|c| c.1.len() + 1).sum();
+    s.push_str(&format!("CELLS {} {size}\n", cells.len()));
+    for (_, ids) in cells {
+        s.push_str(&ids.len().to_string());
+        for i in ids {
+            s.push_str(&format!(" {i}"));
+        }
+        s.push('\n');
+    }
+    s.push_str(&format!("CELL_TYPES {}\n", cells.len()));
+    for (t, _) in cells {
+        s.push_str(&format!("{t}\n"));
+    }
+    s.push_str(&format!(
+        "POINT_DATA {}\nSCALARS p double 1\nLOOKUP_TABLE default\n",
+        p.len()
+    ));
+    for v in p {
+        s.push_str(&format!("{v}\n"));
+    }
+    s
+}
+
+/// Numbers a study may meet at its worst: repeated values (repeated points, points on one
+/// line or one plane), huge and tiny magnitudes, and, when `finite` is false, non-finite
+/// values.
+fn hostile_number(finite: bool) -> proptest::strategy::BoxedStrategy<f64> {
+    use proptest::prelude::*;
+    let tame = prop_oneof![
+        8 => 0.0f64..1.0,
+        1 => Just(0.0),
+        1 => Just(0.5),
+        1 => prop::num::f64::NORMAL,
+        1 => Just(1e300),
+        1 => Just(1e-300),
+    ];
+    if finite {
+        tame.boxed()
+    } else {
+        prop_oneof![
+            6 => tame,
+            1 => Just(f64::NAN),
+            1 => Just(f64::INFINITY),
+        ]
+        .boxed()
+    }
+}
+
+/// A mesh of up to 12 points with triangles, quads, tetrahedra, lines and vertices on any of
+/// its points (degenerate cells included) and any values; one mesh in four may hold
+/// non-finite coordinates or values.
+fn hostile_mesh() -> impl proptest::strategy::Strategy<Value = String> {
+    use proptest::prelude::*;
+    (1usize..12, prop::bool::weighted(0.75)).prop_flat_map(|(np, finite)| {
+        let cell = (
+            prop::sample::select(vec![(1u8, 1usize), (3, 2), (5, 3), (9, 4), (10, 4)]),
+            proptest::collection::vec(0..np as u64, 4),
+        )
+            .prop_map(|((t, k), ids)| (t, ids[..k].to_vec()));
+        let z = prop_oneof![3 => Just(0.0), 1 => hostile_number(finite)];
+        (
+            proptest::collection::vec((hostile_number(finite), hostile_number(finite), z), np),
+            proptest::collection::vec(cell, 0..10),
+            proptest::collection::vec(hostile_number(finite), np),
+        )
+            .prop_map(|(pts, cells, p)| {
+                let pts: Vec<[f64; 3]> = pts.into_iter().map(|(x, y, z)| [x, y, z]).collect();
+                legacy_grid(&pts, &cells, &p)
+            })
+    })
+}
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(48))]
+
+    /// Hostile meshes (repeated, collinear or coplanar points, huge or non-finite coordinates
+    /// and values, degenerate and mixed cells) through the whole field pipeline (read,
+    /// transfer, estimate, write): the command finishes with a result (exit 0, the `.vtu`
+    /// written and readable, every point in one class) or refuses (exit 2, nothing written);
+    /// it never panics. Source of the expectation: the project's input rules
+    /// (docs/study-file.md, bad input).
+    #[test]
+    fn hostile_meshes_give_a_result_or_a_refusal(
+        meshes in proptest::collection::vec(hostile_mesh(), 3..=4),
+    ) {
+        let w = Workdir::new();
+        std::fs::create_dir_all(w.path().join("out")).unwrap();
+        let names = ["L1", "L2", "L3", "L4"];
+        let mut data = Vec::new();
+        for (n, text) in names.iter().zip(&meshes) {
+            w.write(&format!("{n}.vtk"), text);
+            data.push(format!("{n}: {n}.vtk"));
+        }
+        let f = format!(
+            "  section:\n    columns: [p]\n    data: {{{}}}\n    write: out/section.vtu\n",
+            data.join(", ")
+        );
+        w.write("s.yaml", &study(meshes.len(), &f));
+        let o = run_in(w.path(), &["assess", "s.yaml", "-f", "json"]);
+        let out: Vec<_> = std::fs::read_dir(w.path().join("out")).unwrap().collect();
+        match o.status.code() {
+            Some(2) => {
+                proptest::prop_assert!(out.is_empty(), "written after a refusal: {out:?}");
+                // the refusal names the mesh file at fault
+                let e = String::from_utf8_lossy(&o.stderr);
+                proptest::prop_assert!(names.iter().any(|n| e.contains(&format!("{n}.vtk"))), "{e}");
+            }
+            Some(0) | Some(1) => {
+                let v: serde_json::Value = serde_json::from_slice(&o.stdout)
+                    .map_err(|e| proptest::test_runner::TestCaseError::fail(format!("{e}: {}", show(&o))))?;
+                let field = &v["fields"][0];
+                let points = field["points"].as_u64().unwrap_or(u64::MAX);
+                let c = &field["columns"][0]["classes"];
+                let sum: u64 = ["monotonic", "oscillatory", "divergent", "no_change", "none"]
+                    .iter()
+                    .map(|k| c[k].as_u64().unwrap_or(0))
+                    .sum();
+                proptest::prop_assert_eq!(sum, points, "{}", show(&o));
+                let back = vtk::read_file(&w.path().join("out/section.vtu"));
+                proptest::prop_assert!(back.is_ok(), "{:?}", back.err());
+            }
+            _ => proptest::prop_assert!(false, "neither a result nor a refusal: {}", show(&o)),
+        }
+    }
+}

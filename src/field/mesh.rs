@@ -339,6 +339,22 @@ fn prepare_meshes(spec: &FieldSpec) -> Result<Prepared, FieldError> {
         }
         None => (Ids::Index, places(&finest, location), false),
     };
+    // Targets with a coordinate that is not a number are refused at their own file (the
+    // transfer would otherwise name the coarser file it was carrying).
+    if let Some(i) = targets
+        .iter()
+        .position(|t| t.iter().any(|v| !v.is_finite()))
+    {
+        let (file, what) = match &spec.probe_points {
+            Some(p) => (p.as_path(), "probe point"),
+            None if location == Location::Cell => (finest_path.as_path(), "cell centre"),
+            None => (finest_path.as_path(), "point"),
+        };
+        return Err(mesh_error(
+            file,
+            format!("{what} {i} has a coordinate that is not a finite number"),
+        ));
+    }
     let n = targets.len();
     let mut columns: Vec<ColumnValues> = spec
         .columns
