@@ -1215,9 +1215,12 @@ mod tests {
             };
             let (a, b) = (rss_at(pf), rss_at(pg));
             // the fast order is no worse than the general one, and both lie in one flat
-            // minimum (the general estimator's polishing accepts steps that raise the RSS by
-            // up to 1e-10 relative, so it stops anywhere in a minimum that flat)
-            let flat = a <= b * (1.0 + 1e-12) + 1e-30 && (a - b).abs() <= 1e-9 * a.max(b) + 1e-30;
+            // minimum: the general estimator's polishing accepts steps that raise the RSS by
+            // up to 1e-10 relative, and its Brent search stops within its own tolerance on the
+            // order, so in a minimum that flat its sum may stay a little above the stationary
+            // one (seen: 1.1e-9 relative, h ratios up to 12, proptest-regressions); the figures
+            // are then held to 1e-4 of the data's size below
+            let flat = a <= b * (1.0 + 1e-12) + 1e-30 && (a - b).abs() <= 1e-8 * a.max(b) + 1e-30;
             if !flat {
                 return Err(format!("order (rss {a:e} vs {b:e}): {}", ctx()));
             }
