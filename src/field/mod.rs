@@ -66,6 +66,7 @@
 
 mod align;
 mod measure;
+pub mod merge;
 mod mesh;
 mod parse;
 pub mod profile;
