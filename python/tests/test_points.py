@@ -226,3 +226,33 @@ def test_any_memory_layout_gives_the_same_figures():
             mb._setup(h, 2.0, mb.DEFAULT_RULE, 20.0, 0.0, True, (-4.0, 8.0)), other
         )
         assert same_bits(a.extrapolated, b[2]) and same_bits(a.uncertainty, b[3])
+
+
+def test_the_vectorised_call_releases_the_gil():
+    # Another Python thread runs while a long call is under way: it records times in the middle
+    # of the call, which it could not while the call held the GIL.
+    import threading
+    import time
+
+    h = [1.0, 1.5, 2.25, 3.375]
+    phi = manufactured(h, 200_000, seed=9)
+    stamps = []
+    stop = threading.Event()
+
+    def spin():
+        while not stop.is_set():
+            stamps.append(time.perf_counter())
+            time.sleep(0.0005)
+
+    t = threading.Thread(target=spin)
+    t.start()
+    try:
+        time.sleep(0.01)
+        t0 = time.perf_counter()
+        mb.estimate_points(h, phi)
+        t1 = time.perf_counter()
+    finally:
+        stop.set()
+        t.join()
+    lo, hi = t0 + 0.25 * (t1 - t0), t0 + 0.75 * (t1 - t0)
+    assert any(lo < s < hi for s in stamps), (t1 - t0, len(stamps))
