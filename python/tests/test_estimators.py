@@ -145,8 +145,9 @@ def test_history_reduction_of_a_manufactured_history():
     scipy_stats = pytest.importorskip("scipy.stats")
     t95 = scipy_stats.t.ppf(0.975, st["degrees_of_freedom"])
     assert st["expanded"] == pytest.approx(t95 * st["standard"], rel=1e-10)
-    # White noise of sigma 0.002: the standard uncertainty of the mean is about
-    # 0.002 / sqrt(samples) (analytic; within a factor 1.6 for 20 batch means).
+    # White noise of sigma 0.002: the standard uncertainty of the mean is 0.002 / sqrt(samples)
+    # (analytic); the factor 1.6 allows for the scatter of an estimate from 20 batch means
+    # (common practice, no source).
     expect = 0.002 / math.sqrt(len(steady))
     assert expect / 1.6 < st["standard"] < expect * 1.6
     assert r.to_dict()["result"]["steady"]["method"] == "mser5"
