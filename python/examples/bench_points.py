@@ -57,11 +57,22 @@ def write(folder, phi):
 
 
 def timed(f, runs):
-    out, ts = None, []
+    """Runs f `runs` times: its last result, the median wall time, every wall time, and the
+    median CPU time (user + system, this process's threads and its finished children)."""
+    import resource
+
+    def cpu():
+        s = resource.getrusage(resource.RUSAGE_SELF)
+        c = resource.getrusage(resource.RUSAGE_CHILDREN)
+        return s.ru_utime + s.ru_stime + c.ru_utime + c.ru_stime
+
+    out, ts, cs = None, [], []
     for _ in range(runs):
-        t = time.perf_counter()
+        t, c = time.perf_counter(), cpu()
         out = f()
         ts.append(time.perf_counter() - t)
+        cs.append(cpu() - c)
+    timed.cpu = statistics.median(cs)
     return out, statistics.median(ts), ts
 
 
@@ -82,9 +93,9 @@ def main():
         import json
         h = [m["size"] for m in json.loads(cli_json)["meshes"]]
         r, t_call, ts = timed(lambda: mb.estimate_points(h, phi), a.runs)
-        print(f"estimate_points, {a.points} points in memory: median {t_call:.3f} s  {['%.3f' % t for t in ts]}")
+        print(f"estimate_points, {a.points} points in memory: median {t_call:.3f} s  {['%.3f' % t for t in ts]}, CPU {timed.cpu:.3f} s")
         _, t_sum, ts = timed(lambda: mb.summarise_points(h, phi), a.runs)
-        print(f"summarise_points (estimate + summary): median {t_sum:.3f} s  {['%.3f' % t for t in ts]}")
+        print(f"summarise_points (estimate + summary): median {t_sum:.3f} s  {['%.3f' % t for t in ts]}, CPU {timed.cpu:.3f} s")
 
         def from_files():
             import pandas as pd
@@ -92,11 +103,11 @@ def main():
             return mb.estimate_points(h, np.column_stack(cols))
 
         _, t_files, ts = timed(from_files, a.runs)
-        print(f"pandas.read_csv x3 + estimate_points: median {t_files:.3f} s  {['%.3f' % t for t in ts]}")
+        print(f"pandas.read_csv x3 + estimate_points: median {t_files:.3f} s  {['%.3f' % t for t in ts]}, CPU {timed.cpu:.3f} s")
         for study in ("study.yaml", "study-write.yaml"):
             _, t_cli, ts = timed(lambda: subprocess.run([a.cli, "assess", str(d / study), "--format", "json"],
                                                          capture_output=True, check=True), a.runs)
-            print(f"meshbound assess {study} (whole process): median {t_cli:.3f} s  {['%.3f' % t for t in ts]}")
+            print(f"meshbound assess {study} (whole process): median {t_cli:.3f} s  {['%.3f' % t for t in ts]}, CPU {timed.cpu:.3f} s")
         rows = list(csv.reader(line for line in open(d / "out" / "points.csv") if not line.startswith("#")))
         col = {k: i for i, k in enumerate(rows[0])}
         ext = np.array([float(x[col["u_extrapolated"]]) if x[col["u_extrapolated"]] else np.nan for x in rows[1:]])
@@ -123,7 +134,7 @@ def main():
 
             (pts, merged), t_dask, ts = timed(run, a.runs)
         same_pts = np.array_equal(pts["extrapolated"].to_numpy().view(np.uint64), r.extrapolated.view(np.uint64))
-        print(f"dask: 8 partitions, 2 workers x 1 thread: median {t_dask:.3f} s  {['%.3f' % t for t in ts]}; "
+        print(f"dask: 8 partitions, 2 workers x 1 thread: median {t_dask:.3f} s  {['%.3f' % t for t in ts]}, client CPU {timed.cpu:.3f} s; "
               f"per-point identical {same_pts}; merged summary identical {merged == one}")
     print("load average:", open("/proc/loadavg").read().strip())
 
