@@ -90,9 +90,13 @@ def test_three_meshes_recover_manufactured_orders_and_values():
         assert r.uncertainty[i] == pytest.approx(e.uncertainty, rel=1e-12)
 
 
-def write_probe_study(folder, phi, ids):
+CELLS = (8.0e6, 2.4e6, 7.5e5, 2.2e5, 7.0e4)
+
+
+def write_probe_study(folder, phi, ids, noise_floor=None):
     folder.mkdir(parents=True, exist_ok=True)
-    names = ["L1", "L2", "L3"]
+    m = phi.shape[1]
+    names = [f"L{k + 1}" for k in range(m)]
     for k, name in enumerate(names):
         with open(folder / f"{name}.csv", "w", newline="") as f:
             w = csv.writer(f)
@@ -106,30 +110,34 @@ def write_probe_study(folder, phi, ids):
         "title: Manufactured probe field (test)\n"
         "dimension: 3\n"
         "meshes:\n"
-        "  - {name: L1, cells: 8.0e6}\n"
-        "  - {name: L2, cells: 2.4e6}\n"
-        "  - {name: L3, cells: 7.5e5}\n"
-        "fields:\n"
+        + "".join(f"  - {{name: {n}, cells: {c}}}\n" for n, c in zip(names, CELLS))
+        + "fields:\n"
         "  wall:\n"
         "    id: probe\n"
         "    columns: [u]\n"
-        "    data: {L1: L1.csv, L2: L2.csv, L3: L3.csv}\n"
+        "    data: {" + ", ".join(f"{n}: {n}.csv" for n in names) + "}\n"
         "    write: out/points.csv\n"
+        + ("" if noise_floor is None else f"    noise_floor: {noise_floor!r}\n")
     )
     return folder / "study.yaml"
 
 
-def test_vectorised_equals_the_command_lines_per_point_file(tmp_path):
-    # Source of the check: the Rust library's streamed field pipeline through the command line
-    # on the same probe files (manufactured data, written with repr: every double exactly).
-    n = 3000
-    h_rel = [1.0, (8.0e6 / 2.4e6) ** (1 / 3), (8.0e6 / 7.5e5) ** (1 / 3)]
-    phi = manufactured(h_rel, n, seed=11)
+@pytest.mark.parametrize(
+    "meshes,n,noise_floor",
+    [(3, 3000, None), (4, 800, None), (5, 500, None), (3, 1000, 1e-3)],
+)
+def test_vectorised_equals_the_command_lines_per_point_file(tmp_path, meshes, n, noise_floor):
+    # Source of the check: the Rust library's field pipelines through the command line on the
+    # same probe files (three meshes streamed, four or more in memory; manufactured data,
+    # written with repr: every double exactly).
+    h_rel = [(CELLS[0] / c) ** (1 / 3) for c in CELLS[:meshes]]
+    phi = manufactured(h_rel, n, seed=11 + meshes)
     ids = [f"q{i:05d}" for i in range(n)]
-    study = write_probe_study(tmp_path / "field", phi, ids)
+    study = write_probe_study(tmp_path / "field", phi, ids, noise_floor)
     cli = run_cli_json(study)
     h = [m["size"] for m in cli["meshes"]]
-    r = mb.estimate_points(h, phi)
+    settings = {} if noise_floor is None else {"noise_floor": noise_floor}
+    r = mb.estimate_points(h, phi, **settings)
     with open(tmp_path / "field" / "out" / "points.csv") as f:
         rows = [row for row in csv.reader(line for line in f if not line.startswith("#"))]
     header, rows = rows[0], rows[1:]
@@ -145,14 +153,16 @@ def test_vectorised_equals_the_command_lines_per_point_file(tmp_path):
         assert bits(num(row[col["u_order"]])) == bits(r.order[i]), i
         assert bits(num(row[col["u_uncertainty"]])) == bits(r.uncertainty[i]), i
     # The summary: the same counts, first ids and warnings as the command line's field summary.
-    s = mb.summarise_points(h, phi, name="u", ids=ids).to_dict()
+    s = mb.summarise_points(h, phi, name="u", ids=ids, **settings).to_dict()
     c = cli["fields"][0]["columns"][0]
     assert s["classes"] == c["classes"]
     assert s["order_points"] == c["order_points"]
     assert s["point_warnings"] == c["point_warnings"]
     assert bits(s["max_relative"]) == bits(c["max_relative"])
-    # Means: the streamed driver sums in its chunk order, the mergeable summary exactly; they
-    # agree to round-off.
+    if noise_floor is not None:
+        assert s["noise_floor"] == c["noise_floor"]
+    # Means: the command line's drivers sum in their chunk order, the mergeable summary
+    # exactly; they agree to round-off.
     assert s["mean_order"] == pytest.approx(c["mean_order"], rel=1e-12)
     assert s["mean_relative"] == pytest.approx(c["mean_relative"], rel=1e-12)
     assert s["median_order"] == pytest.approx(c["median_order"], rel=1e-12)
