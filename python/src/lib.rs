@@ -484,12 +484,12 @@ fn summarise_points(
                 for (j, p) in part.iter().enumerate() {
                     let i = c * chunk + j;
                     let pos = offset + i as u64;
-                    let id = match &ids {
-                        Some(v) => std::borrow::Cow::Borrowed(v[i].as_str()),
-                        None => std::borrow::Cow::Owned(pos.to_string()),
+                    let id = || match &ids {
+                        Some(v) => v[i].clone(),
+                        None => pos.to_string(),
                     };
                     let w = weights.as_ref().map_or(1.0, |w| w[i]);
-                    acc.add(pos, &id, values[i * fp.meshes()], p, w);
+                    acc.add_with(pos, id, values[i * fp.meshes()], p, w);
                 }
                 acc
             })

@@ -348,14 +348,15 @@ fn merge_listed(a: &mut Vec<Listed>, b: &[Listed]) {
     *a = all;
 }
 
-fn push_listed(v: &mut Vec<Listed>, pos: u64, id: &str) {
-    // Points arrive in any order within a partition; keep the smallest positions.
+fn push_listed(v: &mut Vec<Listed>, pos: u64, id: &mut dyn FnMut() -> String) {
+    // Points arrive in any order within a partition; keep the smallest positions. The id is
+    // made only for a point that is listed.
     if v.len() < LISTED || v.last().is_some_and(|(p, _)| pos < *p) {
         let at = v.partition_point(|(p, _)| *p < pos);
         if v.get(at).is_some_and(|(p, _)| *p == pos) {
             return;
         }
-        v.insert(at, (pos, listed_id(id.as_bytes())));
+        v.insert(at, (pos, listed_id(id().as_bytes())));
         v.truncate(LISTED);
     }
 }
@@ -431,6 +432,19 @@ impl ColumnPartial {
     /// id `id`, its finest value `phi1`, its estimate `p` and its weight (area, volume or 1;
     /// a weight that is not finite or negative counts as 0).
     pub fn add(&mut self, pos: u64, id: &str, phi1: f64, p: &FieldPoint, weight: f64) {
+        self.add_with(pos, || id.to_string(), phi1, p, weight);
+    }
+
+    /// [`ColumnPartial::add`] with the id made on demand: `id` is called only when the point
+    /// is listed among the first of a warning (so that millions of points need no id text).
+    pub fn add_with(
+        &mut self,
+        pos: u64,
+        mut id: impl FnMut() -> String,
+        phi1: f64,
+        p: &FieldPoint,
+        weight: f64,
+    ) {
         self.points += 1;
         let w = if weight.is_finite() && weight > 0.0 {
             weight
@@ -440,7 +454,7 @@ impl ColumnPartial {
         self.weight[class_code(p.convergence) as usize].add(w);
         let Some(convergence) = p.convergence else {
             self.classes.none += 1;
-            push_listed(&mut self.missing_at, pos, id);
+            push_listed(&mut self.missing_at, pos, &mut id);
             return;
         };
         match convergence {
@@ -461,7 +475,7 @@ impl ColumnPartial {
             rest &= rest - 1;
             if k < POINT_CODES.len() {
                 self.code_n[k] += 1;
-                push_listed(&mut self.code_at[k], pos, id);
+                push_listed(&mut self.code_at[k], pos, &mut id);
             }
         }
         if let Some(order) = p.order.filter(|_| p.codes & C_ND == 0) {
