@@ -66,6 +66,7 @@
 
 mod align;
 mod measure;
+pub mod merge;
 mod mesh;
 mod parse;
 pub mod profile;
@@ -450,8 +451,11 @@ pub(crate) fn assess_any(
     settings: &ThreeGridSettings,
     sink: Option<Box<dyn PointSink>>,
 ) -> Result<FieldSummary, FieldError> {
+    // The streamed path makes the plain per-point estimate; a global order or a noise floor
+    // needs the estimate with every option, which the in-memory path makes.
+    let plain = spec.estimate.order == OrderBasis::PerPoint && spec.estimate.noise_floor <= 0.0;
     match h {
-        [a, b, c] if !spec.files.iter().any(|f| is_vtk(f)) => {
+        [a, b, c] if plain && !spec.files.iter().any(|f| is_vtk(f)) => {
             assess_field(spec, [*a, *b, *c], settings, sink)
         }
         _ => mesh::assess_in_memory(spec, h, settings, sink),
@@ -746,6 +750,39 @@ mod tests {
                 p
             })
             .collect()
+    }
+
+    #[test]
+    fn three_probe_files_keep_the_noise_floor_and_the_global_order() {
+        // Manufactured: probe `a` follows φ = 1 + 0.1 h² exactly (order 2, analytic); probe `b`
+        // has the same value on every mesh. With a noise floor f, `b` is no_change with U = f
+        // (docs/method.md §15); the summary reports the floor and the global order asked for.
+        let dir = tempfile::tempdir().unwrap();
+        let a = H.map(|x| 1.0 + 0.1 * x * x);
+        let rows = vec![("a".to_string(), a), ("b".to_string(), [2.0; 3])];
+        let files = write_meshes(dir.path(), "id,cp", &rows);
+        let mut s = spec(files, None);
+        s.estimate.noise_floor = 1e-3;
+        let out = assess_any(&s, &H, &ThreeGridSettings::default(), None).unwrap();
+        let floor = out.columns[0]
+            .noise_floor
+            .as_ref()
+            .expect("the floor is reported");
+        assert_eq!((floor.within, floor.partly_within), (1, 0));
+        s.estimate.noise_floor = 0.0;
+        s.estimate.order = OrderBasis::Average;
+        let out = assess_any(&s, &H, &ThreeGridSettings::default(), None).unwrap();
+        let g = out.columns[0]
+            .global_order
+            .as_ref()
+            .expect("the global order is reported");
+        assert_relative_eq!(g.order.unwrap(), 2.0, max_relative = 1e-9);
+        // Without options the streamed path answers (no `setup` in its summary).
+        s.estimate.order = OrderBasis::PerPoint;
+        assert!(assess_any(&s, &H, &ThreeGridSettings::default(), None)
+            .unwrap()
+            .setup
+            .is_none());
     }
 
     fn spec(files: Vec<PathBuf>, write: Option<PathBuf>) -> FieldSpec {

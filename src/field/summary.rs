@@ -539,7 +539,7 @@ impl FieldSummary {
 /// cut and end in `…`, as in the field's error messages), control characters shown as `�`. An
 /// id can be as long as a record (1 MiB): only its first bytes are read, so that a hostile file
 /// cannot make the summary hold large ids.
-fn listed_id(id: &[u8]) -> String {
+pub(super) fn listed_id(id: &[u8]) -> String {
     let head = &id[..id.len().min(256)];
     super::parse::shown(String::from_utf8_lossy(head).trim().as_bytes())
         .chars()
