@@ -837,32 +837,18 @@ impl FastLeastSquares {
             smallest(&[first, second, first_second])
         };
         let sigma = sel.sigma;
-        let scatter_high = sigma >= data_range;
-        let fs = if (0.5..2.1).contains(&p) && !scatter_high {
-            1.25
-        } else {
-            3.0
-        };
         let eps = (scale * sel.solved.err1).abs();
         // the residual on the finest mesh: y1 = 0, fit(1) = φ0 + err1
         let resid = (scale * (sel.solved.phi0 + sel.solved.err1)).abs();
-        let mut u = if scatter_high {
-            3.0 * (sigma / data_range) * (eps + sigma + resid)
-        } else {
-            fs * eps + sigma + resid
-        };
-        let s = &self.settings;
-        let (floor_order, floor_from) = if s.formal_order < FLOOR_ORDER {
-            (s.formal_order, FORMAL_FLOOR_FROM_ORDER)
-        } else {
-            (FLOOR_ORDER, FLOOR_FROM_ORDER)
-        };
-        let mut floor_governs = false;
-        if s.guard && p >= floor_from {
-            let floor = fs * floor_term(self.r21, (phi[1] - phi[0]).abs(), floor_order);
-            floor_governs = floor > u;
-            u = u.max(floor);
-        }
+        let (u, scatter_high, floor_governs) = stated_uncertainty(
+            &self.settings,
+            self.r21,
+            phi,
+            p,
+            Scatter { sigma, data_range },
+            eps,
+            resid,
+        );
         let convergence = if pattern.alternating {
             Convergence::Oscillatory
         } else if p > 0.0 {
@@ -941,6 +927,53 @@ fn sample_residuals(b: &[f64], yt: &[f64], yy: f64, out: &mut [f64]) {
             }
         }
     }
+}
+
+/// σ of a selected fit and the data range Δφ it is judged against.
+#[derive(Debug, Clone, Copy)]
+struct Scatter {
+    sigma: f64,
+    data_range: f64,
+}
+
+/// U of the finest mesh as the least-squares procedure states it for a fit of order `p` with
+/// error `eps` at the finest size and residual `resid` there: `Fs = 1.25` when
+/// `0.5 ≤ p < 2.1` and `σ < Δφ`, else 3; `U = Fs |ε1| + σ + |resid|`, or
+/// `3 (σ/Δφ)(|ε1| + σ + |resid|)` when `σ ≥ Δφ`; then the order-2 or formal-order floor as
+/// the settings say. Returns (U, σ ≥ Δφ, the floor governs).
+fn stated_uncertainty(
+    settings: &LsSettings,
+    r21: f64,
+    phi: &[f64],
+    p: f64,
+    scatter: Scatter,
+    eps: f64,
+    resid: f64,
+) -> (f64, bool, bool) {
+    let Scatter { sigma, data_range } = scatter;
+    let scatter_high = sigma >= data_range;
+    let fs = if (0.5..2.1).contains(&p) && !scatter_high {
+        1.25
+    } else {
+        3.0
+    };
+    let mut u = if scatter_high {
+        3.0 * (sigma / data_range) * (eps + sigma + resid)
+    } else {
+        fs * eps + sigma + resid
+    };
+    let (floor_order, floor_from) = if settings.formal_order < FLOOR_ORDER {
+        (settings.formal_order, FORMAL_FLOOR_FROM_ORDER)
+    } else {
+        (FLOOR_ORDER, FLOOR_FROM_ORDER)
+    };
+    let mut floor_governs = false;
+    if settings.guard && p >= floor_from {
+        let floor = fs * floor_term(r21, (phi[1] - phi[0]).abs(), floor_order);
+        floor_governs = floor > u;
+        u = u.max(floor);
+    }
+    (u, scatter_high, floor_governs)
 }
 
 /// `|φ2 − φ1| / (r^q − 1)`, the order floor's Richardson term of the finest pair, with
@@ -1108,31 +1141,17 @@ impl FixedOrderLs {
         }
         let (sigma, phi0, err1) = best?;
         let p = self.p;
-        let scatter_high = sigma >= data_range;
-        let fs = if (0.5..2.1).contains(&p) && !scatter_high {
-            1.25
-        } else {
-            3.0
-        };
         let eps = err1.abs();
         let resid = (phi0 + err1 - phi_ref).abs();
-        let mut u = if scatter_high {
-            3.0 * (sigma / data_range) * (eps + sigma + resid)
-        } else {
-            fs * eps + sigma + resid
-        };
-        let s = &self.settings;
-        let (floor_order, floor_from) = if s.formal_order < FLOOR_ORDER {
-            (s.formal_order, FORMAL_FLOOR_FROM_ORDER)
-        } else {
-            (FLOOR_ORDER, FLOOR_FROM_ORDER)
-        };
-        let mut floor_governs = false;
-        if s.guard && p >= floor_from {
-            let floor = fs * floor_term(self.r21, (phi[1] - phi[0]).abs(), floor_order);
-            floor_governs = floor > u;
-            u = u.max(floor);
-        }
+        let (u, scatter_high, floor_governs) = stated_uncertainty(
+            &self.settings,
+            self.r21,
+            phi,
+            p,
+            Scatter { sigma, data_range },
+            eps,
+            resid,
+        );
         (u.is_finite() && phi0.is_finite()).then_some(FixedOrderPoint {
             extrapolated: phi0,
             uncertainty: u,
