@@ -31,14 +31,14 @@ use std::collections::BTreeMap;
 use serde::{Deserialize, Serialize};
 
 use super::summary::{
-    listed_id, ClassCounts, ClassShares, ColumnSummary, NoiseFloorFigures, PointChecks,
-    FIELD_CODES, ORDER_BINS,
+    listed_id, median_by_rank, point_warnings_of, ClassCounts, ClassShares, ColumnSummary,
+    NoiseFloorFigures, PointChecks, FIELD_CODES, ORDER_BINS,
 };
 use crate::estimate::point::{PointBasis, PointEstimator, PointSettings};
 use crate::estimate::three_grid::Governing;
 use crate::estimate::three_grid_fast::FastThreeGrid;
 use crate::estimate::{Convergence, EstimateError};
-use crate::point_warnings::{PointWarning, LISTED};
+use crate::point_warnings::LISTED;
 
 /// The per-point warning codes of [`FieldPoint::codes`]: bit `k` stands for `POINT_CODES[k]`;
 /// the first ones are [`FIELD_CODES`], then the two codes of the noise floor.
@@ -554,17 +554,7 @@ impl ColumnPartial {
     /// weighted by the points' weights and the noise-floor figures when the estimate has one.
     pub fn finish(&self) -> ColumnSummary {
         let finite = |v: f64| v.is_finite().then_some(v);
-        let median = if self.order_n == 0 {
-            None
-        } else {
-            match (
-                self.value_at_rank((self.order_n - 1) / 2),
-                self.value_at_rank(self.order_n / 2),
-            ) {
-                (Some(a), Some(b)) => finite(0.5 * (a + b)),
-                _ => None,
-            }
-        };
+        let median = median_by_rank(self.order_n, |r| self.value_at_rank(r));
         let mean = |s: &ExactSum, n: u64| {
             if n == 0 {
                 None
@@ -605,17 +595,7 @@ impl ColumnPartial {
             overflowed: self.overflowed,
             formal_order_points: self.formal,
             oscillation_range_points: self.osc_range,
-            point_warnings: FIELD_CODES
-                .iter()
-                .enumerate()
-                .filter(|(k, _)| self.code_n[*k] > 0)
-                .map(|(k, code)| PointWarning {
-                    code: code.to_string(),
-                    points: self.code_n[k],
-                    at: listed(&self.code_at[k]),
-                    more: self.code_n[k] - self.code_at[k].len() as u64,
-                })
-                .collect(),
+            point_warnings: point_warnings_of(&self.code_n, |k| listed(&self.code_at[k])),
             missing_at: listed(&self.missing_at),
             class_shares,
             transfer: None,

@@ -197,6 +197,40 @@ impl PointChecks {
     }
 }
 
+/// The median of `n` values held in rank order by `at_rank` (0-based): the middle value, or
+/// the mean of the two middle ones; `None` without values or where it is not finite.
+pub(super) fn median_by_rank(n: u64, at_rank: impl Fn(u64) -> Option<f64>) -> Option<f64> {
+    if n == 0 {
+        return None;
+    }
+    match (at_rank((n - 1) / 2), at_rank(n / 2)) {
+        (Some(a), Some(b)) => Some(0.5 * (a + b)).filter(|v| v.is_finite()),
+        _ => None,
+    }
+}
+
+/// The point warnings of a column from the count of each [`FIELD_CODES`] code and the first
+/// ids listed for it (`listed(k)` for code k; codes no point raised are left out).
+pub(super) fn point_warnings_of(
+    counts: &[u64],
+    listed: impl Fn(usize) -> Vec<String>,
+) -> Vec<PointWarning<String>> {
+    FIELD_CODES
+        .iter()
+        .enumerate()
+        .filter(|(k, _)| counts.get(*k).is_some_and(|n| *n > 0))
+        .map(|(k, code)| {
+            let at = listed(k);
+            PointWarning {
+                code: code.to_string(),
+                points: counts[k],
+                more: counts[k] - at.len() as u64,
+                at,
+            }
+        })
+        .collect()
+}
+
 /// One point's figures as the summary takes them (any estimator).
 #[derive(Debug, Clone, Copy)]
 pub(super) struct Figures {
@@ -700,16 +734,7 @@ impl ColumnAcc {
 
     pub(super) fn finish(&self, name: &str) -> ColumnSummary {
         let finite = |v: f64| if v.is_finite() { Some(v) } else { None };
-        let median = if self.order_n == 0 {
-            None
-        } else {
-            let lo = self.value_at_rank((self.order_n - 1) / 2);
-            let hi = self.value_at_rank(self.order_n / 2);
-            match (lo, hi) {
-                (Some(a), Some(b)) => finite(0.5 * (a + b)),
-                _ => None,
-            }
-        };
+        let median = median_by_rank(self.order_n, |r| self.value_at_rank(r));
         ColumnSummary {
             name: name.to_string(),
             classes: self.classes,
@@ -733,17 +758,7 @@ impl ColumnAcc {
             overflowed: self.overflowed,
             formal_order_points: self.formal,
             oscillation_range_points: self.osc_range,
-            point_warnings: FIELD_CODES
-                .iter()
-                .enumerate()
-                .filter(|(k, _)| self.code_n[*k] > 0)
-                .map(|(k, code)| PointWarning {
-                    code: code.to_string(),
-                    points: self.code_n[k],
-                    at: self.code_at[k].clone(),
-                    more: self.code_n[k] - self.code_at[k].len() as u64,
-                })
-                .collect(),
+            point_warnings: point_warnings_of(&self.code_n, |k| self.code_at[k].clone()),
             missing_at: self.missing_at.clone(),
             class_shares: None,
             transfer: None,
