@@ -94,6 +94,26 @@ fn warnings_json(w: &[meshbound::warning::Warning]) -> Vec<(String, String)> {
         .collect()
 }
 
+/// `{"estimate": …, "warnings": [[code, message], …]}`, the form the Python side reads.
+fn estimate_json<T: Serialize>(
+    py: Python<'_>,
+    estimate: &T,
+    warnings: &[meshbound::warning::Warning],
+) -> PyResult<String> {
+    #[derive(Serialize)]
+    struct Out<'a, T> {
+        estimate: &'a T,
+        warnings: Vec<(String, String)>,
+    }
+    to_json(
+        py,
+        &Out {
+            estimate,
+            warnings: warnings_json(warnings),
+        },
+    )
+}
+
 /// The three-mesh estimate (Celik et al. 2008) and every published rule on the same meshes.
 #[pyfunction]
 #[pyo3(signature = (h, phi, formal_order, rule, order_max))]
@@ -141,18 +161,7 @@ fn three_mesh(
 #[pyo3(signature = (h, phi, formal_order))]
 fn two_mesh_gci(py: Python<'_>, h: [f64; 2], phi: [f64; 2], formal_order: f64) -> PyResult<String> {
     let r = rules::two_mesh_gci(h, phi, formal_order).map_err(|e| estimate_error(py, e))?;
-    #[derive(Serialize)]
-    struct Out<'a> {
-        estimate: &'a rules::RuleEstimate,
-        warnings: Vec<(String, String)>,
-    }
-    to_json(
-        py,
-        &Out {
-            estimate: &r,
-            warnings: warnings_json(&r.warnings),
-        },
-    )
+    estimate_json(py, &r, &r.warnings)
 }
 
 fn ls_settings(
@@ -195,18 +204,7 @@ fn least_squares_estimate(
     let r = py
         .detach(|| least_squares::estimate(&names, &h, &phi, &settings))
         .map_err(|e| estimate_error(py, e))?;
-    #[derive(Serialize)]
-    struct Out<'a> {
-        estimate: &'a least_squares::LeastSquares,
-        warnings: Vec<(String, String)>,
-    }
-    to_json(
-        py,
-        &Out {
-            estimate: &r,
-            warnings: warnings_json(&r.warnings),
-        },
-    )
+    estimate_json(py, &r, &r.warnings)
 }
 
 /// The settings of the per-point estimate.
