@@ -104,6 +104,18 @@ pub struct FieldPoint {
     pub codes: u16,
 }
 
+impl FieldPoint {
+    /// No estimate: a value missing on some mesh.
+    pub const MISSING: FieldPoint = FieldPoint {
+        convergence: None,
+        order: None,
+        extrapolated: None,
+        uncertainty: None,
+        basis: None,
+        codes: 0,
+    };
+}
+
 /// The per-point estimate of a field prepared for fixed sizes: the same estimate and warning
 /// bits as the in-memory field driver.
 #[derive(Debug, Clone)]
@@ -176,14 +188,7 @@ impl FieldPoints {
     /// (a value marked missing) gives class `None` and no figure.
     pub fn estimate(&self, phi: &[f64]) -> FieldPoint {
         if phi.len() != self.meshes || phi.iter().any(|v| !v.is_finite()) {
-            return FieldPoint {
-                convergence: None,
-                order: None,
-                extrapolated: None,
-                uncertainty: None,
-                basis: None,
-                codes: 0,
-            };
+            return FieldPoint::MISSING;
         }
         match (&self.three, &self.many) {
             (Some(fast), _) => {
@@ -217,14 +222,7 @@ impl FieldPoints {
                 }
             }
             // `new` always prepares one of the two.
-            (None, None) => FieldPoint {
-                convergence: None,
-                order: None,
-                extrapolated: None,
-                uncertainty: None,
-                basis: None,
-                codes: 0,
-            },
+            (None, None) => FieldPoint::MISSING,
         }
     }
 
@@ -457,13 +455,7 @@ impl ColumnPartial {
             push_listed(&mut self.missing_at, pos, &mut id);
             return;
         };
-        match convergence {
-            Convergence::Monotonic => self.classes.monotonic += 1,
-            Convergence::Oscillatory => self.classes.oscillatory += 1,
-            Convergence::Divergent => self.classes.divergent += 1,
-            Convergence::NoChange => self.classes.no_change += 1,
-            Convergence::Undetermined => {}
-        }
+        self.classes.add(convergence);
         match p.basis {
             Some(PointBasis::ThreeMesh(Governing::FormalOrder)) => self.formal += 1,
             Some(PointBasis::ThreeMesh(Governing::OscillationRange)) => self.osc_range += 1,

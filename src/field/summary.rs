@@ -321,6 +321,20 @@ pub struct ClassCounts {
     pub none: u64,
 }
 
+impl ClassCounts {
+    /// Counts one point of class `c` (three meshes or more always give a class:
+    /// `Undetermined` is not counted).
+    pub(super) fn add(&mut self, c: Convergence) {
+        match c {
+            Convergence::Monotonic => self.monotonic += 1,
+            Convergence::Oscillatory => self.oscillatory += 1,
+            Convergence::Divergent => self.divergent += 1,
+            Convergence::NoChange => self.no_change += 1,
+            Convergence::Undetermined => {}
+        }
+    }
+}
+
 fn is_zero(n: &u64) -> bool {
     *n == 0
 }
@@ -632,14 +646,7 @@ impl ColumnAcc {
 
     /// Adds one point's figures (any estimator), `phi1` the finest mesh's value.
     pub(super) fn add_figures(&mut self, f: Figures, phi1: f64, id: &[u8]) {
-        match f.convergence {
-            Convergence::Monotonic => self.classes.monotonic += 1,
-            Convergence::Oscillatory => self.classes.oscillatory += 1,
-            Convergence::Divergent => self.classes.divergent += 1,
-            Convergence::NoChange => self.classes.no_change += 1,
-            // Three meshes or more always give a class.
-            Convergence::Undetermined => {}
-        }
+        self.classes.add(f.convergence);
         if f.formal {
             self.formal += 1;
         }
