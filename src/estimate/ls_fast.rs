@@ -1213,8 +1213,15 @@ mod tests {
             (None, None) => true,
             _ => false,
         };
-        if !order_ok {
-            // Is the minimum flat to rounding? Residual sums at the general order.
+        // Figures within 1e-9 of the data's size at orders within 1e-9: the same answer.
+        let figures_ok = f.convergence == g.convergence
+            && close(f.extrapolated, gx, 1e-9 * size)
+            && close(f.uncertainty, gu, 1e-9 * size);
+        if !order_ok || !figures_ok {
+            // Is the minimum flat to rounding? Residual sums at the general order. (Orders
+            // within 1e-9 can still move U by more than 1e-9 of the data's size where U is
+            // steep in the order, e.g. 3 (σ/Δφ)(…) when σ ≥ Δφ: seen, orders 7.6e-10 apart
+            // and U 1.1e-9 of the size apart, proptest-regressions.)
             let (Some(pf), Some(pg)) = (f.order, g.order) else {
                 return Err(format!("order: {}", ctx()));
             };
@@ -1252,15 +1259,6 @@ mod tests {
                 return Err(format!("flat minimum, figures: {}", ctx()));
             }
             return Ok(Agreement::FlatMinimum);
-        }
-        if f.convergence != g.convergence {
-            return Err(format!("class: {}", ctx()));
-        }
-        if !close(f.extrapolated, gx, 1e-9 * size) {
-            return Err(format!("extrapolated: {}", ctx()));
-        }
-        if !close(f.uncertainty, gu, 1e-9 * size) {
-            return Err(format!("uncertainty: {}", ctx()));
         }
         Ok(Agreement::Same)
     }
