@@ -24,6 +24,23 @@ pub trait PointSink: Send {
     fn finish(self: Box<Self>) -> io::Result<()>;
 }
 
+/// A [`PointSink`] as a [`std::io::Write`], for formatters that stream into any writer (wrap
+/// it in a `BufWriter` for small writes).
+pub struct SinkWriter<'a>(pub &'a mut dyn PointSink);
+
+impl io::Write for SinkWriter<'_> {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        self.0.write_all(buf)?;
+        Ok(buf.len())
+    }
+    fn write_all(&mut self, buf: &[u8]) -> io::Result<()> {
+        self.0.write_all(buf)
+    }
+    fn flush(&mut self) -> io::Result<()> {
+        Ok(())
+    }
+}
+
 /// Hands out a sink for each file a study asks to write.
 pub trait Outputs: Sync {
     /// A sink for the file the study names `target` (already checked by the study reader);

@@ -1021,15 +1021,18 @@ fn csv_bytes(spec: &FieldSpec, p: &Prepared, points: &[Vec<PointOut>]) -> Vec<u8
     buf
 }
 
-fn vtu_bytes(
+/// Writes the `.vtu` of a field's results on the output mesh into `out`: the mesh as read
+/// (never copied) with the result arrays of every column.
+fn write_vtu_to(
+    out: impl std::io::Write,
     spec: &FieldSpec,
     mesh: &Mesh,
     location: Location,
     points: &[Vec<PointOut>],
-) -> std::io::Result<Vec<u8>> {
-    let mut mesh = mesh.clone();
+) -> std::io::Result<()> {
+    let mut arrays = Vec::with_capacity(7 * spec.columns.len());
     for (c, col) in spec.columns.iter().zip(points) {
-        let arrays: [(&str, Vec<f64>); 7] = [
+        let values: [(&str, Vec<f64>); 7] = [
             ("", col.iter().map(|o| o.phi1).collect()),
             (
                 "_extrapolated",
@@ -1056,8 +1059,8 @@ fn vtu_bytes(
                 col.iter().map(|o| o.transfer_error).collect(),
             ),
         ];
-        for (suffix, values) in arrays {
-            mesh.arrays.push(vtk::Array {
+        for (suffix, values) in values {
+            arrays.push(vtk::Array {
                 name: format!("{c}{suffix}"),
                 location,
                 components: 1,
@@ -1065,9 +1068,7 @@ fn vtu_bytes(
             });
         }
     }
-    let mut out = Vec::new();
-    vtk::write_vtu(&mut out, &mesh, vtk::WriteOptions::default())?;
-    Ok(out)
+    vtk::write_vtu_with(out, mesh, &arrays, vtk::WriteOptions::default())
 }
 
 /// Assesses a field held in memory: VTK files on every mesh (`spec.files`, finest first, sizes
@@ -1113,18 +1114,25 @@ pub(crate) fn assess_in_memory(
     };
     let written = match (sink, &spec.write) {
         (Some(mut sink), Some(target)) => {
-            let bytes = match (&p.out_mesh, is_vtu(target)) {
+            match (&p.out_mesh, is_vtu(target)) {
                 (Some((mesh, loc)), true) => {
-                    vtu_bytes(spec, mesh, *loc, &points).map_err(write_err)?
+                    // streamed: the file's bytes are never all in memory
+                    let mut w = std::io::BufWriter::with_capacity(
+                        1 << 18,
+                        crate::sink::SinkWriter(&mut *sink),
+                    );
+                    write_vtu_to(&mut w, spec, mesh, *loc, &points).map_err(write_err)?;
+                    std::io::Write::flush(&mut w).map_err(write_err)?;
                 }
                 (None, true) => {
                     return Err(spec_err(
                         "a `.vtu` output needs VTK data (probe files have no mesh)".into(),
                     ))
                 }
-                _ => csv_bytes(spec, &p, &points),
-            };
-            sink.write_all(&bytes).map_err(write_err)?;
+                _ => sink
+                    .write_all(&csv_bytes(spec, &p, &points))
+                    .map_err(write_err)?,
+            }
             sink.finish().map_err(write_err)?;
             Some(target.display().to_string())
         }

@@ -40,7 +40,7 @@ use std::fmt;
 use std::io::Read;
 use std::path::Path;
 
-pub use write::{write_vtu, Encoding, WriteOptions};
+pub use write::{write_vtu, write_vtu_with, Encoding, WriteOptions};
 
 /// Where an array's values sit.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -220,21 +220,24 @@ impl Mesh {
                 "connectivity entry {i}: point index {p} but the mesh has {n} points"
             ));
         }
-        for a in &self.arrays {
-            let tuples = match a.location {
-                Location::Point => self.points.len(),
-                Location::Cell => self.offsets.len(),
-            };
-            if a.components == 0 || Some(a.values.len()) != tuples.checked_mul(a.components) {
-                return Err(format!(
-                    "{} array \"{}\": {} values for {tuples} {}s of {} component(s)",
-                    a.location,
-                    a.name,
-                    a.values.len(),
-                    a.location,
-                    a.components
-                ));
-            }
+        self.arrays.iter().try_for_each(|a| self.check_array(a))
+    }
+
+    /// Checks that `a` has one tuple per point or per cell of this mesh.
+    pub fn check_array(&self, a: &Array) -> Result<(), String> {
+        let tuples = match a.location {
+            Location::Point => self.points.len(),
+            Location::Cell => self.offsets.len(),
+        };
+        if a.components == 0 || Some(a.values.len()) != tuples.checked_mul(a.components) {
+            return Err(format!(
+                "{} array \"{}\": {} values for {tuples} {}s of {} component(s)",
+                a.location,
+                a.name,
+                a.values.len(),
+                a.location,
+                a.components
+            ));
         }
         Ok(())
     }
