@@ -28,8 +28,10 @@
 //!
 //! Write ([`write_vtu`]): an XML unstructured grid into any `std::io::Write` — appended raw or
 //! inline base64, optionally zlib-compressed; points and arrays as `Float64`, connectivity and
-//! offsets as `Int64`, types as `UInt8`, so that what is read back is equal bit for bit. Writing
-//! atomically (a temporary and a rename) is the caller's job.
+//! offsets as `Int64`, types as `UInt8`, so that what is read back is equal bit for bit. The
+//! bytes are streamed into the writer block by block (only compressed arrays are held, since
+//! the header gives their sizes); [`write_vtu_with`] adds arrays to a mesh without copying it.
+//! Writing atomically (a temporary and a rename) is the caller's job.
 
 mod bytes;
 mod legacy;
