@@ -662,7 +662,7 @@ impl<'a> Table<'a> {
         find(&self.header, col)
     }
 
-    /// How many header names answer to a name (see [`matches`]).
+    /// How many header names answer to a name (see [`matches()`]).
     pub fn matches(&self, name: &str) -> usize {
         matches(&self.header, name)
     }

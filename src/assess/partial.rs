@@ -5,7 +5,7 @@
 //!
 //! A result that could not be computed keeps its place in the [`super::Assessment`] with no
 //! figure and a [`NotComputed`]: the stable warning code and a short reason. The exporters
-//! only format it ("not computed: <reason>"); `gate` fails every limit on it.
+//! only format it (`not computed: <reason>`); `gate` fails every limit on it.
 
 use super::{QuantityResult, Role};
 use crate::warning::Warning;
@@ -32,7 +32,7 @@ pub const ESTIMATE_FAILED: &str = "estimate_failed";
 pub struct NotComputed {
     /// Stable snake_case code, the same as the warning's.
     pub code: String,
-    /// A short reason, shown as "not computed: <reason>".
+    /// A short reason, shown as `not computed: <reason>`.
     pub reason: String,
 }
 

@@ -1,4 +1,4 @@
-//! The least-squares estimate (Eça & Hoekstra 2014, as [`least_squares::estimate`] implements
+//! The least-squares estimate (Eça & Hoekstra 2014, as [`least_squares::estimate`](crate::estimate::least_squares::estimate) implements
 //! it) specialised to fixed mesh sizes, for the many points of a field.
 //!
 //! Everything that depends on the sizes alone is computed once in [`FastLeastSquares::new`]:

@@ -9,7 +9,7 @@
 //!    (per sweep's band), `comparison_warning` (per comparison along a sweep), `field_warning`
 //!    (per field column), in that order;
 //! 4. one `not_computed` row per band or comparison that could not be formed (`sweep`: the
-//!    sweep or comparison, `name`: the response, `method`: "not computed: <reason>", `warning`:
+//!    sweep or comparison, `name`: the response, `method`: `not computed: <reason>`, `warning`:
 //!    the code), bands first;
 //! 5. one `file_read` row per file the study made meshbound read (the study file first, then
 //!    sweep CSVs, probe files and measured points, paths as given), then one `file_written`
@@ -33,7 +33,7 @@
 //! | `relative` | U/\|value\| | – (not held; absolute/\|value\|) |
 //! | `lower`, `upper` | value ∓ U | value ∓ U |
 //! | `convergence` | class | class |
-//! | `method` | `three_grid`, `oscillation_range` or `least_squares`; "not computed: <reason>" for a result that could not be computed | – |
+//! | `method` | `three_grid`, `oscillation_range` or `least_squares`; `not computed: <reason>` for a result that could not be computed | – |
 //! | `observed_order` | order of the governing estimate | order of the governing estimate |
 //! | `extrapolated` | extrapolated value of the governing estimate | same |
 //! | `three_grid_order`, `three_grid_extrapolated`, `three_grid_uncertainty` | three-mesh p, φ_ext21, U | – |

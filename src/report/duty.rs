@@ -9,8 +9,8 @@ use super::table::symbol;
 use crate::assess::duty::{DutyCurveResult, DutyPoint, DutySeriesResult};
 use crate::study::duty::SeriesKind;
 
-/// The series in words, with its unit: "NPSH3 (3 % drop of head) [m]",
-/// "σ at a 1 % drop of efficiency", "head without cavitation [m]".
+/// The series in words, with its unit: "NPSH3 (3 % drop of head) \[m\]",
+/// "σ at a 1 % drop of efficiency", "head without cavitation \[m\]".
 pub fn series_label(s: &DutySeriesResult) -> String {
     let unit = s
         .unit

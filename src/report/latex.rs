@@ -159,7 +159,7 @@ fn symbol_math(w: &str) -> Option<String> {
 
 /// Running text with its symbols set as math: each space-separated word (without the
 /// punctuation around it, and each part of a `·` product) that is a symbol of
-/// [`symbol_math`] becomes math, everything else is escaped.
+/// `symbol_math` becomes math, everything else is escaped.
 pub fn prose(text: &str) -> String {
     text.split(' ')
         .map(|word| {

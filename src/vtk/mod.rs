@@ -42,7 +42,7 @@ use std::fmt;
 use std::io::Read;
 use std::path::Path;
 
-pub use write::{write_vtu, write_vtu_with, Encoding, WriteOptions};
+pub use write::{write_vtu, write_vtu_with, Encoding, WriteOptions, BLOCK_SIZE};
 
 /// Where an array's values sit.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
