@@ -14,6 +14,9 @@ def three_mesh(
     h: Sequence[float], phi: Sequence[float], formal_order: float, rule: str, order_max: float
 ) -> str: ...
 def two_mesh_gci(h: Sequence[float], phi: Sequence[float], formal_order: float) -> str: ...
+def two_mesh_gci_points(
+    h: Sequence[float], phi: npt.NDArray[np.float64], formal_order: float
+) -> Tuple[npt.NDArray[np.float64], npt.NDArray[np.float64]]: ...
 def least_squares_estimate(
     h: Sequence[float],
     phi: Sequence[float],

@@ -164,6 +164,36 @@ fn two_mesh_gci(py: Python<'_>, h: [f64; 2], phi: [f64; 2], formal_order: f64) -
     estimate_json(py, &r, &r.warnings)
 }
 
+/// Roache's (1998) two-mesh GCI at every row of `phi` (`n × 2`, finest first), in parallel
+/// with the GIL released: U and U/|φ1| per row (NaN where a value is missing or the GCI does
+/// not apply, as the scalar call states `None`). The sizes and the formal order are checked
+/// once, as the scalar call checks them.
+#[pyfunction]
+#[pyo3(signature = (h, phi, formal_order))]
+fn two_mesh_gci_points<'py>(
+    py: Python<'py>,
+    h: [f64; 2],
+    phi: PyReadonlyArray2<'py, f64>,
+    formal_order: f64,
+) -> PyResult<(Bound<'py, PyArray1<f64>>, Bound<'py, PyArray1<f64>>)> {
+    rules::two_mesh_gci(h, [0.0, 0.0], formal_order).map_err(|e| estimate_error(py, e))?;
+    let values = rows(py, &phi, 2)?;
+    let (u, relative): (Vec<f64>, Vec<f64>) = py.detach(|| {
+        values
+            .par_chunks(2)
+            .map(|row| {
+                let u =
+                    rules::two_mesh_u(h, [row[0], row[1]], formal_order).filter(|u| u.is_finite());
+                let r = u
+                    .map(|u| u / row[0].abs())
+                    .filter(|r| row[0] != 0.0 && r.is_finite());
+                (nan(u), nan(r))
+            })
+            .unzip()
+    });
+    Ok((u.into_pyarray(py), relative.into_pyarray(py)))
+}
+
 fn ls_settings(
     py: Python<'_>,
     formal_order: f64,
@@ -592,6 +622,7 @@ fn assess(py: Python<'_>, path: PathBuf, reach: Vec<PathBuf>) -> PyResult<String
 fn _meshbound(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(three_mesh, m)?)?;
     m.add_function(wrap_pyfunction!(two_mesh_gci, m)?)?;
+    m.add_function(wrap_pyfunction!(two_mesh_gci_points, m)?)?;
     m.add_function(wrap_pyfunction!(least_squares_estimate, m)?)?;
     m.add_function(wrap_pyfunction!(estimate_points, m)?)?;
     m.add_function(wrap_pyfunction!(estimate_point, m)?)?;

@@ -126,6 +126,56 @@ def test_two_mesh_gci_follows_roache():
     assert [w.code for w in r.warnings] == ["order_assumed"]
 
 
+def test_two_mesh_gci_points_equal_the_scalar_call_and_the_analytic_error():
+    # Manufactured phi = phi0 + alpha h^2 on two meshes: with the formal order 2 the
+    # Richardson error estimate is exact (analytic), so the two-mesh GCI is 3 |alpha| h1^2
+    # (Roache 1998, Fs = 3, from memory). Every row equals the scalar call bit for bit; equal
+    # values and a zero finest value follow the scalar call's figures and None; a missing
+    # value, which the scalar call refuses, gives NaN (as in estimate_points).
+    rng = np.random.default_rng(19)
+    h = [1.0, 1.4]
+    n = 2000
+    phi0 = rng.uniform(-2.0, 2.0, n)
+    alpha = rng.uniform(-1.0, 1.0, n)
+    phi = np.stack([phi0 + alpha * h[0] ** 2, phi0 + alpha * h[1] ** 2], axis=1)
+    phi[3] = [np.nan, 1.0]
+    phi[4] = [0.0, 0.5]
+    phi[5] = [2.0, 2.0]
+    r = mb.two_mesh_gci_points(h, phi)
+    assert len(r) == n and [w.code for w in r.warnings] == ["order_assumed"]
+    assert r.safety_factor == 3.0 and r.formal_order == 2.0
+    with pytest.raises(mb.EstimateInputError):
+        mb.two_mesh_gci(h, phi[3].tolist())
+    for i in range(n):
+        if i == 3:
+            continue
+        one = mb.two_mesh_gci(h, phi[i].tolist())
+        for got, want in ((r.uncertainty[i], one.uncertainty), (r.relative[i], one.relative)):
+            if want is None:
+                assert math.isnan(got), i
+            else:
+                assert bits(float(got)) == bits(want), i
+    exact = 3.0 * np.abs(alpha) * h[0] ** 2
+    keep = np.ones(n, bool)
+    keep[[3, 4, 5]] = False
+    assert np.allclose(r.uncertainty[keep], exact[keep], rtol=1e-12, atol=1e-15)
+    assert math.isnan(r.uncertainty[3]) and r.uncertainty[5] == 0.0
+    assert math.isnan(r.relative[4])
+    frame = r.to_frame()
+    assert list(frame.columns) == ["uncertainty", "relative"] and len(frame) == n
+
+
+def test_two_mesh_gci_points_refuse_bad_sizes_and_shapes():
+    with pytest.raises(mb.EstimateInputError):
+        mb.two_mesh_gci_points([1.0, 1.0], np.ones((3, 2)))
+    with pytest.raises(mb.EstimateInputError):
+        mb.two_mesh_gci_points([1.0, 2.0], np.ones((3, 3)))
+    with pytest.raises(mb.EstimateInputError):
+        mb.two_mesh_gci_points([1.0, 2.0, 4.0], np.ones((3, 2)))
+    with pytest.raises(mb.EstimateInputError):
+        mb.two_mesh_gci_points([1.0, 2.0], np.ones((3, 2)), formal_order=0.0)
+
+
 def test_history_reduction_of_a_manufactured_history():
     # Manufactured: an exponential start-up decaying into white noise around 0.8 (seeded).
     rng = np.random.default_rng(2026)

@@ -585,9 +585,7 @@ pub fn two_mesh_gci(
             "sizes must be > 0 and increase from the finer to the coarser mesh".into(),
         ));
     }
-    let r21 = h[1] / h[0];
-    let e21 = phi[1] - phi[0];
-    let u = richardson_delta(e21, r21, formal_order).map(|d| FS_ASSUMED * d.abs());
+    let u = two_mesh_u(h, phi, formal_order);
     let mut w = vec![Warning::new(
         CODE_ORDER_ASSUMED,
         format!(
@@ -611,6 +609,12 @@ pub fn two_mesh_gci(
         Branch::TwoMesh,
         w,
     ))
+}
+
+/// U of [`two_mesh_gci`] alone, without its checks or warnings (for many points with sizes
+/// checked once): `None` where it does not apply.
+pub fn two_mesh_u(h: [f64; 2], phi: [f64; 2], formal_order: f64) -> Option<f64> {
+    richardson_delta(phi[1] - phi[0], h[1] / h[0], formal_order).map(|d| FS_ASSUMED * d.abs())
 }
 
 /// The two-mesh GCI on the two finest of the three meshes.
