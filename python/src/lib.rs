@@ -164,6 +164,9 @@ fn two_mesh_gci(py: Python<'_>, h: [f64; 2], phi: [f64; 2], formal_order: f64) -
     estimate_json(py, &r, &r.warnings)
 }
 
+/// U and U/|φ1| per point.
+type TwoArrays<'py> = (Bound<'py, PyArray1<f64>>, Bound<'py, PyArray1<f64>>);
+
 /// Roache's (1998) two-mesh GCI at every row of `phi` (`n × 2`, finest first), in parallel
 /// with the GIL released: U and U/|φ1| per row (NaN where a value is missing or the GCI does
 /// not apply, as the scalar call states `None`). The sizes and the formal order are checked
@@ -175,7 +178,7 @@ fn two_mesh_gci_points<'py>(
     h: [f64; 2],
     phi: PyReadonlyArray2<'py, f64>,
     formal_order: f64,
-) -> PyResult<(Bound<'py, PyArray1<f64>>, Bound<'py, PyArray1<f64>>)> {
+) -> PyResult<TwoArrays<'py>> {
     rules::two_mesh_gci(h, [0.0, 0.0], formal_order).map_err(|e| estimate_error(py, e))?;
     let values = rows(py, &phi, 2)?;
     let (u, relative): (Vec<f64>, Vec<f64>) = py.detach(|| {
