@@ -185,11 +185,7 @@ fn two_mesh_gci_points<'py>(
         values
             .par_chunks(2)
             .map(|row| {
-                let u =
-                    rules::two_mesh_u(h, [row[0], row[1]], formal_order).filter(|u| u.is_finite());
-                let r = u
-                    .map(|u| u / row[0].abs())
-                    .filter(|r| row[0] != 0.0 && r.is_finite());
+                let (u, r) = rules::two_mesh_figures(h, [row[0], row[1]], formal_order);
                 (nan(u), nan(r))
             })
             .unzip()

@@ -359,10 +359,7 @@ fn result(
         }
         other => other,
     };
-    let relative = u.and_then(|v| {
-        let r = v / phi1.abs();
-        (phi1 != 0.0 && r.is_finite()).then_some(r)
-    });
+    let relative = relative_of(u, phi1);
     RuleEstimate {
         rule,
         uncertainty: u,
@@ -611,10 +608,27 @@ pub fn two_mesh_gci(
     ))
 }
 
-/// U of [`two_mesh_gci`] alone, without its checks or warnings (for many points with sizes
-/// checked once): `None` where it does not apply.
-pub fn two_mesh_u(h: [f64; 2], phi: [f64; 2], formal_order: f64) -> Option<f64> {
+fn two_mesh_u(h: [f64; 2], phi: [f64; 2], formal_order: f64) -> Option<f64> {
     richardson_delta(phi[1] - phi[0], h[1] / h[0], formal_order).map(|d| FS_ASSUMED * d.abs())
+}
+
+/// U/|φ1| as every rule states it: `None` where φ1 = 0 or the ratio is not finite.
+fn relative_of(u: Option<f64>, phi1: f64) -> Option<f64> {
+    u.and_then(|v| {
+        let r = v / phi1.abs();
+        (phi1 != 0.0 && r.is_finite()).then_some(r)
+    })
+}
+
+/// U and U/|φ1| of [`two_mesh_gci`] without its checks or warnings, for many points whose
+/// sizes and formal order were checked once: `None` wherever the full call states `None`.
+pub fn two_mesh_figures(
+    h: [f64; 2],
+    phi: [f64; 2],
+    formal_order: f64,
+) -> (Option<f64>, Option<f64>) {
+    let u = two_mesh_u(h, phi, formal_order).filter(|u| u.is_finite());
+    (u, relative_of(u, phi[0]))
 }
 
 /// The two-mesh GCI on the two finest of the three meshes.
